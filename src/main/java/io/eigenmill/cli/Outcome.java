@@ -1,0 +1,28 @@
+package io.eigenmill.cli;
+
+import io.eigenmill.jobs.FitResult;
+import io.eigenmill.jobs.RunResult;
+import java.util.Locale;
+
+/** The few lines {@code run} prints when it succeeds. */
+final class Outcome {
+  private Outcome() {}
+
+  static String describe(RunResult run) {
+    StringBuilder s = new StringBuilder();
+    FitResult fit = run.fit();
+    if (fit != null) {
+      double[] cumulative = fit.spectrum().cumulativeRatios();
+      int k = fit.model().k();
+      s.append(String.format(Locale.ROOT, "fit: %,d rows (%,d dropped), %d features, method %s, k = %d "
+              + "explaining %.4f of the variance%n", fit.rowsUsed(), fit.rowsDropped(), fit.model().d(),
+          fit.model().method(), k, k > 0 ? cumulative[k - 1] : 0.0));
+      for (String w : fit.warnings()) {
+        s.append("warning: ").append(w).append('\n');
+      }
+    }
+    s.append(String.format(Locale.ROOT, "output: %s (%.1f s)%n", run.outputPath(), run.totalSeconds()));
+    s.append("summary: ").append(run.outputPath()).append("/summary.json");
+    return s.toString();
+  }
+}

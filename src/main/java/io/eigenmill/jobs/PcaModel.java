@@ -1,0 +1,58 @@
+package io.eigenmill.jobs;
+
+import java.io.Serializable;
+import java.nio.charset.StandardCharsets;
+import java.security.MessageDigest;
+import java.security.NoSuchAlgorithmException;
+import java.util.HexFormat;
+import java.util.List;
+
+/**
+ * Everything needed to apply a fitted PCA to new rows: the features in order with their input types, the means and
+ * scales the fit used, the k retained loadings, all eigenvalues the method produced, the fit's row count and total
+ * variance. Written to {@code model/} by a fit; read back by apply.
+ *
+ * @param loadings column-major {@code d x k}
+ * @param eigenvaluesComplete true when {@code eigenvalues} holds all d eigenvalues (covariance, TSQR)
+ */
+public record PcaModel(
+    int formatVersion,
+    String productVersion,
+    List<String> features,
+    List<String> featureTypes,
+    String scaling,
+    String method,
+    long rows,
+    double[] means,
+    double[] scales,
+    int k,
+    double[] loadings,
+    double[] eigenvalues,
+    boolean eigenvaluesComplete,
+    double totalVariance,
+    String schemaFingerprint) implements Serializable {
+
+  /** The model format this version writes and reads; a model with a higher number is refused. */
+  public static final int FORMAT_VERSION = 1;
+
+  public int d() {
+    return features.size();
+  }
+
+  public double loading(int j, int c) {
+    return loadings[j + c * features.size()];
+  }
+
+  /** SHA-256 (hex, first 16 bytes) of "name:type" of each feature in order. */
+  public static String fingerprint(List<String> features, List<String> types) {
+    try {
+      MessageDigest md = MessageDigest.getInstance("SHA-256");
+      for (int i = 0; i < features.size(); i++) {
+        md.update((features.get(i) + ":" + types.get(i) + "\n").getBytes(StandardCharsets.UTF_8));
+      }
+      return HexFormat.of().formatHex(md.digest(), 0, 16);
+    } catch (NoSuchAlgorithmException e) {
+      throw new IllegalStateException(e);
+    }
+  }
+}

@@ -1,0 +1,76 @@
+package io.eigenmill.plan;
+
+import io.eigenmill.settings.Choices.Method;
+import io.eigenmill.settings.JobSettings;
+import java.util.List;
+
+/**
+ * What a job will do, resolved against the input's schema before any data is read: the feature columns in order,
+ * the keys, the method and why, memory, and the outputs. {@code plan} prints it; {@code run} executes it.
+ *
+ * @param rowEstimate rows counted from Parquet footers, or -1 when not cheap to know
+ * @param notes things the user should know that are not errors (columns skipped by a glob, ...)
+ */
+public record JobPlan(
+    JobSettings settings,
+    String kind,
+    List<String> features,
+    List<String> featureTypes,
+    List<String> keys,
+    List<String> partitionColumns,
+    long rowEstimate,
+    long inputBytes,
+    Method method,
+    String methodReason,
+    MemoryEstimate memory,
+    List<String> outputs,
+    List<String> notes) {
+
+  public int d() {
+    return features.size();
+  }
+
+  /** The plan as the text {@code eigenmill plan} prints. */
+  public String describe() {
+    StringBuilder s = new StringBuilder();
+    JobSettings j = settings;
+    line(s, "job", j.name() + " (" + kind + ", from " + j.sourceFile() + ")");
+    line(s, "input", j.input().path() + " [" + j.input().format().word() + "]"
+        + (inputBytes >= 0 ? ", " + MemoryEstimate.human(inputBytes) : "")
+        + (rowEstimate >= 0 ? ", " + String.format(java.util.Locale.ROOT, "%,d", rowEstimate) + " rows (footers)"
+            : ", rows not counted"));
+    if (!partitionColumns.isEmpty()) {
+      line(s, "partitioned by", String.join(", ", partitionColumns));
+    }
+    line(s, "features (" + features.size() + ")", describeFeatures());
+    line(s, "keys", keys.isEmpty() ? "(none)" : String.join(", ", keys));
+    line(s, "missing values", j.prepare().missing().word());
+    line(s, "scaling", j.prepare().scaling().word());
+    line(s, "components", j.reduce().components().isPresent() ? "k = " + j.reduce().components().getAsInt()
+        : "smallest k reaching " + j.reduce().varianceTarget() + " of the variance (at most "
+            + j.reduce().maxComponents() + ")");
+    line(s, "method", method.word() + " - " + methodReason);
+    line(s, "memory", memory.describe());
+    line(s, "outputs", String.join(", ", outputs) + " under " + j.output().path() + " (" + j.output().mode().word()
+        + ")");
+    for (String note : notes) {
+      line(s, "note", note);
+    }
+    return s.toString();
+  }
+
+  private String describeFeatures() {
+    StringBuilder s = new StringBuilder();
+    for (int i = 0; i < features.size(); i++) {
+      if (i > 0) {
+        s.append(", ");
+      }
+      s.append(features.get(i)).append(':').append(featureTypes.get(i));
+    }
+    return s.toString();
+  }
+
+  private static void line(StringBuilder s, String label, String value) {
+    s.append(String.format(java.util.Locale.ROOT, "%-16s %s%n", label + ":", value));
+  }
+}

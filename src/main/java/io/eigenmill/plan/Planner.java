@@ -1,0 +1,249 @@
+package io.eigenmill.plan;
+
+import io.eigenmill.settings.Choices.InputFormat;
+import io.eigenmill.settings.InvalidJobException;
+import io.eigenmill.settings.JobSettings;
+import io.eigenmill.spark.TableLoader;
+import java.util.ArrayList;
+import java.util.LinkedHashSet;
+import java.util.List;
+import java.util.Locale;
+import java.util.Set;
+import java.util.regex.Pattern;
+import org.apache.hadoop.conf.Configuration;
+import org.apache.hadoop.fs.Path;
+import org.apache.parquet.hadoop.ParquetFileReader;
+import org.apache.parquet.hadoop.util.HadoopInputFile;
+import org.apache.spark.network.util.JavaUtils;
+import org.apache.spark.sql.Dataset;
+import org.apache.spark.sql.Row;
+import org.apache.spark.sql.SparkSession;
+import org.apache.spark.sql.types.DataType;
+import org.apache.spark.sql.types.DecimalType;
+import org.apache.spark.sql.types.NumericType;
+import org.apache.spark.sql.types.StructField;
+import org.apache.spark.sql.types.StructType;
+
+/**
+ * Resolves settings against the input's schema: feature globs, keys, types, the method and memory. Reads the
+ * schema and (for up to {@link #FOOTER_LIMIT} Parquet files) the footers' row counts; never the data.
+ * All problems are collected and thrown together as one {@link InvalidJobException}.
+ */
+public final class Planner {
+  static final int FOOTER_LIMIT = 256;
+
+  private Planner() {}
+
+  public static JobPlan plan(SparkSession spark, JobSettings settings) {
+    Dataset<Row> table = TableLoader.load(spark, settings.input());
+    return plan(spark, settings, table);
+  }
+
+  public static JobPlan plan(SparkSession spark, JobSettings settings, Dataset<Row> table) {
+    List<String> problems = new ArrayList<>();
+    List<String> notes = new ArrayList<>();
+    StructType schema = table.schema();
+    checkDuplicates(schema, problems);
+    List<String> partitionColumns = partitionColumns(table, settings);
+    List<String> keys = resolveKeys(schema, settings.features().keys(), problems);
+    List<StructField> features = resolveFeatures(schema, settings.features(), keys, problems, notes);
+    if (features.isEmpty() && problems.isEmpty()) {
+      problems.add("features.columns = " + settings.features().columns() + ": no numeric feature column is left"
+          + " after features.exclude and features.keys");
+    }
+    int d = features.size();
+    settings.reduce().components().ifPresent(k -> {
+      if (d > 0 && k > d) {
+        problems.add("reduce.components = " + k + ": more components than the " + d + " features");
+      }
+    });
+    if (!problems.isEmpty()) {
+      throw new InvalidJobException(problems);
+    }
+    long driverHeap = driverHeap(spark);
+    long taskHeap = taskHeap(spark);
+    MethodChoice.Choice choice = MethodChoice.choose(settings.reduce(), d, driverHeap, taskHeap);
+    List<String> names = features.stream().map(StructField::name).toList();
+    List<String> types = features.stream().map(f -> f.dataType().simpleString()).toList();
+    String kind = settings.apply().appliesModel() ? "apply" : "fit";
+    return new JobPlan(settings, kind, names, types, keys, partitionColumns, rowEstimate(spark, table, settings),
+        TableLoader.sizeBytes(spark, settings.input().path()), choice.method(), choice.reason(), choice.memory(),
+        outputs(settings), notes);
+  }
+
+  private static void checkDuplicates(StructType schema, List<String> problems) {
+    Set<String> seen = new LinkedHashSet<>();
+    for (String name : schema.fieldNames()) {
+      if (!seen.add(name.toLowerCase(Locale.ROOT))) {
+        problems.add("input.path: the input has two columns named " + name
+            + " (column names must be unique, ignoring case)");
+      }
+    }
+  }
+
+  private static List<String> resolveKeys(StructType schema, List<String> keys, List<String> problems) {
+    List<String> out = new ArrayList<>();
+    for (String key : keys) {
+      if (schema.getFieldIndex(key).isEmpty()) {
+        problems.add("features.keys: column " + key + " is not in the input (columns: "
+            + String.join(", ", schema.fieldNames()) + ")");
+      } else {
+        out.add(key);
+      }
+    }
+    return out;
+  }
+
+  private static List<StructField> resolveFeatures(StructType schema, JobSettings.Features f, List<String> keys,
+      List<String> problems, List<String> notes) {
+    Set<String> chosen = new LinkedHashSet<>();
+    List<String> patterns = f.columns().isEmpty() ? List.of("*") : f.columns();
+    for (String pattern : patterns) {
+      boolean glob = isGlob(pattern);
+      Pattern regex = globRegex(pattern);
+      int matched = 0;
+      for (StructField field : schema.fields()) {
+        if (!regex.matcher(field.name()).matches()) {
+          continue;
+        }
+        matched++;
+        if (!isNumeric(field.dataType())) {
+          if (glob) {
+            if (!keys.contains(field.name()) && !f.columns().isEmpty()) {
+              notes.add("features.columns: '" + pattern + "' matched " + field.name() + " ("
+                  + field.dataType().simpleString() + "), which is not numeric: skipped");
+            }
+          } else {
+            problems.add("features.columns: column " + field.name() + " has type " + field.dataType().simpleString()
+                + "; feature columns must be numeric (double, float, int, long, short, byte or decimal)");
+          }
+          continue;
+        }
+        if (glob && keys.contains(field.name())) {
+          continue;
+        }
+        chosen.add(field.name());
+      }
+      if (matched == 0) {
+        problems.add("features.columns: '" + pattern + "' matches no column of the input (columns: "
+            + String.join(", ", schema.fieldNames()) + ")");
+      }
+    }
+    for (String pattern : f.exclude()) {
+      Pattern regex = globRegex(pattern);
+      chosen.removeIf(name -> regex.matcher(name).matches());
+    }
+    List<StructField> out = new ArrayList<>();
+    for (String name : chosen) {
+      out.add(schema.apply(name));
+    }
+    return out;
+  }
+
+  static boolean isGlob(String pattern) {
+    return pattern.indexOf('*') >= 0 || pattern.indexOf('?') >= 0;
+  }
+
+  /** A glob with * (any run of characters) and ? (one character); everything else literal. */
+  static Pattern globRegex(String glob) {
+    StringBuilder s = new StringBuilder();
+    for (char c : glob.toCharArray()) {
+      if (c == '*') {
+        s.append(".*");
+      } else if (c == '?') {
+        s.append('.');
+      } else {
+        s.append(Pattern.quote(String.valueOf(c)));
+      }
+    }
+    return Pattern.compile(s.toString());
+  }
+
+  static boolean isNumeric(DataType type) {
+    return type instanceof NumericType || type instanceof DecimalType;
+  }
+
+  private static List<String> partitionColumns(Dataset<Row> table, JobSettings settings) {
+    List<String> out = new ArrayList<>();
+    if (settings.input().format() != InputFormat.PARQUET) {
+      return out;
+    }
+    String[] files = table.inputFiles();
+    if (files.length == 0) {
+      return out;
+    }
+    String root = new Path(settings.input().path()).toUri().getPath();
+    String file = new Path(files[0]).toUri().getPath();
+    int at = file.indexOf(root);
+    String rest = at >= 0 ? file.substring(at + root.length()) : file;
+    for (String segment : rest.split("/")) {
+      int eq = segment.indexOf('=');
+      if (eq > 0) {
+        out.add(segment.substring(0, eq));
+      }
+    }
+    return out;
+  }
+
+  private static long rowEstimate(SparkSession spark, Dataset<Row> table, JobSettings settings) {
+    if (settings.input().format() != InputFormat.PARQUET) {
+      return -1;
+    }
+    String[] files = table.inputFiles();
+    if (files.length > FOOTER_LIMIT) {
+      return -1;
+    }
+    Configuration conf = spark.sparkContext().hadoopConfiguration();
+    long rows = 0;
+    for (String file : files) {
+      try (ParquetFileReader reader = ParquetFileReader.open(HadoopInputFile.fromPath(new Path(file), conf))) {
+        rows += reader.getRecordCount();
+      } catch (Exception e) {
+        return -1;
+      }
+    }
+    return rows;
+  }
+
+  private static List<String> outputs(JobSettings s) {
+    List<String> out = new ArrayList<>(List.of("summary.json", "report.html"));
+    if (s.apply().appliesModel()) {
+      out.add("scores/");
+      if (!s.apply().compareWith().isEmpty()) {
+        out.add("drift/");
+      }
+    } else {
+      out.addAll(List.of("components/", "spectrum/", "model/"));
+      if (s.output().scores()) {
+        out.add("scores/");
+      }
+    }
+    if (s.output().reconstruction()) {
+      out.add("reconstruction/");
+      out.add("reconstruction-error/");
+    }
+    if (s.cluster().enabled()) {
+      out.add("clusters/");
+    }
+    return out;
+  }
+
+  /** Half the driver heap: the rest is Spark's. */
+  static long driverHeap(SparkSession spark) {
+    boolean local = spark.sparkContext().isLocal();
+    long heap = local ? Runtime.getRuntime().maxMemory()
+        : JavaUtils.byteStringAsBytes(spark.conf().get("spark.driver.memory", "1g"));
+    return heap / 2;
+  }
+
+  /** Half the executor heap divided by the tasks that run at once in one executor. */
+  static long taskHeap(SparkSession spark) {
+    var sc = spark.sparkContext();
+    if (sc.isLocal()) {
+      return Runtime.getRuntime().maxMemory() / 2 / Math.max(1, sc.defaultParallelism());
+    }
+    long heap = JavaUtils.byteStringAsBytes(spark.conf().get("spark.executor.memory", "1g"));
+    int cores = Integer.parseInt(spark.conf().get("spark.executor.cores", "1"));
+    return heap / 2 / Math.max(1, cores);
+  }
+}

@@ -1,0 +1,67 @@
+package io.eigenmill.settings;
+
+/** The closed sets of words the job file accepts. Each constant's {@code word} is how it is spelled in HOCON. */
+public final class Choices {
+  private Choices() {}
+
+  /** A word from the job file that maps to one constant. */
+  public interface Word {
+    String word();
+  }
+
+  public enum InputFormat implements Word {
+    PARQUET("parquet"), CSV("csv");
+    private final String word;
+    InputFormat(String word) { this.word = word; }
+    @Override public String word() { return word; }
+  }
+
+  public enum CorruptFiles implements Word {
+    FAIL("fail"), SKIP("skip");
+    private final String word;
+    CorruptFiles(String word) { this.word = word; }
+    @Override public String word() { return word; }
+  }
+
+  public enum Scaling implements Word {
+    NONE("none"), STANDARDIZE("standardize");
+    private final String word;
+    Scaling(String word) { this.word = word; }
+    @Override public String word() { return word; }
+  }
+
+  public enum MissingPolicy implements Word {
+    DROP_ROWS("drop-rows"), IMPUTE_MEAN("impute-mean"), FAIL("fail");
+    private final String word;
+    MissingPolicy(String word) { this.word = word; }
+    @Override public String word() { return word; }
+  }
+
+  public enum Method implements Word {
+    AUTO("auto"), COVARIANCE("covariance"), TSQR("tsqr"), RANDOMIZED("randomized");
+    private final String word;
+    Method(String word) { this.word = word; }
+    @Override public String word() { return word; }
+  }
+
+  public enum OutputMode implements Word {
+    FAIL_IF_EXISTS("fail-if-exists"), OVERWRITE("overwrite");
+    private final String word;
+    OutputMode(String word) { this.word = word; }
+    @Override public String word() { return word; }
+  }
+
+  public enum ClusterSpace implements Word {
+    SCORES("scores"), FEATURES("features");
+    private final String word;
+    ClusterSpace(String word) { this.word = word; }
+    @Override public String word() { return word; }
+  }
+
+  public enum KSelection implements Word {
+    SILHOUETTE("silhouette"), CALINSKI_HARABASZ("calinski-harabasz"), DAVIES_BOULDIN("davies-bouldin");
+    private final String word;
+    KSelection(String word) { this.word = word; }
+    @Override public String word() { return word; }
+  }
+}

@@ -1,0 +1,80 @@
+package io.eigenmill.settings;
+
+import io.eigenmill.settings.Choices.ClusterSpace;
+import io.eigenmill.settings.Choices.CorruptFiles;
+import io.eigenmill.settings.Choices.InputFormat;
+import io.eigenmill.settings.Choices.KSelection;
+import io.eigenmill.settings.Choices.Method;
+import io.eigenmill.settings.Choices.MissingPolicy;
+import io.eigenmill.settings.Choices.OutputMode;
+import io.eigenmill.settings.Choices.Scaling;
+import java.io.Serializable;
+import java.util.List;
+import java.util.Map;
+import java.util.OptionalInt;
+
+/**
+ * A job file read once and validated: immutable, with every default already filled in from {@code reference.conf}.
+ * Built only by {@link SettingsReader}.
+ */
+public record JobSettings(
+    String name,
+    String sourceFile,
+    Input input,
+    Features features,
+    Prepare prepare,
+    Reduce reduce,
+    Monitor monitor,
+    Apply apply,
+    Cluster cluster,
+    Output output,
+    SparkSection spark) implements Serializable {
+
+  public record Input(String path, InputFormat format, CorruptFiles corruptFiles) implements Serializable {}
+
+  public record Features(List<String> columns, List<String> exclude, List<String> keys) implements Serializable {}
+
+  public record Prepare(Scaling scaling, MissingPolicy missing) implements Serializable {}
+
+  /** {@code components} empty means: choose k by {@code varianceTarget}, at most {@code maxComponents}. */
+  public record Reduce(
+      Method method,
+      OptionalInt components,
+      double varianceTarget,
+      int maxComponents,
+      int blockRows,
+      int covarianceMaxFeatures,
+      int oversample,
+      int powerIterations,
+      long seed) implements Serializable {}
+
+  public record Monitor(double confidence) implements Serializable {}
+
+  public record Apply(String model, String compareWith, String centroids) implements Serializable {
+    public boolean appliesModel() {
+      return !model.isEmpty();
+    }
+  }
+
+  /** {@code k} empty means: choose k from {@code kMin..kMax} by {@code selectBy}. */
+  public record Cluster(
+      boolean enabled,
+      ClusterSpace space,
+      OptionalInt k,
+      int kMin,
+      int kMax,
+      KSelection selectBy,
+      int restarts,
+      int maxIterations,
+      double tolerance,
+      int silhouetteSample,
+      long seed,
+      String entity,
+      boolean entitySpread) implements Serializable {}
+
+  public record Output(
+      String path, OutputMode mode, boolean scores, boolean reconstruction, int reportSample)
+      implements Serializable {}
+
+  public record SparkSection(String master, Map<String, String> conf) implements Serializable {}
+}

@@ -1,0 +1,422 @@
+package io.eigenmill.settings;
+
+import com.typesafe.config.Config;
+import com.typesafe.config.ConfigException;
+import com.typesafe.config.ConfigFactory;
+import com.typesafe.config.ConfigOrigin;
+import com.typesafe.config.ConfigParseOptions;
+import com.typesafe.config.ConfigUtil;
+import com.typesafe.config.ConfigValue;
+import com.typesafe.config.ConfigValueFactory;
+import com.typesafe.config.ConfigValueType;
+import io.eigenmill.settings.Choices.Word;
+import java.io.File;
+import java.util.ArrayList;
+import java.util.Arrays;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
+import java.util.OptionalInt;
+import java.util.stream.Collectors;
+
+/**
+ * Reads a HOCON job file (plus {@code --set key=value} overrides) into {@link JobSettings}.
+ *
+ * <p>Defaults come only from {@code eigenmill.job} in {@code reference.conf}. Every problem is collected before
+ * anything fails, so the user sees them all at once; each names the file and line, the key, the value and the rule.
+ * Keys not in the reference are rejected with a "did you mean" hint, except under {@code spark.conf}, which passes
+ * Spark settings through.
+ */
+public final class SettingsReader {
+  static final String ROOT = "eigenmill.job";
+  private static final String FREE_FORM = "spark.conf";
+
+  private final Config reference;
+
+  public SettingsReader() {
+    this.reference = ConfigFactory.defaultReference(SettingsReader.class.getClassLoader()).getConfig(ROOT);
+  }
+
+  /** Reads a job file; {@code sets} are {@code key=value} strings that override it. */
+  public JobSettings read(File jobFile, List<String> sets) {
+    return read(jobFile, sets, null);
+  }
+
+  /**
+   * Reads a job file over an environment profile ({@code conf/local.conf}, {@code conf/cluster.conf}; may be null):
+   * the job file wins over the profile, {@code sets} win over both.
+   */
+  public JobSettings read(File jobFile, List<String> sets, File envFile) {
+    Config user = parse(jobFile, "job file");
+    if (envFile != null) {
+      user = user.withFallback(parse(envFile, "environment profile"));
+    }
+    return read(user, sets, jobFile.getName());
+  }
+
+  private static Config parse(File file, String what) {
+    if (!file.isFile()) {
+      throw new InvalidJobException(what + " " + file + " does not exist or is not a file");
+    }
+    try {
+      return ConfigFactory.parseFile(file, ConfigParseOptions.defaults().setAllowMissing(false));
+    } catch (ConfigException e) {
+      throw new InvalidJobException(syntaxMessage(file.getName(), e));
+    }
+  }
+
+  /** Reads settings from HOCON text (tests, embedded use). */
+  public JobSettings readString(String hocon, List<String> sets, String sourceName) {
+    Config user;
+    try {
+      user = ConfigFactory.parseString(hocon, ConfigParseOptions.defaults().setOriginDescription(sourceName));
+    } catch (ConfigException e) {
+      throw new InvalidJobException(syntaxMessage(sourceName, e));
+    }
+    return read(user, sets, sourceName);
+  }
+
+  private JobSettings read(Config fileConfig, List<String> sets, String sourceName) {
+    List<String> problems = new ArrayList<>();
+    Config user = applySets(fileConfig, sets, problems);
+    Config merged;
+    try {
+      merged = user.withFallback(reference).resolve();
+    } catch (ConfigException e) {
+      throw new InvalidJobException(sourceName + ": " + e.getMessage());
+    }
+    checkUnknownKeys(user, sourceName, problems);
+    Fields f = new Fields(merged, user, sourceName, problems);
+    JobSettings settings = build(f, sourceName);
+    if (!problems.isEmpty()) {
+      throw new InvalidJobException(problems);
+    }
+    return settings;
+  }
+
+  private static String syntaxMessage(String source, ConfigException e) {
+    ConfigOrigin origin = e.origin();
+    String line = origin != null && origin.lineNumber() > 0 ? ":" + origin.lineNumber() : "";
+    String detail = e.getMessage();
+    int cut = detail.indexOf(": ");
+    if (origin != null && cut > 0 && detail.startsWith(origin.description())) {
+      detail = detail.substring(cut + 2);
+    }
+    return source + line + ": HOCON syntax error: " + detail;
+  }
+
+  private Config applySets(Config fileConfig, List<String> sets, List<String> problems) {
+    Config out = fileConfig;
+    for (String set : sets) {
+      int eq = set.indexOf('=');
+      if (eq <= 0) {
+        problems.add("--set " + set + ": expected key=value");
+        continue;
+      }
+      String key = set.substring(0, eq).trim();
+      String value = set.substring(eq + 1).trim();
+      Config one;
+      try {
+        one = ConfigFactory.parseString(ConfigUtil.joinPath(ConfigUtil.splitPath(key)) + " = " + value,
+            ConfigParseOptions.defaults().setOriginDescription("--set"));
+      } catch (ConfigException e) {
+        try {
+          one = ConfigFactory.empty("--set").withValue(key, ConfigValueFactory.fromAnyRef(value, "--set"));
+        } catch (ConfigException bad) {
+          problems.add("--set " + set + ": '" + key + "' is not a valid key path");
+          continue;
+        }
+      }
+      out = one.withFallback(out);
+    }
+    return out;
+  }
+
+  private void checkUnknownKeys(Config user, String source, List<String> problems) {
+    List<String> known = leafPaths(reference);
+    for (Map.Entry<String, ConfigValue> e : sortedEntries(user)) {
+      String path = e.getKey();
+      if (path.equals(FREE_FORM) || path.startsWith(FREE_FORM + ".")) {
+        continue;
+      }
+      if (reference.hasPathOrNull(path)) {
+        continue;
+      }
+      String hint = closest(path, known);
+      problems.add(where(source, e.getValue().origin()) + path + ": unknown key"
+          + (hint == null ? "" : " (did you mean " + hint + "?)"));
+    }
+  }
+
+  private static List<Map.Entry<String, ConfigValue>> sortedEntries(Config config) {
+    List<Map.Entry<String, ConfigValue>> entries = new ArrayList<>(config.entrySet());
+    entries.sort(Map.Entry.comparingByKey());
+    return entries;
+  }
+
+  private static List<String> leafPaths(Config config) {
+    List<String> paths = new ArrayList<>();
+    collectLeaves(config.root(), "", paths);
+    return paths;
+  }
+
+  private static void collectLeaves(com.typesafe.config.ConfigObject obj, String prefix, List<String> out) {
+    for (Map.Entry<String, ConfigValue> e : obj.entrySet()) {
+      String path = prefix.isEmpty() ? e.getKey() : prefix + "." + e.getKey();
+      if (e.getValue().valueType() == ConfigValueType.OBJECT && !path.equals(FREE_FORM)) {
+        collectLeaves((com.typesafe.config.ConfigObject) e.getValue(), path, out);
+      } else {
+        out.add(path);
+      }
+    }
+  }
+
+  /** The known key nearest to {@code path} by edit distance, or null when none is plausibly meant. */
+  static String closest(String path, List<String> known) {
+    String best = null;
+    int bestDistance = Integer.MAX_VALUE;
+    String last = path.substring(path.lastIndexOf('.') + 1);
+    for (String candidate : known) {
+      int d = Math.min(editDistance(path, candidate),
+          editDistance(last, candidate.substring(candidate.lastIndexOf('.') + 1)) + 1);
+      if (d < bestDistance) {
+        bestDistance = d;
+        best = candidate;
+      }
+    }
+    return bestDistance <= Math.max(2, path.length() / 3) ? best : null;
+  }
+
+  static int editDistance(String a, String b) {
+    int[] prev = new int[b.length() + 1];
+    int[] cur = new int[b.length() + 1];
+    for (int j = 0; j <= b.length(); j++) {
+      prev[j] = j;
+    }
+    for (int i = 1; i <= a.length(); i++) {
+      cur[0] = i;
+      for (int j = 1; j <= b.length(); j++) {
+        int cost = a.charAt(i - 1) == b.charAt(j - 1) ? 0 : 1;
+        cur[j] = Math.min(Math.min(cur[j - 1] + 1, prev[j] + 1), prev[j - 1] + cost);
+      }
+      int[] t = prev;
+      prev = cur;
+      cur = t;
+    }
+    return prev[b.length()];
+  }
+
+  static String where(String source, ConfigOrigin origin) {
+    if (origin != null && "--set".equals(origin.description())) {
+      return "--set: ";
+    }
+    int line = origin == null ? -1 : origin.lineNumber();
+    String file = origin != null && origin.filename() != null ? new File(origin.filename()).getName() : source;
+    return file + (line > 0 ? ":" + line : "") + ": ";
+  }
+
+  private JobSettings build(Fields f, String source) {
+    String name = f.string("name");
+    if (name.isEmpty()) {
+      name = source.replaceFirst("\\.conf$", "");
+    }
+    var input = new JobSettings.Input(f.required("input.path"),
+        f.choice("input.format", Choices.InputFormat.values()),
+        f.choice("input.corrupt-files", Choices.CorruptFiles.values()));
+    var features = new JobSettings.Features(f.strings("features.columns"), f.strings("features.exclude"),
+        f.strings("features.keys"));
+    var prepare = new JobSettings.Prepare(f.choice("prepare.scaling", Choices.Scaling.values()),
+        f.choice("prepare.missing", Choices.MissingPolicy.values()));
+    OptionalInt components = f.optionalInt("reduce.components", 1, 100_000);
+    if (components.isPresent() && f.userSet("reduce.variance-target")) {
+      f.problem("reduce.components", "reduce.components and reduce.variance-target are both set; set only one"
+          + " (components fixes k, variance-target chooses the smallest k reaching the target)");
+    }
+    var reduce = new JobSettings.Reduce(f.choice("reduce.method", Choices.Method.values()), components,
+        f.fraction("reduce.variance-target"), f.intIn("reduce.max-components", 1, 100_000),
+        f.intIn("reduce.block-rows", 16, 1 << 20), f.intIn("reduce.covariance-max-features", 1, 200_000),
+        f.intIn("reduce.randomized.oversample", 0, 1000), f.intIn("reduce.randomized.power-iterations", 0, 50),
+        f.longValue("reduce.randomized.seed"));
+    var monitor = new JobSettings.Monitor(f.openFraction("monitor.confidence"));
+    var apply = new JobSettings.Apply(f.string("apply.model"), f.string("apply.compare-with"),
+        f.string("apply.centroids"));
+    int[] kRange = f.range("cluster.k-range");
+    var cluster = new JobSettings.Cluster(f.bool("cluster.enabled"),
+        f.choice("cluster.space", Choices.ClusterSpace.values()), f.optionalInt("cluster.k", 1, 10_000),
+        kRange[0], kRange[1], f.choice("cluster.select-by", Choices.KSelection.values()),
+        f.intIn("cluster.restarts", 1, 1000), f.intIn("cluster.max-iterations", 1, 100_000),
+        f.positive("cluster.tolerance"), f.intIn("cluster.silhouette-sample", 10, 100_000),
+        f.longValue("cluster.seed"), f.string("cluster.entity"), f.bool("cluster.entity-spread"));
+    var output = new JobSettings.Output(f.required("output.path"),
+        f.choice("output.mode", Choices.OutputMode.values()), f.bool("output.scores"),
+        f.bool("output.reconstruction"), f.intIn("output.report-sample", 0, 1_000_000));
+    var spark = new JobSettings.SparkSection(f.string("spark.master"), f.sparkConf());
+    return new JobSettings(name, source, input, features, prepare, reduce, monitor, apply, cluster, output, spark);
+  }
+
+  /** Typed getters that record a problem instead of throwing, so that all problems are reported together. */
+  private static final class Fields {
+    private final Config merged;
+    private final Config user;
+    private final String source;
+    private final List<String> problems;
+
+    Fields(Config merged, Config user, String source, List<String> problems) {
+      this.merged = merged;
+      this.user = user;
+      this.source = source;
+      this.problems = problems;
+    }
+
+    boolean userSet(String key) {
+      return user.hasPath(key);
+    }
+
+    void problem(String key, String rule) {
+      ConfigOrigin origin = user.hasPathOrNull(key) ? user.getValue(key).origin() : null;
+      problems.add(where(source, origin) + rule);
+    }
+
+    private void bad(String key, String rule) {
+      String shown = merged.hasPath(key) ? merged.getValue(key).render(
+          com.typesafe.config.ConfigRenderOptions.concise()) : "null";
+      problem(key, key + " = " + shown + ": " + rule);
+    }
+
+    String string(String key) {
+      try {
+        return merged.getString(key);
+      } catch (ConfigException e) {
+        bad(key, "must be a string");
+        return "";
+      }
+    }
+
+    String required(String key) {
+      String v = string(key);
+      if (v.isBlank() && problems.stream().noneMatch(p -> p.contains(key + " "))) {
+        problem(key, key + " is required and has no value (set it in the job file or with --set " + key + "=...)");
+      }
+      return v;
+    }
+
+    List<String> strings(String key) {
+      try {
+        return List.copyOf(merged.getStringList(key));
+      } catch (ConfigException e) {
+        bad(key, "must be a list of strings, e.g. [\"cpu_*\", \"mem_used_pct\"]");
+        return List.of();
+      }
+    }
+
+    boolean bool(String key) {
+      try {
+        return merged.getBoolean(key);
+      } catch (ConfigException e) {
+        bad(key, "must be true or false");
+        return false;
+      }
+    }
+
+    <E extends Enum<E> & Word> E choice(String key, E[] values) {
+      String v = string(key);
+      for (E e : values) {
+        if (e.word().equals(v)) {
+          return e;
+        }
+      }
+      bad(key, "must be one of " + Arrays.stream(values).map(Word::word).collect(Collectors.joining(", ")));
+      return values[0];
+    }
+
+    int intIn(String key, int min, int max) {
+      try {
+        int v = merged.getInt(key);
+        if (v < min || v > max) {
+          bad(key, "must be an integer from " + min + " to " + max);
+        }
+        return v;
+      } catch (ConfigException e) {
+        bad(key, "must be an integer from " + min + " to " + max);
+        return min;
+      }
+    }
+
+    OptionalInt optionalInt(String key, int min, int max) {
+      if (merged.getIsNull(key)) {
+        return OptionalInt.empty();
+      }
+      return OptionalInt.of(intIn(key, min, max));
+    }
+
+    long longValue(String key) {
+      try {
+        return merged.getLong(key);
+      } catch (ConfigException e) {
+        bad(key, "must be an integer");
+        return 0L;
+      }
+    }
+
+    double number(String key) {
+      try {
+        return merged.getDouble(key);
+      } catch (ConfigException e) {
+        bad(key, "must be a number");
+        return Double.NaN;
+      }
+    }
+
+    double fraction(String key) {
+      double v = number(key);
+      if (!(v > 0 && v <= 1) && !Double.isNaN(v)) {
+        bad(key, "must be a fraction in (0, 1]");
+      }
+      return v;
+    }
+
+    double openFraction(String key) {
+      double v = number(key);
+      if (!(v > 0 && v < 1) && !Double.isNaN(v)) {
+        bad(key, "must be a fraction in (0, 1)");
+      }
+      return v;
+    }
+
+    double positive(String key) {
+      double v = number(key);
+      if (!(v > 0) && !Double.isNaN(v)) {
+        bad(key, "must be a positive number");
+      }
+      return v;
+    }
+
+    int[] range(String key) {
+      String v = string(key);
+      String[] parts = v.split("\\.\\.");
+      try {
+        if (parts.length == 2) {
+          int lo = Integer.parseInt(parts[0].trim());
+          int hi = Integer.parseInt(parts[1].trim());
+          if (lo >= 2 && hi >= lo && hi <= 1000) {
+            return new int[] {lo, hi};
+          }
+        }
+      } catch (NumberFormatException ignored) {
+        // reported below
+      }
+      bad(key, "must be a range \"LOW..HIGH\" with 2 <= LOW <= HIGH <= 1000");
+      return new int[] {2, 2};
+    }
+
+    Map<String, String> sparkConf() {
+      Map<String, String> out = new LinkedHashMap<>();
+      Config c = merged.getConfig(FREE_FORM);
+      for (Map.Entry<String, ConfigValue> e : sortedEntries(c)) {
+        String key = String.join(".", ConfigUtil.splitPath(e.getKey()));
+        out.put(key, String.valueOf(e.getValue().unwrapped()));
+      }
+      return out;
+    }
+  }
+}

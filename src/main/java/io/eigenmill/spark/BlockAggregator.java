@@ -1,0 +1,20 @@
+package io.eigenmill.spark;
+
+import java.io.Serializable;
+
+/**
+ * A mergeable summary of blocks of feature rows, computed once per partition and combined in a tree. Implementations
+ * are explicit static classes (never lambdas capturing a job) and must be pure functions of the rows they see, so that
+ * a retried task cannot count anything twice.
+ *
+ * @param <A> the partial result; {@link #zero} is the identity of {@link #merge}
+ */
+public interface BlockAggregator<A extends Serializable> extends Serializable {
+  A zero();
+
+  /** Adds a column-major {@code rows x d} block with leading dimension {@code ld}; the block may be modified. */
+  void add(A partial, double[] block, int rows, int ld);
+
+  /** Combines two partials; may return (and modify) either argument. */
+  A merge(A left, A right);
+}

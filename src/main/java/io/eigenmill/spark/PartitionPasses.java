@@ -1,0 +1,218 @@
+package io.eigenmill.spark;
+
+import io.eigenmill.math.BlockPrep;
+import java.io.Serializable;
+import java.util.Iterator;
+import java.util.List;
+import org.apache.spark.api.java.function.FlatMapFunction;
+import org.apache.spark.api.java.function.Function2;
+import org.apache.spark.sql.Row;
+import org.apache.spark.sql.types.ByteType;
+import org.apache.spark.sql.types.DataType;
+import org.apache.spark.sql.types.DecimalType;
+import org.apache.spark.sql.types.DoubleType;
+import org.apache.spark.sql.types.FloatType;
+import org.apache.spark.sql.types.IntegerType;
+import org.apache.spark.sql.types.LongType;
+import org.apache.spark.sql.types.ShortType;
+import org.apache.spark.sql.vectorized.ColumnVector;
+import org.apache.spark.sql.vectorized.ColumnarBatch;
+import org.apache.spark.util.LongAccumulator;
+
+/**
+ * Executor-side functions that turn one partition into one {@link PartialResult}: a columnar reader over Spark's
+ * Parquet {@link ColumnarBatch}es (no Row objects) and a Row reader for sources without a columnar scan. Both feed a
+ * {@link BlockFiller}; both are pure functions of the partition's rows.
+ */
+final class PartitionPasses {
+  private PartitionPasses() {}
+
+  static final int DOUBLE = 0;
+  static final int FLOAT = 1;
+  static final int INT = 2;
+  static final int LONG = 3;
+  static final int SHORT = 4;
+  static final int BYTE = 5;
+  static final int DECIMAL = 6;
+
+  /** The reader's code for a numeric Spark type, or -1 when the type is not numeric. */
+  static int kindOf(DataType type) {
+    if (type instanceof DoubleType) {
+      return DOUBLE;
+    } else if (type instanceof FloatType) {
+      return FLOAT;
+    } else if (type instanceof IntegerType) {
+      return INT;
+    } else if (type instanceof LongType) {
+      return LONG;
+    } else if (type instanceof ShortType) {
+      return SHORT;
+    } else if (type instanceof ByteType) {
+      return BYTE;
+    } else if (type instanceof DecimalType) {
+      return DECIMAL;
+    }
+    return -1;
+  }
+
+  /** Settings shared by both readers. */
+  record PassSpec<A extends Serializable>(int d, int blockRows, ReadMode mode, BlockPrep prep,
+      BlockAggregator<A> aggregator, LongAccumulator rowsRead) implements Serializable {
+    BlockFiller<A> filler() {
+      return new BlockFiller<>(d, blockRows, mode, prep, aggregator);
+    }
+  }
+
+  /** Reads columnar batches; {@code ordinals[j]} is feature j's position in the batch, {@code kinds[j]} its type. */
+  static final class ColumnarPass<A extends Serializable>
+      implements FlatMapFunction<Iterator<ColumnarBatch>, PartialResult<A>> {
+    private static final long serialVersionUID = 1L;
+    private final PassSpec<A> spec;
+    private final int[] ordinals;
+    private final int[] kinds;
+
+    ColumnarPass(PassSpec<A> spec, int[] ordinals, int[] kinds) {
+      this.spec = spec;
+      this.ordinals = ordinals;
+      this.kinds = kinds;
+    }
+
+    @Override
+    public Iterator<PartialResult<A>> call(Iterator<ColumnarBatch> batches) {
+      BlockFiller<A> filler = spec.filler();
+      ColumnVector[] vectors = new ColumnVector[ordinals.length];
+      while (batches.hasNext()) {
+        ColumnarBatch batch = batches.next();
+        for (int j = 0; j < ordinals.length; j++) {
+          vectors[j] = batch.column(ordinals[j]);
+        }
+        int rows = batch.numRows();
+        int start = 0;
+        while (start < rows) {
+          int t = filler.room(rows - start);
+          for (int j = 0; j < ordinals.length; j++) {
+            copyColumn(vectors[j], kinds[j], start, t, filler, j);
+          }
+          filler.commit(t);
+          start += t;
+        }
+      }
+      PartialResult<A> result = filler.finish();
+      spec.rowsRead().add(result.counts().rowsRead());
+      return List.of(result).iterator();
+    }
+
+    private static void copyColumn(ColumnVector v, int kind, int start, int t, BlockFiller<?> filler, int j) {
+      double[] dst = filler.block();
+      int off = j * filler.ld() + filler.base();
+      switch (kind) {
+        case DOUBLE:
+          for (int i = 0; i < t; i++) {
+            dst[off + i] = v.getDouble(start + i);
+          }
+          break;
+        case FLOAT:
+          for (int i = 0; i < t; i++) {
+            dst[off + i] = v.getFloat(start + i);
+          }
+          break;
+        case INT:
+          for (int i = 0; i < t; i++) {
+            dst[off + i] = v.getInt(start + i);
+          }
+          break;
+        case LONG:
+          for (int i = 0; i < t; i++) {
+            dst[off + i] = v.getLong(start + i);
+          }
+          break;
+        case SHORT:
+          for (int i = 0; i < t; i++) {
+            dst[off + i] = v.getShort(start + i);
+          }
+          break;
+        case BYTE:
+          for (int i = 0; i < t; i++) {
+            dst[off + i] = v.getByte(start + i);
+          }
+          break;
+        default:
+          DecimalType dt = (DecimalType) v.dataType();
+          for (int i = 0; i < t; i++) {
+            dst[off + i] = v.isNullAt(start + i) ? 0.0
+                : v.getDecimal(start + i, dt.precision(), dt.scale()).toDouble();
+          }
+          break;
+      }
+      boolean nulls = v.hasNull();
+      boolean floating = kind == DOUBLE || kind == FLOAT;
+      if (nulls || floating) {
+        for (int i = 0; i < t; i++) {
+          if (nulls && v.isNullAt(start + i)) {
+            filler.markMissing(i, j);
+          } else if (floating) {
+            double x = dst[off + i];
+            if (x - x != 0.0) { // NaN or infinite
+              filler.markMissing(i, j);
+            }
+          }
+        }
+      }
+    }
+  }
+
+  /** Reads Rows whose columns are the features, already cast to double. */
+  static final class RowPass<A extends Serializable> implements FlatMapFunction<Iterator<Row>, PartialResult<A>> {
+    private static final long serialVersionUID = 1L;
+    private final PassSpec<A> spec;
+
+    RowPass(PassSpec<A> spec) {
+      this.spec = spec;
+    }
+
+    @Override
+    public Iterator<PartialResult<A>> call(Iterator<Row> rows) {
+      BlockFiller<A> filler = spec.filler();
+      int d = spec.d();
+      while (rows.hasNext()) {
+        Row row = rows.next();
+        filler.room(1);
+        double[] dst = filler.block();
+        int base = filler.base();
+        int ld = filler.ld();
+        for (int j = 0; j < d; j++) {
+          if (row.isNullAt(j)) {
+            filler.markMissing(0, j);
+            continue;
+          }
+          double x = row.getDouble(j);
+          dst[j * ld + base] = x;
+          if (Double.isNaN(x) || Double.isInfinite(x)) {
+            filler.markMissing(0, j);
+          }
+        }
+        filler.commit(1);
+      }
+      PartialResult<A> result = filler.finish();
+      spec.rowsRead().add(result.counts().rowsRead());
+      return List.of(result).iterator();
+    }
+  }
+
+  /** The tree-merge function of partial results. */
+  static final class MergePartials<A extends Serializable>
+      implements Function2<PartialResult<A>, PartialResult<A>, PartialResult<A>> {
+    private static final long serialVersionUID = 1L;
+    private final BlockAggregator<A> aggregator;
+
+    MergePartials(BlockAggregator<A> aggregator) {
+      this.aggregator = aggregator;
+    }
+
+    @Override
+    public PartialResult<A> call(PartialResult<A> left, PartialResult<A> right) {
+      return new PartialResult<>(left.counts().merge(right.counts()),
+          aggregator.merge(left.value(), right.value()));
+    }
+  }
+}
