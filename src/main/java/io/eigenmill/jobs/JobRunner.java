@@ -30,7 +30,8 @@ public final class JobRunner {
     try {
       FitResult fit = new FitJob(spark, plan).execute();
       FitTables.write(spark, fit, out);
-      RunResult result = new RunResult(plan, fit, out.finalPath(), (System.nanoTime() - started) / 1e9);
+      RunResult result = new RunResult(plan, fit, fit.model(), null, null, null, null, null, out.finalPath(),
+          fit.timings(), fit.warnings(), (System.nanoTime() - started) / 1e9);
       out.writeText("summary.json", SummaryJson.render(result));
       out.commit();
       LOG.info("run: committed {}", out.finalPath());

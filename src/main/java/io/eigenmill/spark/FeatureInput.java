@@ -53,6 +53,18 @@ public final class FeatureInput {
     return columnar() ? "columnar Parquet batches" : "rows (no columnar scan for this input)";
   }
 
+  /**
+   * The Parquet scan's columnar batches and, for each feature, its column position in a batch; null when this input
+   * has no columnar scan. For the benchmark's read floor.
+   */
+  public JavaRDD<ColumnarBatch> columnarBatches() {
+    return columnar() ? columnarScan.executeColumnar().toJavaRDD() : null;
+  }
+
+  public int[] batchOrdinals() {
+    return ordinals == null ? null : ordinals.clone();
+  }
+
   public List<String> features() {
     return features;
   }
