@@ -21,6 +21,21 @@ final class Outcome {
         s.append("warning: ").append(w).append('\n');
       }
     }
+    if (run.monitor() != null) {
+      var m = run.monitor();
+      s.append(String.format(Locale.ROOT, "scores: %,d rows scored with k = %d; flagged by T2 %,d, by Q %,d, by both "
+          + "%,d (confidence %s)%n", m.rowsScored(), m.k(), m.flaggedT2(), m.flaggedQ(), m.flaggedBoth(),
+          m.confidence()));
+    }
+    if (run.clusters() != null) {
+      s.append(String.format(Locale.ROOT, "clusters: k = %d (%s), silhouette %.4f%n", run.clusters().k(),
+          run.clusters().selectionRule(), run.clusters().silhouette()));
+    }
+    if (fit == null) {
+      for (String w : run.warnings()) {
+        s.append("warning: ").append(w).append('\n');
+      }
+    }
     s.append(String.format(Locale.ROOT, "output: %s (%.1f s)%n", run.outputPath(), run.totalSeconds()));
     s.append("summary: ").append(run.outputPath()).append("/summary.json");
     return s.toString();

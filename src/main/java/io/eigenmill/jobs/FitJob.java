@@ -129,7 +129,7 @@ public final class FitJob {
     PcaModel model = new PcaModel(PcaModel.FORMAT_VERSION, Version.current(), kept, keptTypes,
         s.prepare().scaling().word(), plan.method().word(), moments.count(), keptMeans, scales, k[0], loadings,
         spectrum.eigenvalues(), plan.method() != Method.RANDOMIZED, spectrum.totalVariance(),
-        PcaModel.fingerprint(kept, keptTypes));
+        PcaModel.fingerprint(kept, keptTypes), sqrtOf(select(variances, keep)));
     clock.lap("model");
     LOG.info("fit: {} rows used, k = {} ({}), first ratios {}", moments.count(), k[0], rule,
         firstRatios(spectrum, Math.min(3, spectrum.available())));
@@ -203,6 +203,14 @@ public final class FitJob {
           + String.join(", ", dropped) + "): there is no variance to analyse");
     }
     return keep.stream().mapToInt(Integer::intValue).toArray();
+  }
+
+  private static double[] sqrtOf(double[] values) {
+    double[] out = new double[values.length];
+    for (int i = 0; i < out.length; i++) {
+      out[i] = Math.sqrt(values[i]);
+    }
+    return out;
   }
 
   private static double[] select(double[] values, int[] keep) {

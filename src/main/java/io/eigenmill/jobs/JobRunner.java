@@ -4,7 +4,15 @@ import io.eigenmill.plan.JobPlan;
 import io.eigenmill.plan.Planner;
 import io.eigenmill.settings.JobSettings;
 import io.eigenmill.spark.FitTables;
+import io.eigenmill.spark.ModelStore;
 import io.eigenmill.spark.OutputCommit;
+import io.eigenmill.spark.TableLoader;
+import java.util.ArrayList;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
+import org.apache.spark.sql.Dataset;
+import org.apache.spark.sql.Row;
 import org.apache.spark.sql.SparkSession;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
@@ -13,6 +21,9 @@ import org.slf4j.LoggerFactory;
  * Runs one job file end to end: plan (fails before reading data), compute, write every output into a staging
  * folder, then commit. Nothing appears under {@code output.path} unless the whole run succeeded. The command line,
  * spark-submit and the tests all come through here.
+ *
+ * <p>A job fits a model unless {@code apply.model} is set, in which case it applies that model. Either way it may
+ * write scores with monitoring statistics, a reconstruction, a comparison with another model, and clusters.
  */
 public final class JobRunner {
   private static final Logger LOG = LoggerFactory.getLogger(JobRunner.class);
@@ -25,13 +36,14 @@ public final class JobRunner {
 
   public static RunResult run(SparkSession spark, JobSettings settings) {
     long started = System.nanoTime();
-    JobPlan plan = Planner.plan(spark, settings);
+    boolean applying = settings.apply().appliesModel();
+    PcaModel applied = applying ? ModelStore.read(spark, "apply.model", settings.apply().model()) : null;
+    PcaModel earlier = settings.apply().compareWith().isEmpty() ? null
+        : ModelStore.read(spark, "apply.compare-with", settings.apply().compareWith());
+    JobPlan plan = applying ? Planner.planApply(spark, settings, applied) : Planner.plan(spark, settings);
     OutputCommit out = OutputCommit.begin(spark, settings.output().path(), settings.output().mode());
     try {
-      FitResult fit = new FitJob(spark, plan).execute();
-      FitTables.write(spark, fit, out);
-      RunResult result = new RunResult(plan, fit, fit.model(), null, null, null, null, null, out.finalPath(),
-          fit.timings(), fit.warnings(), (System.nanoTime() - started) / 1e9);
+      RunResult result = execute(spark, plan, applied, earlier, out, started);
       out.writeText("summary.json", SummaryJson.render(result));
       out.commit();
       LOG.info("run: committed {}", out.finalPath());
@@ -40,5 +52,47 @@ public final class JobRunner {
       out.abort();
       throw e;
     }
+  }
+
+  private static RunResult execute(SparkSession spark, JobPlan plan, PcaModel applied, PcaModel earlier,
+      OutputCommit out, long started) {
+    JobSettings settings = plan.settings();
+    Stopwatch clock = new Stopwatch();
+    Map<String, Double> timings = new LinkedHashMap<>();
+    List<String> warnings = new ArrayList<>();
+    Dataset<Row> table = TableLoader.load(spark, settings.input());
+    FitResult fit = null;
+    PcaModel model = applied;
+    if (model == null) {
+      fit = new FitJob(spark, plan).execute(table);
+      FitTables.write(spark, fit, out);
+      model = fit.model();
+      timings.putAll(fit.timings());
+      warnings.addAll(fit.warnings());
+      clock.lap("write-model");
+    }
+    ScoringStage scoring = new ScoringStage(spark, plan, model, out);
+    MonitorResult monitor = null;
+    ScoreSample sample = null;
+    if (applied != null || settings.output().scores() || settings.cluster().enabled()) {
+      ScoringStage.Outcome scored = scoring.score(table, applied == null);
+      monitor = scored.monitor();
+      sample = scored.sample();
+      clock.lap("score");
+    }
+    ReconstructionResult reconstruction = null;
+    if (settings.output().reconstruction()) {
+      reconstruction = scoring.reconstruct(table);
+      clock.lap("reconstruct");
+    }
+    DriftResult drift = null;
+    if (earlier != null) {
+      drift = DriftCheck.compare(earlier, model, settings.apply().compareWith());
+      DriftTable.write(spark, drift, out.staged("drift"));
+      clock.lap("drift");
+    }
+    timings.putAll(clock.timings());
+    return new RunResult(plan, fit, model, monitor, reconstruction, drift, null, sample, out.finalPath(), timings,
+        warnings, (System.nanoTime() - started) / 1e9);
   }
 }

@@ -14,6 +14,7 @@ import java.util.List;
  *
  * @param loadings column-major {@code d x k}
  * @param eigenvaluesComplete true when {@code eigenvalues} holds all d eigenvalues (covariance, TSQR)
+ * @param sds the sample standard deviation of each feature in the fitted rows (original units)
  */
 public record PcaModel(
     int formatVersion,
@@ -30,7 +31,8 @@ public record PcaModel(
     double[] eigenvalues,
     boolean eigenvaluesComplete,
     double totalVariance,
-    String schemaFingerprint) implements Serializable {
+    String schemaFingerprint,
+    double[] sds) implements Serializable {
 
   /** The model format this version writes and reads; a model with a higher number is refused. */
   public static final int FORMAT_VERSION = 1;

@@ -37,8 +37,122 @@ public final class SummaryJson {
     m.put("output", run.outputPath());
     if (run.fit() != null) {
       m.putAll(fitSection(run.fit()));
+    } else {
+      m.put("model", modelSection(run.model(), s.apply().model()));
     }
+    if (run.monitor() != null) {
+      m.put("monitoring", monitorSection(run.monitor()));
+    }
+    if (run.reconstruction() != null) {
+      m.put("reconstruction", reconstructionSection(run.reconstruction()));
+    }
+    if (run.drift() != null) {
+      m.put("drift", driftSection(run.drift()));
+    }
+    if (run.clusters() != null) {
+      m.put("clusters", clusterSection(run.clusters()));
+    }
+    m.put("blas", io.eigenmill.math.Linalg.describe());
+    m.put("timings_seconds", run.timings());
+    m.put("warnings", run.warnings());
     m.put("total_seconds", run.totalSeconds());
+    return m;
+  }
+
+  static Map<String, Object> modelSection(PcaModel model, String path) {
+    Map<String, Object> m = new LinkedHashMap<>();
+    m.put("path", path);
+    m.put("features", model.features());
+    m.put("scaling", model.scaling());
+    m.put("method", model.method());
+    m.put("components", model.k());
+    m.put("fitted_rows", model.rows());
+    m.put("eigenvalues", model.eigenvalues());
+    m.put("total_variance", model.totalVariance());
+    m.put("schema_fingerprint", model.schemaFingerprint());
+    m.put("written_by_version", model.productVersion());
+    return m;
+  }
+
+  static Map<String, Object> monitorSection(MonitorResult r) {
+    Map<String, Object> m = new LinkedHashMap<>();
+    m.put("rows_scored", r.rowsScored());
+    m.put("flagged_t2", r.flaggedT2());
+    m.put("flagged_q", r.flaggedQ());
+    m.put("flagged_both", r.flaggedBoth());
+    m.put("confidence", r.confidence());
+    m.put("components", r.k());
+    m.put("t2_limit", r.t2Limit());
+    m.put("t2_limit_rule", r.t2LimitRule());
+    m.put("q_limit", r.qLimit());
+    m.put("q_limit_rule", r.qLimitRule());
+    List<Map<String, Object>> top = new java.util.ArrayList<>();
+    for (MonitorResult.FlaggedRow row : r.top()) {
+      Map<String, Object> t = new LinkedHashMap<>();
+      t.put("keys", row.keys());
+      t.put("t2", row.t2());
+      t.put("q", row.q());
+      t.put("flag_t2", row.flaggedT2());
+      t.put("flag_q", row.flaggedQ());
+      Map<String, Double> c = new LinkedHashMap<>();
+      row.qContributions().forEach(x -> c.put(x.feature(), x.value()));
+      t.put("q_contributions", c);
+      top.add(t);
+    }
+    m.put("top_rows", top);
+    return m;
+  }
+
+  static Map<String, Object> reconstructionSection(ReconstructionResult r) {
+    Map<String, Object> m = new LinkedHashMap<>();
+    m.put("components", r.k());
+    m.put("rows", r.rows());
+    List<Map<String, Object>> features = new java.util.ArrayList<>();
+    for (ReconstructionResult.FeatureError e : r.features()) {
+      Map<String, Object> f = new LinkedHashMap<>();
+      f.put("feature", e.feature());
+      f.put("rmse", e.rmse());
+      f.put("max_abs_error", e.maxAbsError());
+      f.put("variance_kept", e.varianceKept());
+      features.add(f);
+    }
+    m.put("features", features);
+    return m;
+  }
+
+  static Map<String, Object> driftSection(DriftResult r) {
+    Map<String, Object> m = new LinkedHashMap<>();
+    m.put("compared_with", r.otherModel());
+    m.put("principal_angles_deg", r.principalAnglesDegrees());
+    m.put("explained_variance_ratio_old", r.explainedOld());
+    m.put("explained_variance_ratio_new", r.explainedNew());
+    Map<String, Double> shifts = new LinkedHashMap<>();
+    r.meanShifts().forEach(x -> shifts.put(x.feature(), x.shiftInOldSd()));
+    m.put("mean_shift_in_old_sd", shifts);
+    return m;
+  }
+
+  static Map<String, Object> clusterSection(ClusterResult r) {
+    Map<String, Object> m = new LinkedHashMap<>();
+    m.put("space", r.space());
+    m.put("entity", r.entity());
+    m.put("k", r.k());
+    m.put("selection_rule", r.selectionRule());
+    m.put("within_ss", r.withinSs());
+    m.put("silhouette", r.silhouette());
+    m.put("silhouette_sample", r.silhouetteSample());
+    m.put("sizes", r.sizes());
+    List<Map<String, Object>> sel = new java.util.ArrayList<>();
+    for (ClusterResult.KScore k : r.selection()) {
+      Map<String, Object> e = new LinkedHashMap<>();
+      e.put("k", k.k());
+      e.put("within_ss", k.withinSs());
+      e.put("silhouette", k.silhouette());
+      e.put("calinski_harabasz", k.calinskiHarabasz());
+      e.put("davies_bouldin", k.daviesBouldin());
+      sel.add(e);
+    }
+    m.put("k_selection", sel);
     return m;
   }
 
@@ -75,9 +189,6 @@ public final class SummaryJson {
     m.put("means", model.means());
     m.put("scales", model.scales());
     m.put("schema_fingerprint", model.schemaFingerprint());
-    m.put("blas", fit.blas());
-    m.put("timings_seconds", fit.timings());
-    m.put("warnings", List.copyOf(fit.warnings()));
     return m;
   }
 }

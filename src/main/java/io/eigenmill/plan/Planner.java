@@ -1,8 +1,11 @@
 package io.eigenmill.plan;
 
+import io.eigenmill.jobs.PcaModel;
 import io.eigenmill.settings.Choices.InputFormat;
+import io.eigenmill.settings.Choices.Method;
 import io.eigenmill.settings.InvalidJobException;
 import io.eigenmill.settings.JobSettings;
+import io.eigenmill.spark.ModelStore;
 import io.eigenmill.spark.TableLoader;
 import java.util.ArrayList;
 import java.util.LinkedHashSet;
@@ -35,8 +38,58 @@ public final class Planner {
   private Planner() {}
 
   public static JobPlan plan(SparkSession spark, JobSettings settings) {
+    if (settings.apply().appliesModel()) {
+      return planApply(spark, settings, ModelStore.read(spark, "apply.model", settings.apply().model()));
+    }
     Dataset<Row> table = TableLoader.load(spark, settings.input());
     return plan(spark, settings, table);
+  }
+
+  /**
+   * The plan of an apply run: the features are the model's, in the model's order; each must be in the input with the
+   * type it had when the model was fitted (columns may be in any order; extra columns are ignored).
+   */
+  public static JobPlan planApply(SparkSession spark, JobSettings settings, PcaModel model) {
+    Dataset<Row> table = TableLoader.load(spark, settings.input());
+    List<String> problems = new ArrayList<>();
+    StructType schema = table.schema();
+    checkDuplicates(schema, problems);
+    List<String> keys = resolveKeys(schema, settings.features().keys(), problems);
+    List<String> missing = new ArrayList<>();
+    List<String> retyped = new ArrayList<>();
+    for (int j = 0; j < model.d(); j++) {
+      String f = model.features().get(j);
+      var index = schema.getFieldIndex(f);
+      if (index.isEmpty()) {
+        missing.add(f);
+      } else {
+        String type = schema.fields()[(Integer) index.get()].dataType().simpleString();
+        if (!type.equals(model.featureTypes().get(j))) {
+          retyped.add(f + " (" + type + ", the model was fitted on " + model.featureTypes().get(j) + ")");
+        }
+      }
+    }
+    if (!missing.isEmpty()) {
+      problems.add("apply.model = " + settings.apply().model() + ": the input " + settings.input().path()
+          + " lacks the model feature" + (missing.size() > 1 ? "s " : " ") + String.join(", ", missing));
+    }
+    if (!retyped.isEmpty()) {
+      problems.add("apply.model = " + settings.apply().model() + ": feature type changed in the input: "
+          + String.join(", ", retyped));
+    }
+    if (!problems.isEmpty()) {
+      throw new InvalidJobException(problems);
+    }
+    long driverHeap = driverHeap(spark);
+    long taskHeap = taskHeap(spark);
+    int d = model.d();
+    MemoryEstimate memory = new MemoryEstimate(8L * d * (model.k() + 2), 8L * settings.reduce().blockRows()
+        * (2L * d + model.k()), driverHeap, taskHeap, "block of " + settings.reduce().blockRows() + " x " + d);
+    return new JobPlan(settings, "apply", model.features(), model.featureTypes(), keys,
+        partitionColumns(table, settings), rowEstimate(spark, table, settings),
+        TableLoader.sizeBytes(spark, settings.input().path()), Method.valueOf(model.method().toUpperCase(Locale.ROOT)),
+        "apply: the saved model (" + model.method() + ", k = " + model.k() + ", fitted on "
+            + String.format(Locale.ROOT, "%,d", model.rows()) + " rows)", memory, outputs(settings), List.of());
   }
 
   public static JobPlan plan(SparkSession spark, JobSettings settings, Dataset<Row> table) {

@@ -34,7 +34,8 @@ public final class ModelStore {
       .add("eigenvalues", DataTypes.createArrayType(DataTypes.DoubleType), false)
       .add("eigenvalues_complete", DataTypes.BooleanType, false)
       .add("total_variance", DataTypes.DoubleType, false)
-      .add("schema_fingerprint", DataTypes.StringType, false);
+      .add("schema_fingerprint", DataTypes.StringType, false)
+      .add("sds", DataTypes.createArrayType(DataTypes.DoubleType), false);
 
   public static void write(SparkSession spark, PcaModel m, String path) {
     List<double[]> columns = new ArrayList<>();
@@ -48,7 +49,7 @@ public final class ModelStore {
     Row row = RowFactory.create(m.formatVersion(), m.productVersion(), m.features().toArray(new String[0]),
         m.featureTypes().toArray(new String[0]), m.scaling(), m.method(), m.rows(), m.means(), m.scales(), m.k(),
         columns.toArray(new double[0][]), m.eigenvalues(), m.eigenvaluesComplete(), m.totalVariance(),
-        m.schemaFingerprint());
+        m.schemaFingerprint(), m.sds());
     spark.createDataFrame(List.of(row), SCHEMA).coalesce(1).write().parquet(path);
   }
 
@@ -72,6 +73,14 @@ public final class ModelStore {
           + " format_version, found " + rows.size() + " rows)");
     }
     Row r = rows.get(0);
+    List<String> present = List.of(table.schema().fieldNames());
+    for (String field : SCHEMA.fieldNames()) {
+      if (!present.contains(field)) {
+        throw new InvalidJobException(key + " = " + path + ": the model lacks the field " + field
+            + " (written by an incompatible version " + (present.contains("product_version")
+                ? r.getString(r.fieldIndex("product_version")) : "unknown") + "); refit the model");
+      }
+    }
     int format = r.getInt(r.fieldIndex("format_version"));
     String writer = r.getString(r.fieldIndex("product_version"));
     if (format > PcaModel.FORMAT_VERSION) {
@@ -94,7 +103,8 @@ public final class ModelStore {
         r.getString(r.fieldIndex("scaling")), r.getString(r.fieldIndex("method")), r.getLong(r.fieldIndex("rows")),
         toDoubles(r.getList(r.fieldIndex("means"))), toDoubles(r.getList(r.fieldIndex("scales"))), k, loadings,
         toDoubles(r.getList(r.fieldIndex("eigenvalues"))), r.getBoolean(r.fieldIndex("eigenvalues_complete")),
-        r.getDouble(r.fieldIndex("total_variance")), r.getString(r.fieldIndex("schema_fingerprint")));
+        r.getDouble(r.fieldIndex("total_variance")), r.getString(r.fieldIndex("schema_fingerprint")),
+        toDoubles(r.getList(r.fieldIndex("sds"))));
   }
 
   private static double[] toDoubles(List<?> values) {
