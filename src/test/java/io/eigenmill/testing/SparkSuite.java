@@ -17,7 +17,7 @@ public abstract class SparkSuite {
   protected static SparkSession spark;
 
   /** The library's suite base with our local configuration. */
-  public static final class Borrowed extends JavaDataFrameSuiteBase {
+  public static class Borrowed extends JavaDataFrameSuiteBase {
     @Override
     public SparkConf conf() {
       return TestConf.conf();

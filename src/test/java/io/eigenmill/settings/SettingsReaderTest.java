@@ -1,0 +1,141 @@
+package io.eigenmill.settings;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertFalse;
+import static org.junit.jupiter.api.Assertions.assertThrows;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import com.typesafe.config.Config;
+import com.typesafe.config.ConfigFactory;
+import java.io.File;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.List;
+import org.junit.jupiter.api.Test;
+
+/** The job-file contract: defaults from reference.conf only, and one clear message per problem. */
+class SettingsReaderTest {
+  private static final String MINIMAL = "input.path = \"/data/in\"\noutput.path = \"/data/out\"\n";
+
+  private static JobSettings read(String hocon, String... sets) {
+    return new SettingsReader().readString(hocon, List.of(sets), "job.conf");
+  }
+
+  private static List<String> problems(String hocon, String... sets) {
+    return assertThrows(InvalidJobException.class, () -> read(hocon, sets)).problems();
+  }
+
+  @Test
+  void everyDefaultComesFromReferenceConf() {
+    Config ref = ConfigFactory.parseResources("reference.conf").resolve().getConfig("eigenmill.job");
+    JobSettings s = read(MINIMAL);
+    assertEquals(ref.getString("input.format"), s.input().format().word());
+    assertEquals(ref.getString("input.corrupt-files"), s.input().corruptFiles().word());
+    assertEquals(ref.getStringList("features.columns"), s.features().columns());
+    assertEquals(ref.getString("prepare.scaling"), s.prepare().scaling().word());
+    assertEquals(ref.getString("prepare.missing"), s.prepare().missing().word());
+    assertEquals(ref.getString("reduce.method"), s.reduce().method().word());
+    assertTrue(ref.getIsNull("reduce.components") && s.reduce().components().isEmpty());
+    assertEquals(ref.getDouble("reduce.variance-target"), s.reduce().varianceTarget());
+    assertEquals(ref.getInt("reduce.max-components"), s.reduce().maxComponents());
+    assertEquals(ref.getInt("reduce.block-rows"), s.reduce().blockRows());
+    assertEquals(ref.getInt("reduce.randomized.oversample"), s.reduce().oversample());
+    assertEquals(ref.getInt("reduce.randomized.power-iterations"), s.reduce().powerIterations());
+    assertEquals(ref.getLong("reduce.randomized.seed"), s.reduce().seed());
+    assertEquals(ref.getDouble("monitor.confidence"), s.monitor().confidence());
+    assertEquals(ref.getString("output.mode"), s.output().mode().word());
+    assertEquals(ref.getBoolean("output.scores"), s.output().scores());
+    assertEquals(ref.getBoolean("cluster.enabled"), s.cluster().enabled());
+    assertEquals(ref.getString("cluster.select-by"), s.cluster().selectBy().word());
+    assertEquals(ref.getInt("cluster.restarts"), s.cluster().restarts());
+    assertEquals(ref.getString("spark.master"), s.spark().master());
+    assertEquals("job", s.name(), "the name defaults to the job file's base name");
+  }
+
+  @Test
+  void unknownKeyGetsADidYouMeanHint() {
+    assertEquals(List.of("job.conf:3: reduce.componets: unknown key (did you mean reduce.components?)"),
+        problems(MINIMAL + "reduce.componets = 3\n"));
+  }
+
+  @Test
+  void wrongTypeNamesKeyValueAndRule() {
+    assertEquals(List.of("job.conf:3: reduce.components = \"many\": must be an integer from 1 to 100000"),
+        problems(MINIMAL + "reduce.components = \"many\"\n"));
+  }
+
+  @Test
+  void outOfRangeValueNamesKeyValueAndRule() {
+    assertEquals(List.of("job.conf:3: monitor.confidence = 1.5: must be a fraction in (0, 1)"),
+        problems(MINIMAL + "monitor.confidence = 1.5\n"));
+    assertEquals(List.of("job.conf:3: reduce.method = \"fast\": must be one of auto, covariance, tsqr, randomized"),
+        problems(MINIMAL + "reduce.method = fast\n"));
+  }
+
+  @Test
+  void missingRequiredKey() {
+    assertEquals(List.of("job.conf: output.path is required and has no value (set it in the job file or with"
+        + " --set output.path=...)"), problems("input.path = \"/x\"\n"));
+  }
+
+  @Test
+  void conflictingKeys() {
+    assertEquals(List.of("job.conf:3: reduce.components and reduce.variance-target are both set; set only one"
+            + " (components fixes k, variance-target chooses the smallest k reaching the target)"),
+        problems(MINIMAL + "reduce.components = 3\nreduce.variance-target = 0.8\n"));
+  }
+
+  @Test
+  void everyProblemIsReportedAtOnce() {
+    List<String> all = problems("input.path = \"/x\"\nreduce.method = fast\nprepare.scalling = none\n");
+    assertEquals(3, all.size(), all.toString());
+    assertTrue(all.get(0).contains("prepare.scalling: unknown key (did you mean prepare.scaling?)"), all.get(0));
+  }
+
+  @Test
+  void syntaxErrorCarriesTheLineNumber() throws Exception {
+    Path f = Files.createTempDirectory("eigenmill-conf").resolve("broken.conf");
+    Files.writeString(f, "input.path = \"/x\"\noutput.path = \"/y\"\nreduce {\n  method = covariance\n");
+    InvalidJobException e = assertThrows(InvalidJobException.class,
+        () -> new SettingsReader().read(f.toFile(), List.of()));
+    assertTrue(e.getMessage().startsWith("broken.conf:5: HOCON syntax error: "), e.getMessage());
+  }
+
+  @Test
+  void setOverridesTheFileAndEnvironmentProfile() throws Exception {
+    Path dir = Files.createTempDirectory("eigenmill-conf");
+    Path job = dir.resolve("j.conf");
+    Path env = dir.resolve("env.conf");
+    Files.writeString(job, MINIMAL + "reduce.method = tsqr\nspark.master = \"local[1]\"\n");
+    Files.writeString(env, "spark { master = \"local[3]\", conf { \"spark.sql.shuffle.partitions\" = 5 } }\n");
+    JobSettings s = new SettingsReader().read(job.toFile(), List.of("reduce.method=randomized",
+        "reduce.components=4"), env.toFile());
+    assertEquals(Choices.Method.RANDOMIZED, s.reduce().method());
+    assertEquals(4, s.reduce().components().getAsInt());
+    assertEquals("local[1]", s.spark().master(), "the job file wins over the profile");
+    assertEquals("5", s.spark().conf().get("spark.sql.shuffle.partitions"));
+  }
+
+  @Test
+  void sparkConfPassesThroughAnyKey() {
+    JobSettings s = read(MINIMAL + "spark.conf { \"spark.executor.memory\" = 2g }\n");
+    assertEquals("2g", s.spark().conf().get("spark.executor.memory"));
+  }
+
+  @Test
+  void missingJobFileIsReported() {
+    InvalidJobException e = assertThrows(InvalidJobException.class,
+        () -> new SettingsReader().read(new File("/nonexistent/job.conf"), List.of()));
+    assertFalse(e.problems().isEmpty());
+    assertTrue(e.getMessage().contains("/nonexistent/job.conf"));
+  }
+
+  @Test
+  void clusterRangeIsParsedAndChecked() {
+    JobSettings s = read(MINIMAL + "cluster.k-range = \"3..9\"\n");
+    assertEquals(3, s.cluster().kMin());
+    assertEquals(9, s.cluster().kMax());
+    assertEquals(List.of("job.conf:3: cluster.k-range = \"9..3\": must be a range \"LOW..HIGH\" with"
+        + " 2 <= LOW <= HIGH <= 1000"), problems(MINIMAL + "cluster.k-range = \"9..3\"\n"));
+  }
+}
