@@ -22,7 +22,7 @@ import scala.collection.JavaConverters;
  * <p>When the executed plan of {@code SELECT features} bottoms out in a Parquet scan that produces columnar batches,
  * passes read those batches directly ({@code executeColumnar()}): no Row objects, values copied column by column
  * into the block. Otherwise (CSV, views, too many columns for the vectorised reader) passes read Rows of the features
- * cast to double. Either way a pass is one Spark job: one partial per partition, merged in a tree on the executors.
+ * cast to double. Either way a pass is one Spark job: one partial per partition, merged in a fixed order (partition index), so that runs repeat bit for bit.
  */
 public final class FeatureInput {
   private final Dataset<Row> table;
@@ -94,7 +94,7 @@ public final class FeatureInput {
       if (partials.getNumPartitions() == 0) {
         return new PartialResult<>(new ReadCounts(features.size()), aggregator.zero());
       }
-      PartialResult<A> result = partials.treeReduce(new PartitionPasses.MergePartials<>(aggregator), 2);
+      PartialResult<A> result = OrderedMerge.merge(partials, new PartitionPasses.MergePartials<>(aggregator));
       progress.done(result.counts().rowsRead());
       return result;
     }
