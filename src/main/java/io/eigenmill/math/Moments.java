@@ -10,8 +10,12 @@ import java.nio.ByteBuffer;
  * <p>Stability by construction: each block of rows is centred on its own mean (computed exactly, the block being in
  * memory) before its Gram is formed with BLAS level 3 ({@code dsyrk}); blocks and partitions are then combined with
  * the pairwise update of Chan, Golub and LeVeque (1979): M2 = M2a + M2b + delta delta^T na nb / n with
- * delta = mean_b - mean_a. No sum of raw squares is ever formed, so an offset of 1e9 on a column with standard
- * deviation 1e-3 costs nothing in accuracy. The zero is {@link #empty}; merging with an empty side is the identity.
+ * delta = mean_b - mean_a. No sum of raw squares is ever formed. Means are kept relative to a fixed shift (the
+ * rounded mean of the first rows seen), so that a mean near 1e9 is not rounded to ulp(1e9) = 1.2e-7 at every merge:
+ * with a standard deviation of 1e-3 that rounding alone would cost a relative error of 1e-5 in the variances. Each
+ * block records the residual mean left by centring on its rounded mean, and that residual enters the merge. An
+ * offset of 1e9 on a column with standard deviation 1e-3 then costs nothing in accuracy. The zero is
+ * {@link #empty}; merging with an empty side is the identity.
  *
  * <p>Cost: O(rows d^2) flops per block in dsyrk plus O(d^2) per merge; memory d^2 doubles ({@code gram}) or d.
  */
@@ -21,22 +25,27 @@ public final class Moments implements Serializable {
   private final int d;
   private final boolean gram;
   private long n;
+  /** The origin of {@link #mean}: the rounded mean of the first rows seen, fixed from then on. */
+  private final double[] shift;
+  /** The mean minus {@link #shift}: small next to the mean itself when the data sit far from zero. */
   private final double[] mean;
   /** gram: upper triangle of the column-major d x d co-moment matrix; otherwise the d diagonal entries. */
   private final double[] m2;
   private transient double[] scratch;
+  private transient double[] residualScratch;
 
-  private Moments(int d, boolean gram, long n, double[] mean, double[] m2) {
+  private Moments(int d, boolean gram, long n, double[] shift, double[] mean, double[] m2) {
     this.d = d;
     this.gram = gram;
     this.n = n;
+    this.shift = shift;
     this.mean = mean;
     this.m2 = m2;
   }
 
   /** The zero of the merge: no rows. {@code gram} false keeps only the variances (O(d) memory). */
   public static Moments empty(int d, boolean gram) {
-    return new Moments(d, gram, 0, new double[d], new double[gram ? d * d : d]);
+    return new Moments(d, gram, 0, new double[d], new double[d], new double[gram ? d * d : d]);
   }
 
   public int dimension() {
@@ -52,7 +61,11 @@ public final class Moments implements Serializable {
   }
 
   public double[] mean() {
-    return mean.clone();
+    double[] m = new double[d];
+    for (int j = 0; j < d; j++) {
+      m[j] = shift[j] + mean[j];
+    }
+    return m;
   }
 
   /**
@@ -63,7 +76,8 @@ public final class Moments implements Serializable {
     if (rows == 0) {
       return;
     }
-    double[] blockMean = scratch();
+    double[] centre = scratch();
+    double[] residual = residualScratch;
     for (int j = 0; j < d; j++) {
       int off = j * ld;
       double s = 0;
@@ -77,13 +91,21 @@ public final class Moments implements Serializable {
         r += block[off + i] - mu;
       }
       mu += r / rows;
-      blockMean[j] = mu;
+      centre[j] = mu;
+      // mu is rounded to ulp(mu); the centred values are exact and their mean is what that rounding left over
+      double left = 0;
       for (int i = 0; i < rows; i++) {
-        block[off + i] -= mu;
+        double v = block[off + i] - mu;
+        block[off + i] = v;
+        left += v;
       }
+      residual[j] = left / rows;
     }
+    // the Gram of the centred rows is taken about the rounded mean; subtract rows * residual residual^T to have it
+    // about the block's exact mean, centre + residual, which is what the merge below combines
     if (gram) {
       Linalg.blas().dsyrk("U", "T", d, rows, 1.0, block, ld, 1.0, m2, d);
+      Linalg.blas().dsyr("U", d, -(double) rows, residual, 1, m2, d);
     } else {
       for (int j = 0; j < d; j++) {
         int off = j * ld;
@@ -92,10 +114,10 @@ public final class Moments implements Serializable {
           double v = block[off + i];
           s += v * v;
         }
-        m2[j] += s;
+        m2[j] += s - rows * residual[j] * residual[j];
       }
     }
-    combineMeans(blockMean, rows);
+    combineMeans(centre, residual, rows);
   }
 
   /** Merges {@code other} into this (Chan, Golub and LeVeque); {@code other} is unchanged. */
@@ -110,13 +132,18 @@ public final class Moments implements Serializable {
     for (int i = 0; i < m2.length; i++) {
       m2[i] += other.m2[i];
     }
-    combineMeans(other.mean, other.n);
+    combineMeans(other.shift, other.mean, other.n);
     return this;
   }
 
-  /** Adds the between-group term for a group of {@code nb} rows with mean {@code meanB} and updates the mean. */
-  private void combineMeans(double[] meanB, long nb) {
+  /**
+   * Adds the between-group term for a group of {@code nb} rows with mean {@code originB + meanB} and updates the
+   * mean. The difference of the two origins is exact when they are within a factor 2 of each other (Sterbenz), so
+   * delta keeps the accuracy of the small relative means.
+   */
+  private void combineMeans(double[] originB, double[] meanB, long nb) {
     if (n == 0) {
+      System.arraycopy(originB, 0, shift, 0, d);
       System.arraycopy(meanB, 0, mean, 0, d);
       n = nb;
       return;
@@ -124,7 +151,7 @@ public final class Moments implements Serializable {
     long total = n + nb;
     double[] delta = new double[d];
     for (int j = 0; j < d; j++) {
-      delta[j] = meanB[j] - mean[j];
+      delta[j] = (originB[j] - shift[j]) + (meanB[j] - mean[j]);
     }
     double w = (double) n * (double) nb / (double) total;
     if (gram) {
@@ -144,6 +171,7 @@ public final class Moments implements Serializable {
   private double[] scratch() {
     if (scratch == null) {
       scratch = new double[d];
+      residualScratch = new double[d];
     }
     return scratch;
   }
@@ -177,11 +205,11 @@ public final class Moments implements Serializable {
     return c;
   }
 
-  /** The serialized form: d, gram flag, n, mean, m2 (big-endian). */
+  /** The serialized form: d, gram flag, n, shift, mean relative to the shift, m2 (big-endian). */
   public byte[] toBytes() {
-    ByteBuffer buf = ByteBuffer.allocate(4 + 1 + 8 + 8 * (mean.length + m2.length));
+    ByteBuffer buf = ByteBuffer.allocate(4 + 1 + 8 + 8 * (shift.length + mean.length + m2.length));
     buf.putInt(d).put((byte) (gram ? 1 : 0)).putLong(n);
-    buf.asDoubleBuffer().put(mean).put(m2);
+    buf.asDoubleBuffer().put(shift).put(mean).put(m2);
     return buf.array();
   }
 
@@ -193,7 +221,7 @@ public final class Moments implements Serializable {
     Moments m = empty(d, gram);
     m.n = n;
     var doubles = buf.asDoubleBuffer();
-    doubles.get(m.mean).get(m.m2);
+    doubles.get(m.shift).get(m.mean).get(m.m2);
     return m;
   }
 }

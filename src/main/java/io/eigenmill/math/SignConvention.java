@@ -15,14 +15,14 @@ public final class SignConvention {
   public static void apply(double[] v, int d, int r) {
     for (int c = 0; c < r; c++) {
       int off = c * d;
-      int lead = 0;
-      double best = -1;
+      double max = 0;
       for (int j = 0; j < d; j++) {
-        double a = Math.abs(v[off + j]);
-        if (a > best + TIE) {
-          best = a;
-          lead = j;
-        }
+        max = Math.max(max, Math.abs(v[off + j]));
+      }
+      // ties are measured against the largest entry, not against whichever entry a scan happens to hold
+      int lead = 0;
+      while (lead < d - 1 && Math.abs(v[off + lead]) < max - TIE) {
+        lead++;
       }
       if (v[off + lead] < 0) {
         for (int j = 0; j < d; j++) {
