@@ -1,0 +1,97 @@
+package io.eigenmill.report;
+
+import io.eigenmill.jobs.ClusterResult;
+import io.eigenmill.jobs.RunResult;
+import java.util.ArrayList;
+import java.util.List;
+
+/**
+ * Clusters: the k-selection table (within-SS, silhouette, Calinski-Harabasz, Davies-Bouldin per k tried), the chosen
+ * k, cluster sizes and, per cluster, the features that distinguish it, in original units.
+ *
+ * @param unit what was clustered, plural: "rows" or "entities (host)"
+ */
+public record ClusterModel(
+    List<Fact> facts,
+    int k,
+    String unit,
+    List<Selection> selection,
+    List<Size> sizes,
+    List<ProfileView> profiles) {
+
+  /** Distinguishing features listed per cluster. */
+  static final int FEATURES_PER_PROFILE = 6;
+
+  public record Selection(int k, double withinSs, double silhouette, double calinskiHarabasz, double daviesBouldin,
+      boolean chosen, List<String> texts) {}
+
+  public record Size(int cluster, long size, String sizeText, String shareText) {}
+
+  public record Shift(String feature, String clusterMean, String overallMean, double standardized,
+      String standardizedText) {}
+
+  public record ProfileView(int cluster, String title, List<Shift> shifts) {}
+
+  static ClusterModel of(RunResult run) {
+    ClusterResult c = run.clusters();
+    if (c == null) {
+      return null;
+    }
+    String unit = c.entity().isEmpty() ? "rows" : "entities (" + c.entity() + ")";
+    List<Fact> facts = List.of(
+        new Fact("Clustered", unit + ", in the " + (c.space().equals("scores") ? "PCA score space" : c.space().equals(
+            "features") ? "prepared feature space" : c.space()) + " (" + String.join(", ", c.dimensions()) + ")"),
+        new Fact("Clusters (k)", Fmt.count(c.k())),
+        new Fact("How k was chosen", c.selectionRule()),
+        new Fact("Within-cluster sum of squares", Fmt.num(c.withinSs())),
+        new Fact("Silhouette", Fmt.num(c.silhouette(), 3) + " (exact, on a seeded sample of "
+            + Fmt.count(c.silhouetteSample()) + " " + (c.entity().isEmpty() ? "rows" : "entities") + ")"));
+    List<Selection> selection = new ArrayList<>();
+    for (ClusterResult.KScore s : c.selection()) {
+      selection.add(new Selection(s.k(), s.withinSs(), s.silhouette(), s.calinskiHarabasz(), s.daviesBouldin(),
+          s.k() == c.k(), List.of(Fmt.count(s.k()), Fmt.num(s.withinSs()), Fmt.num(s.silhouette(), 3),
+              Fmt.num(s.calinskiHarabasz()), Fmt.num(s.daviesBouldin(), 3))));
+    }
+    List<Size> sizes = new ArrayList<>();
+    for (int i = 0; i < c.sizes().length; i++) {
+      sizes.add(new Size(i, c.sizes()[i], Fmt.count(c.sizes()[i]), share(c, i)));
+    }
+    List<ProfileView> profiles = new ArrayList<>();
+    for (ClusterResult.Profile p : c.profiles()) {
+      profiles.add(profile(p, unit));
+    }
+    return new ClusterModel(facts, c.k(), unit, selection, sizes, profiles);
+  }
+
+  private static String share(ClusterResult c, int cluster) {
+    for (ClusterResult.Profile p : c.profiles()) {
+      if (p.cluster() == cluster) {
+        return Fmt.percent(p.share(), 1);
+      }
+    }
+    return "";
+  }
+
+  private static ProfileView profile(ClusterResult.Profile p, String unit) {
+    List<Shift> shifts = new ArrayList<>();
+    for (int i = 0; i < Math.min(FEATURES_PER_PROFILE, p.distinguishing().size()); i++) {
+      ClusterResult.FeatureShift f = p.distinguishing().get(i);
+      shifts.add(new Shift(f.feature(), Fmt.num(f.clusterMean()), Fmt.num(f.overallMean()),
+          f.standardizedDifference(), signed(f.standardizedDifference())));
+    }
+    String title = "Cluster " + p.cluster() + " — " + Fmt.count(p.size()) + " " + unit.split(" ")[0] + " ("
+        + Fmt.percent(p.share(), 1) + ")";
+    return new ProfileView(p.cluster(), title, shifts);
+  }
+
+  /** "+1.23" or "-0.456": the sign is the point of a standardised difference. */
+  static String signed(double v) {
+    String s = Fmt.num(v, 3);
+    return v > 0 ? "+" + s : s;
+  }
+
+  /** True when more than one k was tried, so the selection curves say something. */
+  public boolean hasCurves() {
+    return selection.size() > 1;
+  }
+}

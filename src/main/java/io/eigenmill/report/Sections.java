@@ -1,0 +1,255 @@
+package io.eigenmill.report;
+
+import java.util.ArrayList;
+import java.util.List;
+
+/** The HTML of each analysis section, from its model; a null model writes nothing. */
+final class Sections {
+  private Sections() {}
+
+  static void scree(StringBuilder b, ScreeModel m) {
+    if (m == null) {
+      return;
+    }
+    HtmlReport.open(b, "section-scree", "Variance by component", "Each bar is the variance carried by one "
+        + "principal component; the line adds them up. Components left of the dotted line are kept (k = " + m.k()
+        + "): " + m.kRule() + ".");
+    String caption = (m.logScale() ? "Eigenvalues on a log scale: they span more than "
+        + Fmt.num(ScreeModel.LOG_DECADES) + " decades. " : "")
+        + (m.complete() ? "" : "The method computed " + m.computed() + " of " + m.features() + " eigenvalues; "
+            + "shares are of the total variance, which is known exactly. ")
+        + (m.components().size() < m.computed() ? "The first " + m.components().size() + " of " + m.computed()
+            + " components are drawn." : "");
+    HtmlReport.figure(b, SpectrumCharts.scree(m), caption.isBlank() ? null : caption.trim());
+    int rows = Math.min(m.components().size(), Math.max(m.k() + 3, 10));
+    b.append("<div class=\"tablewrap\"><table class=\"scree-table\"><thead><tr><th>component</th>")
+        .append("<th class=\"num\">eigenvalue</th><th class=\"num\">share of variance</th>")
+        .append("<th class=\"num\">cumulative</th><th>kept</th></tr></thead><tbody>");
+    for (ScreeModel.Component c : m.components().subList(0, rows)) {
+      b.append(c.kept() ? "<tr class=\"kept\">" : "<tr>").append("<td>PC").append(c.number())
+          .append("</td><td class=\"num ev-value\">").append(Html.esc(c.eigenvalueText()))
+          .append("</td><td class=\"num ev-ratio\">").append(Html.esc(c.ratioText()))
+          .append("</td><td class=\"num ev-cumulative\">").append(Html.esc(c.cumulativeText())).append("</td><td>")
+          .append(c.kept() ? "yes" : "").append("</td></tr>");
+    }
+    b.append("</tbody></table></div>\n");
+    if (rows < m.components().size()) {
+      b.append("<p class=\"note\">The table lists the first ").append(rows)
+          .append(" components; summary.json has all of them.</p>\n");
+    }
+    HtmlReport.close(b);
+  }
+
+  static void loadings(StringBuilder b, LoadingsModel m) {
+    if (m == null) {
+      return;
+    }
+    HtmlReport.open(b, "section-loadings", "What the components are made of", "A loading is the weight of a "
+        + "feature in a component. Orange is positive, blue negative; features that move together sit together, "
+        + "grouped by the component on which they weigh most.");
+    String hidden = m.featuresHidden() > 0 ? " The " + m.rows().size() + " features with the largest loadings are "
+        + "shown; " + m.featuresHidden() + " more are in the model." : "";
+    String cols = m.components().size() < m.componentsTotal() ? " The first " + m.components().size() + " of "
+        + m.componentsTotal() + " kept components are shown." : "";
+    HtmlReport.figure(b, SpectrumCharts.heatmap(m), "Loadings of the kept components; the colour scale runs from -"
+        + Fmt.fixed(m.maxAbs(), 2) + " to +" + Fmt.fixed(m.maxAbs(), 2) + "." + hidden + cols);
+    double scaleMax = 0;
+    for (LoadingsModel.TopList t : m.top()) {
+      for (LoadingsModel.Bar bar : t.bars()) {
+        scaleMax = Math.max(scaleMax, Math.abs(bar.value()));
+      }
+    }
+    b.append("<h3>Largest loadings</h3>\n<div class=\"row\">");
+    for (int i = 0; i < m.top().size(); i++) {
+      HtmlReport.figure(b, SpectrumCharts.topBars(m.top().get(i), scaleMax > 0 ? scaleMax : 1, i), null);
+    }
+    b.append("</div>\n");
+    HtmlReport.close(b);
+  }
+
+  static void scores(StringBuilder b, ScoreMapModel m) {
+    if (m == null) {
+      return;
+    }
+    HtmlReport.open(b, "section-scores", "Score map", "Each point is a row placed by its component scores; rows "
+        + "that are alike lie close together. Axes are scaled independently.");
+    if (!m.legend().isEmpty()) {
+      b.append("<ul class=\"legend\">");
+      for (ScoreMapModel.LegendEntry e : m.legend()) {
+        b.append("<li>").append(ScoreCharts.swatch(e.index())).append(Html.esc(e.label())).append("</li>");
+      }
+      b.append("</ul>\n");
+    }
+    b.append("<div class=\"row\">");
+    for (ScoreMapModel.Plot p : m.plots()) {
+      HtmlReport.figure(b, ScoreCharts.scatter(m, p), null);
+    }
+    b.append("</div>\n<p class=\"note\">").append(Html.esc(m.caption())).append(".</p>\n");
+    HtmlReport.close(b);
+  }
+
+  static void monitoring(StringBuilder b, MonitoringModel m) {
+    if (m == null) {
+      return;
+    }
+    HtmlReport.open(b, "section-monitoring", "Monitoring: T2 and Q", "T2 measures how far a row lies from the "
+        + "centre inside the model's components; Q measures what the components cannot explain. Points above a "
+        + "limit (orange triangles) are unusual at the " + m.confidence() + " confidence level.");
+    b.append("<div class=\"figures\">");
+    for (Fact f : m.counts()) {
+      b.append("<div class=\"figure-card\"><span class=\"v\">").append(Html.esc(f.value()))
+          .append("</span><span class=\"l\">").append(Html.esc(f.label())).append("</span></div>");
+    }
+    b.append("</div>\n");
+    HtmlReport.facts(b, m.limits());
+    if (m.position().length > 0) {
+      String caption = Fmt.count(m.position().length) + " plotted rows (a bounded sample of the scored rows).";
+      HtmlReport.figure(b, MonitorCharts.series(m, "t2"), caption);
+      HtmlReport.figure(b, MonitorCharts.series(m, "q"), caption);
+    } else {
+      b.append("<p class=\"note\">No series was recorded for plotting.</p>\n");
+    }
+    if (!m.top().isEmpty()) {
+      b.append("<h3>Most unusual rows</h3>\n");
+      topRows(b, m);
+    }
+    HtmlReport.close(b);
+  }
+
+  private static void topRows(StringBuilder b, MonitoringModel m) {
+    b.append("<div class=\"tablewrap\"><table class=\"flagged-table\"><thead><tr>");
+    for (String k : m.keyNames()) {
+      b.append("<th>").append(Html.esc(k)).append("</th>");
+    }
+    b.append("<th class=\"num\">T2</th><th class=\"num\">Q</th><th>flagged by</th>")
+        .append("<th>largest contributions to Q</th></tr></thead><tbody>");
+    for (MonitoringModel.TopRow r : m.top()) {
+      b.append("<tr>");
+      for (String k : r.keys()) {
+        b.append("<td class=\"key\">").append(Html.esc(k)).append("</td>");
+      }
+      b.append("<td class=\"num\">").append(Html.esc(r.t2())).append("</td><td class=\"num\">")
+          .append(Html.esc(r.q())).append("</td><td>").append(Html.esc(r.flaggedBy())).append("</td><td>");
+      for (Fact c : r.contributions()) {
+        b.append("<span class=\"contrib\">").append(Html.esc(c.label())).append(" <b>").append(Html.esc(c.value()))
+            .append("</b></span> ");
+      }
+      b.append("</td></tr>");
+    }
+    b.append("</tbody></table></div>\n");
+  }
+
+  static void clusters(StringBuilder b, ClusterModel m) {
+    if (m == null) {
+      return;
+    }
+    HtmlReport.open(b, "section-clusters", "Clusters", "Groups of similar " + m.unit() + " found by k-means; "
+        + "each group is described by the features that set it apart, in original units.");
+    HtmlReport.facts(b, m.facts());
+    if (m.hasCurves()) {
+      b.append("<h3>Choosing k</h3>\n<div class=\"row\">");
+      HtmlReport.figure(b, ClusterCharts.curve(m, "chart-cluster-silhouette", "Silhouette (higher is better)",
+          ClusterModel.Selection::silhouette), null);
+      HtmlReport.figure(b, ClusterCharts.curve(m, "chart-cluster-calinski-harabasz",
+          "Calinski-Harabasz (higher is better)", ClusterModel.Selection::calinskiHarabasz), null);
+      HtmlReport.figure(b, ClusterCharts.curve(m, "chart-cluster-within-ss", "Within-cluster SS (look for a bend)",
+          ClusterModel.Selection::withinSs), null);
+      b.append("</div>\n");
+    }
+    b.append("<div class=\"tablewrap\"><table class=\"selection-table\"><thead><tr><th class=\"num\">k</th>")
+        .append("<th class=\"num\">within-SS</th><th class=\"num\">silhouette</th>")
+        .append("<th class=\"num\">Calinski-Harabasz</th><th class=\"num\">Davies-Bouldin (lower is better)</th>")
+        .append("</tr></thead><tbody>");
+    for (ClusterModel.Selection s : m.selection()) {
+      b.append(s.chosen() ? "<tr class=\"chosen\">" : "<tr>");
+      for (String t : s.texts()) {
+        b.append("<td class=\"num\">").append(Html.esc(t)).append("</td>");
+      }
+      b.append("</tr>");
+    }
+    b.append("</tbody></table></div>\n<h3>Sizes</h3>\n");
+    HtmlReport.figure(b, ClusterCharts.sizes(m), null);
+    if (!m.profiles().isEmpty()) {
+      b.append("<h3>What sets each cluster apart</h3>\n<p class=\"note\">Difference = (cluster mean - overall mean)"
+          + " / overall standard deviation.</p>\n<div class=\"cards\">");
+      for (ClusterModel.ProfileView p : m.profiles()) {
+        profile(b, p);
+      }
+      b.append("</div>\n");
+    }
+    HtmlReport.close(b);
+  }
+
+  private static void profile(StringBuilder b, ClusterModel.ProfileView p) {
+    double max = 0;
+    for (ClusterModel.Shift s : p.shifts()) {
+      max = Math.max(max, Math.abs(s.standardized()));
+    }
+    b.append("<div class=\"card profile\"><h4>").append(ScoreCharts.swatch(p.cluster())).append(Html.esc(p.title()))
+        .append("</h4><table><thead><tr><th>feature</th><th class=\"num\">cluster mean</th>")
+        .append("<th class=\"num\">overall</th><th class=\"num\">difference</th></tr></thead><tbody>");
+    for (ClusterModel.Shift s : p.shifts()) {
+      double w = max > 0 ? Math.abs(s.standardized()) / max * 36 : 0;
+      b.append("<tr><td class=\"name\">").append(Html.esc(s.feature())).append("</td><td class=\"num\">")
+          .append(Html.esc(s.clusterMean())).append("</td><td class=\"num\">").append(Html.esc(s.overallMean()))
+          .append("</td><td class=\"num\">").append(Html.esc(s.standardizedText()))
+          .append(" <span class=\"dbar\" style=\"width:").append(Fmt.fixed(w, 1)).append("px;background:")
+          .append(Palette.diverging(s.standardized() >= 0 ? 0.8 : -0.8)).append("\"></span></td></tr>");
+    }
+    b.append("</tbody></table></div>");
+  }
+
+  static void compression(StringBuilder b, CompressionModel m) {
+    if (m == null) {
+      return;
+    }
+    HtmlReport.open(b, "section-compression", "Compression", "How well " + m.k() + " components reconstruct each "
+        + "feature over " + m.rows() + " rows. Errors are in each feature's own units; the share of variance kept "
+        + "compares features with each other.");
+    HtmlReport.figure(b, ChangeCharts.varianceKept(m), "Least reconstructed features first"
+        + (m.features().size() < m.featuresTotal() ? ": the " + m.features().size() + " least reconstructed of "
+            + m.featuresTotal() + "." : "."));
+    List<List<String>> rows = new ArrayList<>();
+    for (CompressionModel.Feature f : m.features()) {
+      rows.add(List.of(f.name(), f.varianceKeptText(), f.rmse(), f.maxAbsError()));
+    }
+    HtmlReport.table(b, "compression-table", List.of("feature", "variance kept", "RMSE", "max abs error"), 1, rows);
+    HtmlReport.close(b);
+  }
+
+  private static String cell(List<String> texts, int i) {
+    return i < texts.size() ? texts.get(i) : "";
+  }
+
+  static void drift(StringBuilder b, DriftModel m) {
+    if (m == null) {
+      return;
+    }
+    HtmlReport.open(b, "section-drift", "Drift against the earlier model", "Compared with " + m.otherModel()
+        + ". Small principal angles mean the components point the same way; mean shifts are in standard "
+        + "deviations of the earlier model.");
+    b.append("<div class=\"row\">");
+    HtmlReport.figure(b, ChangeCharts.angles(m), null);
+    HtmlReport.figure(b, ChangeCharts.explained(m), null);
+    b.append("</div>\n");
+    int n = Math.max(m.angles().length, Math.max(m.explainedOld().length, m.explainedNew().length));
+    List<List<String>> components = new ArrayList<>();
+    for (int i = 0; i < n; i++) {
+      components.add(List.of(Integer.toString(i + 1), cell(m.angleTexts(), i), cell(m.explainedOldTexts(), i),
+          cell(m.explainedNewTexts(), i)));
+    }
+    HtmlReport.table(b, "drift-table", List.of("component", "principal angle", "explained, old model",
+        "explained, new model"), 1, components);
+    if (!m.shifts().isEmpty()) {
+      b.append("<h3>Largest mean shifts</h3>\n");
+      HtmlReport.figure(b, ChangeCharts.shifts(m), m.shifts().size() < m.shiftsTotal() ? "The "
+          + m.shifts().size() + " largest of " + m.shiftsTotal() + " shared features." : null);
+      List<List<String>> rows = new ArrayList<>();
+      for (DriftModel.Shift s : m.shifts()) {
+        rows.add(List.of(s.feature(), s.oldMean(), s.newMean(), s.shiftText()));
+      }
+      HtmlReport.table(b, "shift-table", List.of("feature", "old mean", "new mean", "shift (old sd)"), 1, rows);
+    }
+    HtmlReport.close(b);
+  }
+}
