@@ -107,7 +107,7 @@ final class FleetFixture {
     }
     model = new PcaModel(PcaModel.FORMAT_VERSION, "0.1.0", List.of(FEATURES), types, "standardize", "covariance", N,
         means.clone(), sds.clone(), k, loadings, spectrum.eigenvalues(), true, spectrum.totalVariance(),
-        PcaModel.fingerprint(List.of(FEATURES), types));
+        PcaModel.fingerprint(List.of(FEATURES), types), sds.clone());
     scores = new double[N][k];
     residual = new double[N][d];
     for (int i = 0; i < N; i++) {
@@ -333,7 +333,8 @@ final class FleetFixture {
       total += e;
     }
     return new PcaModel(PcaModel.FORMAT_VERSION, "0.1.0", names, types, "none", "covariance", 500, new double[d],
-        new double[d], k, loadings, eigenvalues, eigenvalues.length == d, total, PcaModel.fingerprint(names, types));
+        new double[d], k, loadings, eigenvalues, eigenvalues.length == d, total, PcaModel.fingerprint(names, types),
+        java.util.Collections.nCopies(d, 1.0).stream().mapToDouble(Double::doubleValue).toArray());
   }
 
   // --- whole runs ---
