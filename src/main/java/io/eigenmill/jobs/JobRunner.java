@@ -2,6 +2,7 @@ package io.eigenmill.jobs;
 
 import io.eigenmill.plan.JobPlan;
 import io.eigenmill.plan.Planner;
+import io.eigenmill.report.HtmlReport;
 import io.eigenmill.settings.JobSettings;
 import io.eigenmill.spark.FitTables;
 import io.eigenmill.spark.ModelStore;
@@ -45,6 +46,7 @@ public final class JobRunner {
     try {
       RunResult result = execute(spark, plan, applied, earlier, out, started);
       out.writeText("summary.json", SummaryJson.render(result));
+      out.writeText("report.html", HtmlReport.render(result));
       out.commit();
       LOG.info("run: committed {}", out.finalPath());
       return result;

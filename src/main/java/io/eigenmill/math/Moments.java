@@ -105,7 +105,7 @@ public final class Moments implements Serializable {
     // about the block's exact mean, centre + residual, which is what the merge below combines
     if (gram) {
       Linalg.blas().dsyrk("U", "T", d, rows, 1.0, block, ld, 1.0, m2, d);
-      Linalg.blas().dsyr("U", d, -(double) rows, residual, 1, m2, d);
+      Linalg.repeatableBlas().dsyr("U", d, -(double) rows, residual, 1, m2, d);
     } else {
       for (int j = 0; j < d; j++) {
         int off = j * ld;
@@ -155,7 +155,7 @@ public final class Moments implements Serializable {
     }
     double w = (double) n * (double) nb / (double) total;
     if (gram) {
-      Linalg.blas().dsyr("U", d, w, delta, 1, m2, d);
+      Linalg.repeatableBlas().dsyr("U", d, w, delta, 1, m2, d);
     } else {
       for (int j = 0; j < d; j++) {
         m2[j] += w * delta[j] * delta[j];

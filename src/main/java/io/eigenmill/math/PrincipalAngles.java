@@ -20,9 +20,9 @@ public final class PrincipalAngles {
       return new double[0];
     }
     double[] m = new double[ka * kb];
-    Linalg.blas().dgemm("T", "N", ka, kb, d, 1.0, a, d, b, d, 0.0, m, ka);
+    Linalg.repeatableBlas().dgemm("T", "N", ka, kb, d, 1.0, a, d, b, d, 0.0, m, ka);
     double[] perp = b.clone();
-    Linalg.blas().dgemm("N", "N", d, kb, ka, -1.0, a, d, m, ka, 1.0, perp, d);
+    Linalg.repeatableBlas().dgemm("N", "N", d, kb, ka, -1.0, a, d, m, ka, 1.0, perp, d);
     double[] cos = singularValues(m.clone(), ka, kb);
     double[] sin = singularValues(perp, d, kb);
     // cosines descending = angles ascending; sines: the kb singular values of B_perp, ascending angles take the
@@ -45,9 +45,9 @@ public final class PrincipalAngles {
     double[] vt = new double[1];
     intW info = new intW(0);
     double[] query = new double[1];
-    Linalg.lapack().dgesvd("N", "N", rows, cols, m, rows, s, u, 1, vt, 1, query, -1, info);
+    Linalg.driverLapack(Math.min(rows, cols)).dgesvd("N", "N", rows, cols, m, rows, s, u, 1, vt, 1, query, -1, info);
     double[] work = new double[Math.max(1, (int) query[0])];
-    Linalg.lapack().dgesvd("N", "N", rows, cols, m, rows, s, u, 1, vt, 1, work, work.length, info);
+    Linalg.driverLapack(Math.min(rows, cols)).dgesvd("N", "N", rows, cols, m, rows, s, u, 1, vt, 1, work, work.length, info);
     Linalg.check("dgesvd", info);
     return s;
   }

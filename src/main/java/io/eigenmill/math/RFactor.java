@@ -105,9 +105,9 @@ public final class RFactor implements Serializable {
     double[] u = new double[1];
     intW info = new intW(0);
     double[] query = new double[1];
-    Linalg.lapack().dgesvd("N", "A", d, d, a, d, s, u, 1, vt, d, query, -1, info);
+    Linalg.driverLapack(d).dgesvd("N", "A", d, d, a, d, s, u, 1, vt, d, query, -1, info);
     double[] w = new double[Math.max(1, (int) query[0])];
-    Linalg.lapack().dgesvd("N", "A", d, d, a, d, s, u, 1, vt, d, w, w.length, info);
+    Linalg.driverLapack(d).dgesvd("N", "A", d, d, a, d, s, u, 1, vt, d, w, w.length, info);
     Linalg.check("dgesvd", info);
     double[] v = new double[d * d];
     for (int i = 0; i < d; i++) {

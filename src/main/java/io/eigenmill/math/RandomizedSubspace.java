@@ -45,7 +45,7 @@ public final class RandomizedSubspace {
    */
   public static Spectrum finish(double[] q, double[] z, int d, int l, long n, double totalVariance) {
     double[] g = new double[l * l];
-    Linalg.blas().dgemm("T", "N", l, l, d, 1.0, q, d, z, d, 0.0, g, l);
+    Linalg.repeatableBlas().dgemm("T", "N", l, l, d, 1.0, q, d, z, d, 0.0, g, l);
     for (int j = 0; j < l; j++) {
       for (int i = 0; i < j; i++) {
         double avg = 0.5 * (g[i + j * l] + g[j + i * l]);
@@ -55,7 +55,7 @@ public final class RandomizedSubspace {
     }
     SymmetricEigen.Result e = SymmetricEigen.decompose(g, l);
     double[] v = new double[d * l];
-    Linalg.blas().dgemm("N", "N", d, l, l, 1.0, q, d, e.vectors(), l, 0.0, v, d);
+    Linalg.repeatableBlas().dgemm("N", "N", d, l, l, 1.0, q, d, e.vectors(), l, 0.0, v, d);
     double denominator = Math.max(1, n - 1);
     double[] values = new double[l];
     for (int i = 0; i < l; i++) {

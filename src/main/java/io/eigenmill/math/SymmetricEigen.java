@@ -29,10 +29,10 @@ public final class SymmetricEigen {
     intW info = new intW(0);
     double[] workQuery = new double[1];
     int[] iworkQuery = new int[1];
-    Linalg.lapack().dsyevd("V", "U", n, z, Math.max(1, n), w, workQuery, -1, iworkQuery, -1, info);
+    Linalg.driverLapack(n).dsyevd("V", "U", n, z, Math.max(1, n), w, workQuery, -1, iworkQuery, -1, info);
     double[] work = new double[Math.max(1, (int) workQuery[0])];
     int[] iwork = new int[Math.max(1, iworkQuery[0])];
-    Linalg.lapack().dsyevd("V", "U", n, z, Math.max(1, n), w, work, work.length, iwork, iwork.length, info);
+    Linalg.driverLapack(n).dsyevd("V", "U", n, z, Math.max(1, n), w, work, work.length, iwork, iwork.length, info);
     Linalg.check("dsyevd", info);
     double[] values = new double[n];
     double[] vectors = new double[n * n];

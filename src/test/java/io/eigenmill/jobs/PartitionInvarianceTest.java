@@ -82,9 +82,16 @@ class PartitionInvarianceTest extends SparkSuite {
     assertArrayEquals(a.model().means(), b.model().means(), "means");
     assertArrayEquals(a.model().sds(), b.model().sds(), "sds");
     assertEquals(a.fit().spectrum().totalVariance(), b.fit().spectrum().totalVariance(), 0.0, "trace");
+    if (method.equals("tsqr")) {
+      // TSQR factors each block with the native LAPACK on the executors, which is repeatable only to rounding
+      // (its kernels depend on memory alignment): same bound as for a change of partitioning
+      assertClose(a.fit().spectrum().eigenvalues(), b.fit().spectrum().eigenvalues(), 1e-12);
+      assertClose(a.model().loadings(), b.model().loadings(), 1e-10);
+      return;
+    }
+    // covariance and randomized: bit for bit (ordered merge, level-3 BLAS, pure-Java driver-side LAPACK)
     assertArrayEquals(a.fit().spectrum().eigenvalues(), b.fit().spectrum().eigenvalues());
     assertArrayEquals(a.model().loadings(), b.model().loadings());
-    assertArrayEquals(a.model().means(), b.model().means());
   }
 
   @Test
