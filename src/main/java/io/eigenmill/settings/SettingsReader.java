@@ -235,7 +235,7 @@ public final class SettingsReader {
     var reduce = new JobSettings.Reduce(f.choice("reduce.method", Choices.Method.values()), components,
         f.fraction("reduce.variance-target"), f.intIn("reduce.max-components", 1, 100_000),
         f.intIn("reduce.block-rows", 16, 1 << 20), f.intIn("reduce.covariance-max-features", 1, 200_000),
-        f.intIn("reduce.randomized.oversample", 0, 1000), f.intIn("reduce.randomized.power-iterations", 0, 50),
+        f.intIn("reduce.randomized.oversample", 0, 1000), f.intIn("reduce.randomized.power-iterations", 1, 50),
         f.longValue("reduce.randomized.seed"));
     var monitor = new JobSettings.Monitor(f.openFraction("monitor.confidence"));
     var apply = new JobSettings.Apply(f.string("apply.model"), f.string("apply.compare-with"),
