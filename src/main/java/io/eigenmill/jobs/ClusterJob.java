@@ -38,8 +38,8 @@ import org.slf4j.LoggerFactory;
  * null, NaN or infinite coordinate are left out of the clustering and counted in a warning.
  *
  * <p>Passes: the points are read once into an executor cache of column-major blocks; then 1 summary pass,
- * 2 x 5 k-means|| passes, 1 weights pass and one pass per Lloyd iteration, each serving every restart of every k at
- * once; the silhouette is computed on the driver on a seeded sample; writing the assignments reads the points once
+ * 5 k-means|| rounds (one pass each), 1 weights pass and one pass per Lloyd iteration, each serving every restart of
+ * every k at once; the silhouette is computed on the driver on a seeded sample; writing the assignments reads the points once
  * more. Results do not depend on the partitioning beyond rounding: random decisions are keyed by each point's
  * identity (a hash of its coordinates, or of its entity key), not by its position.
  */

@@ -8,7 +8,8 @@ package io.eigenmill.math;
  *       analysis", J. Comput. Appl. Math. 20): for point i with a(i) its mean Euclidean distance to the other points
  *       of its cluster and b(i) the smallest mean distance to the points of another cluster,
  *       s(i) = (b(i) - a(i)) / max(a(i), b(i)); s(i) = 0 for a point alone in its cluster (Rousseeuw's convention)
- *       and when a(i) = b(i) = 0. The measure is the mean of s(i). Higher is better.</li>
+ *       and when a(i) = b(i) = 0; when every point falls in one cluster, b is undefined and s(i) = 0. The measure
+ *       is the mean of s(i). Higher is better.</li>
  *   <li>Calinski-Harabasz (Calinski and Harabasz 1974, "A dendrite method for cluster analysis", Comm. Stat. 3):
  *       [B / (k - 1)] / [W / (n - k)] with W the within-cluster and B = T - W the between-cluster sum of squares.
  *       Higher is better.</li>

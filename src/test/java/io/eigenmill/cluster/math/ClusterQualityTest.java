@@ -3,13 +3,14 @@ package io.eigenmill.cluster.math;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
+import io.eigenmill.cluster.BruteForce;
 import io.eigenmill.math.ClusterQuality;
 import java.util.SplittableRandom;
 import org.junit.jupiter.api.Test;
 
 /**
  * The quality measures against their published definitions, computed by hand on a tiny example and by a direct
- * brute force (written independently here, straight from the papers) on random data.
+ * brute force ({@link BruteForce}, written straight from the papers) on random data.
  * Silhouette: Rousseeuw (1987), s(i) = (b - a) / max(a, b), s = 0 for a singleton. Calinski and Harabasz (1974):
  * [B / (k - 1)] / [W / (n - k)], B = sum_j n_j ||c_j - mean||^2. Davies and Bouldin (1979) with q = 1, p = 2.
  * Tolerance 1e-12 relative: the brute forces sum the same terms in another order (n <= 60, error ~ n eps).
@@ -112,31 +113,12 @@ class ClusterQualityTest {
     }
   }
 
-  /** Rousseeuw's definition, point by point, with no shared work. */
   static double bruteSilhouette(double[] pts, int n, int d, int[] lab, int k) {
-    double total = 0;
+    double[][] x = new double[n][d];
     for (int i = 0; i < n; i++) {
-      double[] sum = new double[k];
-      int[] count = new int[k];
-      for (int j = 0; j < n; j++) {
-        if (j != i) {
-          sum[lab[j]] += Math.sqrt(dist2(pts, i * d, pts, j * d, d));
-          count[lab[j]]++;
-        }
-      }
-      if (count[lab[i]] == 0) {
-        continue; // singleton: s(i) = 0
-      }
-      double a = sum[lab[i]] / count[lab[i]];
-      double b = Double.POSITIVE_INFINITY;
-      for (int c = 0; c < k; c++) {
-        if (c != lab[i] && count[c] > 0) {
-          b = Math.min(b, sum[c] / count[c]);
-        }
-      }
-      total += (b - a) / Math.max(a, b);
+      System.arraycopy(pts, i * d, x[i], 0, d);
     }
-    return total / n;
+    return BruteForce.silhouette(x, lab, k);
   }
 
   static double dist2(double[] a, int ao, double[] b, int bo, int d) {
