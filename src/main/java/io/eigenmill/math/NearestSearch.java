@@ -1,0 +1,176 @@
+package io.eigenmill.math;
+
+/**
+ * Nearest (and optionally second-nearest) centroid of every row of a block, for several independent sets of
+ * centroids at once (one set per k-means run: all restarts and all k of a k-range are searched in the same pass).
+ *
+ * <p>Method: with the centroids of all runs as the columns of one {@code d x K} matrix C, one BLAS level-3 call
+ * {@code P = -2 X C} ({@code dgemm}) gives every cross term; the nearest centroid of row i within a run minimises
+ * {@code ||c_j||^2 - 2 x_i.c_j} over that run's columns (the row's own {@code ||x_i||^2} does not change the order).
+ * The expansion loses accuracy when distances are small against the norms, so it is used only to <em>choose</em>
+ * the centroid: the squared distances returned are recomputed exactly as sums of squared differences, and callers
+ * pass rows shifted by the data mean (so the norms measure the spread of the data, not its offset). A near-tie that
+ * rounding resolves the other way changes a row's cluster but no reported distance by more than the tie's width.
+ * Ties go to the lower centroid index.
+ *
+ * <p>Cost per chunk of r rows: 2 r d K flops in dgemm, r K comparisons, and 2 r d R flops (R runs) for the exact
+ * distances; memory r K doubles for P, allocated once. Not thread-safe; one instance per partition.
+ */
+public final class NearestSearch {
+  /** Upper bound on the doubles of the product matrix of one chunk (2 MiB). */
+  public static final int PRODUCT_BUDGET = 1 << 18;
+
+  private final int d;
+  private final int total;
+  private final double[] centroids;
+  private final double[] norms;
+  private final int[] offsets;
+  private final int runs;
+  private final int chunk;
+  private final boolean second;
+  private final double[] product;
+  private final double[] bestScore;
+  private final double[] secondScore;
+  private final int[] nearest;
+  private final int[] runnerUp;
+  private final double[] distance2;
+  private final double[] secondDistance2;
+
+  /**
+   * @param centroids column-major {@code d x K}: centroid j is {@code centroids[j*d .. j*d+d)}
+   * @param offsets run r owns centroids {@code offsets[r] .. offsets[r+1]-1}; each run owns at least one
+   * @param chunk the most rows one {@link #search} call may pass
+   * @param second also find the second-nearest centroid of each run
+   */
+  public NearestSearch(int d, double[] centroids, int[] offsets, int chunk, boolean second) {
+    this.d = d;
+    this.total = offsets[offsets.length - 1];
+    this.centroids = centroids;
+    this.offsets = offsets;
+    this.runs = offsets.length - 1;
+    this.chunk = chunk;
+    this.second = second;
+    this.norms = new double[total];
+    for (int j = 0; j < total; j++) {
+      double s = 0;
+      for (int l = 0; l < d; l++) {
+        double c = centroids[j * d + l];
+        s += c * c;
+      }
+      norms[j] = s;
+    }
+    this.product = new double[chunk * total];
+    this.bestScore = new double[chunk];
+    this.secondScore = new double[chunk];
+    this.nearest = new int[runs * chunk];
+    this.runnerUp = new int[second ? runs * chunk : 0];
+    this.distance2 = new double[runs * chunk];
+    this.secondDistance2 = new double[second ? runs * chunk : 0];
+  }
+
+  /** Rows per chunk so that the product of a chunk stays within {@link #PRODUCT_BUDGET}: in [16, maxRows]. */
+  public static int chunkRows(int centroids, int maxRows) {
+    return Math.max(1, Math.min(maxRows, Math.max(16, PRODUCT_BUDGET / Math.max(1, centroids))));
+  }
+
+  public int chunk() {
+    return chunk;
+  }
+
+  public int runs() {
+    return runs;
+  }
+
+  public int[] offsets() {
+    return offsets;
+  }
+
+  public int dimension() {
+    return d;
+  }
+
+  /**
+   * Searches {@code rows <= chunk()} rows of the column-major matrix {@code x} (row i, coordinate l at
+   * {@code x[xoff + i + l * ldx]}), already shifted like the centroids. {@code x} must hold at least
+   * {@code xoff + ldx * d} values: the BLAS binding checks the whole last column, not just the rows used.
+   */
+  public void search(double[] x, int xoff, int rows, int ldx) {
+    if (rows == 0) {
+      return;
+    }
+    Linalg.blas().dgemm("N", "N", rows, total, d, -2.0, x, xoff, ldx, centroids, 0, d, 0.0, product, 0, rows);
+    for (int r = 0; r < runs; r++) {
+      searchRun(r, rows);
+      int base = r * chunk;
+      for (int i = 0; i < rows; i++) {
+        distance2[base + i] = squaredDistance(x, xoff + i, ldx, centroids, nearest[base + i] * d, d);
+        if (second) {
+          int j = runnerUp[base + i];
+          secondDistance2[base + i] = j < 0 ? Double.NaN
+              : squaredDistance(x, xoff + i, ldx, centroids, j * d, d);
+        }
+      }
+    }
+  }
+
+  private void searchRun(int r, int rows) {
+    int base = r * chunk;
+    int first = offsets[r];
+    for (int i = 0; i < rows; i++) {
+      bestScore[i] = Double.POSITIVE_INFINITY;
+      secondScore[i] = Double.POSITIVE_INFINITY;
+      nearest[base + i] = first;
+      if (second) {
+        runnerUp[base + i] = -1;
+      }
+    }
+    for (int j = first; j < offsets[r + 1]; j++) {
+      int col = j * rows;
+      double norm = norms[j];
+      for (int i = 0; i < rows; i++) {
+        double s = product[col + i] + norm;
+        if (s < bestScore[i]) {
+          if (second) {
+            secondScore[i] = bestScore[i];
+            runnerUp[base + i] = bestScore[i] == Double.POSITIVE_INFINITY ? -1 : nearest[base + i];
+          }
+          bestScore[i] = s;
+          nearest[base + i] = j;
+        } else if (second && s < secondScore[i]) {
+          secondScore[i] = s;
+          runnerUp[base + i] = j;
+        }
+      }
+    }
+  }
+
+  /** Global index of the nearest centroid of row i within run r. */
+  public int nearest(int r, int i) {
+    return nearest[r * chunk + i];
+  }
+
+  /** Exact squared distance of row i to its nearest centroid of run r. */
+  public double distance2(int r, int i) {
+    return distance2[r * chunk + i];
+  }
+
+  /** Global index of the second-nearest centroid of row i within run r, or -1 when the run has one centroid. */
+  public int secondNearest(int r, int i) {
+    return runnerUp[r * chunk + i];
+  }
+
+  /** Exact squared distance to the second-nearest centroid, NaN when the run has one centroid. */
+  public double secondDistance2(int r, int i) {
+    return secondDistance2[r * chunk + i];
+  }
+
+  /** Sum over l of (x[xoff + l * ldx] - c[coff + l])^2. */
+  public static double squaredDistance(double[] x, int xoff, int ldx, double[] c, int coff, int d) {
+    double s = 0;
+    for (int l = 0; l < d; l++) {
+      double t = x[xoff + l * ldx] - c[coff + l];
+      s += t * t;
+    }
+    return s;
+  }
+}

@@ -1,0 +1,93 @@
+package io.eigenmill.spark;
+
+import io.eigenmill.jobs.ClusterResult;
+import java.util.ArrayList;
+import java.util.Arrays;
+import java.util.List;
+import org.apache.spark.sql.Dataset;
+import org.apache.spark.sql.Row;
+import org.apache.spark.sql.RowFactory;
+import org.apache.spark.sql.SparkSession;
+import org.apache.spark.sql.types.DataTypes;
+import org.apache.spark.sql.types.StructType;
+
+/** Builds the small tables of a clustering run from its result record (on the driver, one partition each). */
+public final class ClusterTables {
+  private ClusterTables() {}
+
+  /** {@code cluster}, one column per dimension, {@code orig_<feature>} per feature. */
+  public static Dataset<Row> centroids(SparkSession spark, ClusterResult r) {
+    StructType schema = new StructType().add("cluster", DataTypes.IntegerType, false);
+    for (String dim : r.dimensions()) {
+      schema = schema.add(dim, DataTypes.DoubleType, false);
+    }
+    for (String f : r.features()) {
+      schema = schema.add("orig_" + f, DataTypes.DoubleType, false);
+    }
+    List<Row> rows = new ArrayList<>();
+    for (int c = 0; c < r.k(); c++) {
+      Object[] v = new Object[1 + r.dimensions().size() + r.features().size()];
+      v[0] = c;
+      int at = 1;
+      for (double x : r.centroids()[c]) {
+        v[at++] = x;
+      }
+      for (double x : r.centroidsOriginal()[c]) {
+        v[at++] = x;
+      }
+      rows.add(RowFactory.create(v));
+    }
+    return spark.createDataFrame(rows, schema).coalesce(1);
+  }
+
+  /** One row per cluster and distinguishing feature. */
+  public static Dataset<Row> profiles(SparkSession spark, ClusterResult r) {
+    StructType schema = new StructType()
+        .add("cluster", DataTypes.IntegerType, false)
+        .add("size", DataTypes.LongType, false)
+        .add("share", DataTypes.DoubleType, false)
+        .add("rank", DataTypes.IntegerType, false)
+        .add("feature", DataTypes.StringType, false)
+        .add("cluster_mean", DataTypes.DoubleType, false)
+        .add("overall_mean", DataTypes.DoubleType, false)
+        .add("standardized_difference", DataTypes.DoubleType, false);
+    List<Row> rows = new ArrayList<>();
+    for (ClusterResult.Profile p : r.profiles()) {
+      int rank = 1;
+      for (ClusterResult.FeatureShift s : p.distinguishing()) {
+        rows.add(RowFactory.create(p.cluster(), p.size(), p.share(), rank++, s.feature(), s.clusterMean(),
+            s.overallMean(), s.standardizedDifference()));
+      }
+    }
+    return spark.createDataFrame(rows, schema).coalesce(1);
+  }
+
+  /**
+   * One row per k tried.
+   *
+   * @param sizes per entry of {@code r.selection()}, the cluster sizes of that k's best run
+   */
+  public static Dataset<Row> kSelection(SparkSession spark, ClusterResult r, List<long[]> sizes) {
+    StructType schema = new StructType()
+        .add("k", DataTypes.IntegerType, false)
+        .add("within_ss", DataTypes.DoubleType, false)
+        .add("silhouette", DataTypes.DoubleType, false)
+        .add("calinski_harabasz", DataTypes.DoubleType, false)
+        .add("davies_bouldin", DataTypes.DoubleType, false)
+        .add("chosen", DataTypes.BooleanType, false)
+        .add("sizes", DataTypes.createArrayType(DataTypes.LongType, false), false);
+    List<Row> rows = new ArrayList<>();
+    for (int i = 0; i < r.selection().size(); i++) {
+      ClusterResult.KScore s = r.selection().get(i);
+      long[] sorted = sizes.get(i).clone();
+      Arrays.sort(sorted);
+      Long[] descending = new Long[sorted.length];
+      for (int c = 0; c < sorted.length; c++) {
+        descending[c] = sorted[sorted.length - 1 - c];
+      }
+      rows.add(RowFactory.create(s.k(), s.withinSs(), s.silhouette(), s.calinskiHarabasz(), s.daviesBouldin(),
+          s.k() == r.k(), descending));
+    }
+    return spark.createDataFrame(rows, schema).coalesce(1);
+  }
+}
