@@ -76,11 +76,27 @@ public final class JobRunner {
     ScoringStage scoring = new ScoringStage(spark, plan, model, out);
     MonitorResult monitor = null;
     ScoreSample sample = null;
-    if (applied != null || settings.output().scores() || settings.cluster().enabled()) {
-      ScoringStage.Outcome scored = scoring.score(table, applied == null);
+    ScoringStage.Outcome scored = null;
+    boolean labelling = !settings.apply().centroids().isEmpty();
+    if (applied != null || settings.output().scores() || settings.cluster().enabled() || labelling) {
+      scored = scoring.score(table, applied == null);
       monitor = scored.monitor();
       sample = scored.sample();
       clock.lap("score");
+    }
+    ClusterStage clustering = new ClusterStage(spark, plan, model, out);
+    ClusterResult clusters = null;
+    if (settings.cluster().enabled()) {
+      ClusterOutcome outcome = clustering.cluster(table, scored);
+      clusters = outcome.result();
+      warnings.addAll(outcome.warnings());
+      sample = clustering.colour(sample, outcome);
+      clock.lap("cluster");
+    }
+    if (labelling) {
+      Map<Integer, Long> sizes = clustering.label(scored, settings.apply().centroids());
+      LOG.info("labels: rows per saved cluster {}", sizes);
+      clock.lap("label");
     }
     ReconstructionResult reconstruction = null;
     if (settings.output().reconstruction()) {
@@ -94,7 +110,7 @@ public final class JobRunner {
       clock.lap("drift");
     }
     timings.putAll(clock.timings());
-    return new RunResult(plan, fit, model, monitor, reconstruction, drift, null, sample, out.finalPath(), timings,
+    return new RunResult(plan, fit, model, monitor, reconstruction, drift, clusters, sample, out.finalPath(), timings,
         warnings, (System.nanoTime() - started) / 1e9);
   }
 }

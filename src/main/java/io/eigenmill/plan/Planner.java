@@ -278,6 +278,9 @@ public final class Planner {
     if (s.cluster().enabled()) {
       out.add("clusters/");
     }
+    if (!s.apply().centroids().isEmpty()) {
+      out.add("labels/");
+    }
     return out;
   }
 

@@ -17,7 +17,7 @@ import org.apache.spark.sql.SparkSession;
 
 /**
  * The passes of clustering over the cached {@link PointBlock}s. Each pass is one Spark job: every partition folds
- * its blocks into one buffer, buffers merge in a tree ({@code treeReduce}, depth 2). Executor code is explicit static
+ * its blocks into one buffer, buffers merge in partition order ({@link OrderedMerge}, repeatable bit for bit). Executor code is explicit static
  * classes; centroids travel in a broadcast destroyed after the pass. Rows are shifted by the data mean into one
  * scratch chunk per partition and handed to {@link NearestSearch} (BLAS level 3); no object is made per row.
  */
@@ -46,7 +46,7 @@ final class ClusterPasses {
       if (partials.getNumPartitions() == 0) {
         return new PointSummary(d, gram, sampleSize, firstStreams.length);
       }
-      PointSummary s = partials.treeReduce(new MergeSummaries(), 2);
+      PointSummary s = OrderedMerge.merge(partials, new MergeSummaries());
       progress.done(s.moments.count() + s.skipped);
       return s;
     }
@@ -61,7 +61,7 @@ final class ClusterPasses {
       if (partials.getNumPartitions() == 0) {
         return consumer.zero(table);
       }
-      return partials.treeReduce(new MergeBuffers<>(consumer), 2);
+      return OrderedMerge.merge(partials, new MergeBuffers<>(consumer));
     } finally {
       broadcast.destroy();
     }

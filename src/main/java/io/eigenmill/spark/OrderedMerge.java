@@ -23,22 +23,22 @@ final class OrderedMerge {
 
   private OrderedMerge() {}
 
-  static <A extends Serializable> PartialResult<A> merge(JavaRDD<PartialResult<A>> partials,
-      PartitionPasses.MergePartials<A> merge) {
+  static <T extends Serializable> T merge(JavaRDD<T> partials,
+      Function2<T, T, T> merge) {
     int p = partials.getNumPartitions();
-    List<PartialResult<A>> ordered;
+    List<T> ordered;
     if (p <= DIRECT) {
       ordered = partials.collect();
     } else {
       int fan = (int) Math.ceil(Math.sqrt(p));
-      JavaPairRDD<Integer, Tuple2<Integer, PartialResult<A>>> keyed = JavaPairRDD.fromJavaRDD(
-          partials.mapPartitionsWithIndex(new IndexPartials<A>(fan), true));
-      List<Tuple2<Integer, PartialResult<A>>> groups = keyed.groupByKey((p + fan - 1) / fan)
-          .mapValues(new MergeGroup<A>(merge)).collect();
-      List<Tuple2<Integer, PartialResult<A>>> sorted = new ArrayList<>(groups);
+      JavaPairRDD<Integer, Tuple2<Integer, T>> keyed = JavaPairRDD.fromJavaRDD(
+          partials.mapPartitionsWithIndex(new IndexPartials<T>(fan), true));
+      List<Tuple2<Integer, T>> groups = keyed.groupByKey((p + fan - 1) / fan)
+          .mapValues(new MergeGroup<T>(merge)).collect();
+      List<Tuple2<Integer, T>> sorted = new ArrayList<>(groups);
       sorted.sort((a, b) -> Integer.compare(a._1(), b._1()));
       ordered = new ArrayList<>();
-      for (Tuple2<Integer, PartialResult<A>> g : sorted) {
+      for (Tuple2<Integer, T> g : sorted) {
         ordered.add(g._2());
       }
     }
@@ -46,12 +46,12 @@ final class OrderedMerge {
   }
 
   /** Balanced pairwise merge of an ordered list. */
-  static <A extends Serializable> PartialResult<A> tree(List<PartialResult<A>> items,
-      Function2<PartialResult<A>, PartialResult<A>, PartialResult<A>> merge) {
-    List<PartialResult<A>> level = new ArrayList<>(items);
+  static <T extends Serializable> T tree(List<T> items,
+      Function2<T, T, T> merge) {
+    List<T> level = new ArrayList<>(items);
     try {
       while (level.size() > 1) {
-        List<PartialResult<A>> next = new ArrayList<>((level.size() + 1) / 2);
+        List<T> next = new ArrayList<>((level.size() + 1) / 2);
         for (int i = 0; i + 1 < level.size(); i += 2) {
           next.add(merge.call(level.get(i), level.get(i + 1)));
         }
@@ -67,8 +67,8 @@ final class OrderedMerge {
   }
 
   /** Tags each partition's single partial with its group (index / fan) and its partition index. */
-  static final class IndexPartials<A extends Serializable> implements Function2<Integer,
-      Iterator<PartialResult<A>>, Iterator<Tuple2<Integer, Tuple2<Integer, PartialResult<A>>>>> {
+  static final class IndexPartials<T extends Serializable> implements Function2<Integer,
+      Iterator<T>, Iterator<Tuple2<Integer, Tuple2<Integer, T>>>> {
     private static final long serialVersionUID = 1L;
     private final int fan;
 
@@ -77,9 +77,9 @@ final class OrderedMerge {
     }
 
     @Override
-    public Iterator<Tuple2<Integer, Tuple2<Integer, PartialResult<A>>>> call(Integer index,
-        Iterator<PartialResult<A>> it) {
-      List<Tuple2<Integer, Tuple2<Integer, PartialResult<A>>>> out = new ArrayList<>(1);
+    public Iterator<Tuple2<Integer, Tuple2<Integer, T>>> call(Integer index,
+        Iterator<T> it) {
+      List<Tuple2<Integer, Tuple2<Integer, T>>> out = new ArrayList<>(1);
       while (it.hasNext()) {
         out.add(new Tuple2<>(index / fan, new Tuple2<>(index, it.next())));
       }
@@ -87,22 +87,22 @@ final class OrderedMerge {
     }
   }
 
-  static final class MergeGroup<A extends Serializable> implements
-      Function<Iterable<Tuple2<Integer, PartialResult<A>>>, PartialResult<A>> {
+  static final class MergeGroup<T extends Serializable> implements
+      Function<Iterable<Tuple2<Integer, T>>, T> {
     private static final long serialVersionUID = 1L;
-    private final PartitionPasses.MergePartials<A> merge;
+    private final Function2<T, T, T> merge;
 
-    MergeGroup(PartitionPasses.MergePartials<A> merge) {
+    MergeGroup(Function2<T, T, T> merge) {
       this.merge = merge;
     }
 
     @Override
-    public PartialResult<A> call(Iterable<Tuple2<Integer, PartialResult<A>>> group) {
-      List<Tuple2<Integer, PartialResult<A>>> items = new ArrayList<>();
+    public T call(Iterable<Tuple2<Integer, T>> group) {
+      List<Tuple2<Integer, T>> items = new ArrayList<>();
       group.forEach(items::add);
       items.sort((a, b) -> Integer.compare(a._1(), b._1()));
-      List<PartialResult<A>> ordered = new ArrayList<>(items.size());
-      for (Tuple2<Integer, PartialResult<A>> t : items) {
+      List<T> ordered = new ArrayList<>(items.size());
+      for (Tuple2<Integer, T> t : items) {
         ordered.add(t._2());
       }
       return tree(ordered, merge);

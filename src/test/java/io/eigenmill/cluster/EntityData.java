@@ -48,7 +48,7 @@ final class EntityData {
     List<String> types = List.of("double", "double", "double");
     model = new PcaModel(PcaModel.FORMAT_VERSION, "test", features, types, "standardize", "covariance", 120,
         new double[] {50, 8, 300}, new double[] {10, 2, 100}, 2, loadings, new double[] {3, 1, 0.5}, true, 4.5,
-        PcaModel.fingerprint(features, types));
+        PcaModel.fingerprint(features, types), new double[] {10, 2, 100});
   }
 
   static String host(int h) {
