@@ -71,7 +71,7 @@ class ClusterRunTest extends SparkSuite {
     accessKey = "AK" + UUID.randomUUID().toString().replace("-", "").toUpperCase();
     secretSets = List.of("--set", "spark.conf.\"spark.hadoop.fs.s3a.secret.key\"=\"" + secretKey + "\"",
         "--set", "spark.conf.\"spark.hadoop.fs.s3a.access.key\"=" + accessKey);
-    submitted = c.submit(dir, "cluster-run", with(List.of(job.toString(), "--set",
+    submitted = c.submit("cluster-run", with(List.of(job.toString(), "--set",
         "output.path=\"" + clusterOut + "\""), secretSets));
     try {
       local = main(with(List.of("run", job.toString(), "--env", c.repo().resolve("conf/local.conf").toString(),

@@ -37,6 +37,8 @@ public final class LoopbackCluster implements ExtensionContext.Store.CloseableRe
       "/org/scalacheck/", "/org/scala-sbt/test-interface/", "/com/holdenkarau/", "/org/apache/hive/hive-common/",
       "/org/ejml/", "/org/apache/maven/surefire/", "/com/typesafe/config/");
 
+  private static final String QUICK_JVM = "-XX:+UseSerialGC -XX:TieredStopAtLevel=1";
+
   private final Path repo;
   private final Path base;
   private final Path state;
@@ -63,6 +65,7 @@ public final class LoopbackCluster implements ExtensionContext.Store.CloseableRe
   private void doStart() {
     ThinJar.assemble(repo.resolve("target/classes"), jar);
     deleteTree(sparkHome);
+    deleteTree(base.resolve("logs"));
     script(Duration.ofSeconds(60), "stop");
     Runtime.getRuntime().addShutdownHook(hook);
     Result r = script(START_LIMIT, "start");
@@ -88,18 +91,21 @@ public final class LoopbackCluster implements ExtensionContext.Store.CloseableRe
 
   /**
    * Submits {@code local-demo/cluster submit ARGS} as a child process whose stdout and stderr go to {@code
-   * logs/NAME.out} and {@code .err}. The script replaces itself with the driver JVM, so the child is the driver.
+   * target/cluster-test/logs/NAME.out} and {@code .err} (kept after the run for a look). The script replaces itself
+   * with the driver JVM, so the child is the driver.
    */
-  public Submission submit(Path logs, String name, List<String> args) {
+  public Submission submit(String name, List<String> args) {
     List<String> cmd = new ArrayList<>(List.of("bash", repo.resolve("local-demo/cluster").toString(), "submit"));
     cmd.addAll(args);
     ProcessBuilder pb = new ProcessBuilder(cmd).directory(repo.toFile());
     environment(pb.environment());
+    Path logs = base.resolve("logs");
     Path out = logs.resolve(name + ".out");
     Path err = logs.resolve(name + ".err");
-    pb.redirectOutput(out.toFile()).redirectError(err.toFile());
     List<Path> appsBefore = appDirs();
     try {
+      Files.createDirectories(logs);
+      pb.redirectOutput(out.toFile()).redirectError(err.toFile());
       return new Submission(pb.start(), out, err, appsBefore, this);
     } catch (IOException e) {
       throw new UncheckedIOException("cannot start " + cmd, e);
@@ -146,7 +152,7 @@ public final class LoopbackCluster implements ExtensionContext.Store.CloseableRe
   }
 
   /** Logs of the master and the workers. */
-  List<Path> daemonLogs() {
+  public List<Path> daemonLogs() {
     try (Stream<Path> files = Files.list(state)) {
       return files.filter(p -> p.getFileName().toString().endsWith(".log")).sorted().toList();
     } catch (IOException e) {
@@ -189,6 +195,9 @@ public final class LoopbackCluster implements ExtensionContext.Store.CloseableRe
     env.put("EIGENMILL_DRIVER_MEMORY", "1g");
     env.put("EIGENMILL_CLUSTER_WATCH_PID", Long.toString(ProcessHandle.current().pid()));
     env.put("JAVA_HOME", System.getProperty("java.home"));
+    // Short-lived JVMs on small data: the client compiler and a serial GC halve a job's wall time on two cores.
+    env.put("JAVA_OPTS", QUICK_JVM);
+    env.put("EIGENMILL_EXECUTOR_JAVA_OPTS", QUICK_JVM);
   }
 
   /** The jars of the test classpath that a Spark installation would have. */
@@ -237,7 +246,7 @@ public final class LoopbackCluster implements ExtensionContext.Store.CloseableRe
   }
 
   /** Deletes a folder tree without following symbolic links (the Spark home's jars are links into ~/.m2). */
-  static void deleteTree(Path root) {
+  public static void deleteTree(Path root) {
     if (!Files.exists(root, java.nio.file.LinkOption.NOFOLLOW_LINKS)) {
       return;
     }
@@ -251,7 +260,7 @@ public final class LoopbackCluster implements ExtensionContext.Store.CloseableRe
   }
 
   /** Polls {@code condition} every 20 ms for at most {@code limit}; false when it never held. */
-  static boolean poll(Duration limit, BooleanSupplier condition) {
+  public static boolean poll(Duration limit, BooleanSupplier condition) {
     long deadline = System.nanoTime() + limit.toNanos();
     while (System.nanoTime() < deadline) {
       if (condition.getAsBoolean()) {

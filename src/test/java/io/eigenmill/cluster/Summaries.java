@@ -27,9 +27,17 @@ public final class Summaries {
 
   public static JsonNode read(Path outputDir) {
     try {
-      return new ObjectMapper().readTree(Files.readString(outputDir.resolve("summary.json")));
+      return parse(Files.readAllBytes(outputDir.resolve("summary.json")));
     } catch (IOException e) {
       throw new UncheckedIOException("cannot read " + outputDir.resolve("summary.json"), e);
+    }
+  }
+
+  public static JsonNode parse(byte[] summaryJson) {
+    try {
+      return new ObjectMapper().readTree(summaryJson);
+    } catch (IOException e) {
+      throw new UncheckedIOException("summary.json is not JSON", e);
     }
   }
 
