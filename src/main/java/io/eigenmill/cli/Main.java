@@ -78,7 +78,8 @@ public final class Main {
     } catch (InvalidJobException e) {
       printProblems(e, err, secrets);
       return INVALID;
-    } catch (RuntimeException | Error e) {
+    } catch (Exception | Error e) {
+      // Exception, not only RuntimeException: Spark's AnalysisException is a checked exception thrown from Scala
       InvalidJobException cause = Sessions.userError(e);
       if (cause != null) {
         printProblems(cause, err, secrets);

@@ -42,10 +42,19 @@ public final class InputFiles {
   /** A file whose footer cannot be read and why (the reader's message, without the path). */
   public record Unreadable(String path, String reason) {}
 
-  /** The outcome of {@link #check}: how many Parquet files the input has and which of them cannot be read. */
-  public record Check(String input, int files, List<Unreadable> unreadable) {
+  /**
+   * The outcome of {@link #check}: the Parquet files of the input whose footers read ({@code readable}, in path
+   * order) and those that cannot be read.
+   */
+  public record Check(String input, List<String> readable, List<Unreadable> unreadable) {
     public Check {
+      readable = List.copyOf(readable);
       unreadable = List.copyOf(unreadable);
+    }
+
+    /** All Parquet files of the input, readable or not. */
+    public int files() {
+      return readable.size() + unreadable.size();
     }
 
     /**
@@ -60,7 +69,8 @@ public final class InputFiles {
     }
 
     String count() {
-      return String.format(Locale.ROOT, "%d of %d Parquet file%s", unreadable.size(), files, files == 1 ? "" : "s");
+      return String.format(Locale.ROOT, "%d of %d Parquet file%s", unreadable.size(), files(),
+          files() == 1 ? "" : "s");
     }
 
     String list() {
@@ -80,7 +90,7 @@ public final class InputFiles {
    */
   public static Check check(SparkSession spark, JobSettings.Input input) {
     if (input.format() != InputFormat.PARQUET) {
-      return new Check(input.path(), 0, List.of());
+      return new Check(input.path(), List.of(), List.of());
     }
     TableLoader.requireExists(spark, "input.path", input.path());
     Check check = scan(spark.sparkContext().hadoopConfiguration(), input.path());
@@ -95,6 +105,7 @@ public final class InputFiles {
   /** Lists the Parquet files under {@code path} and reads every footer; never throws for an unreadable file. */
   public static Check scan(Configuration conf, String path) {
     List<Path> files = list(conf, path);
+    List<String> readable = new ArrayList<>();
     List<Unreadable> unreadable = new ArrayList<>();
     ExecutorService pool = Executors.newFixedThreadPool(Math.max(1, Math.min(THREADS, files.size())), r -> {
       Thread t = new Thread(r, "eigenmill-footers");
@@ -108,7 +119,9 @@ public final class InputFiles {
       }
       for (int i = 0; i < files.size(); i++) {
         String reason = reasons.get(i).get();
-        if (reason != null) {
+        if (reason == null) {
+          readable.add(files.get(i).toString());
+        } else {
           unreadable.add(new Unreadable(files.get(i).toString(), reason));
         }
       }
@@ -120,7 +133,7 @@ public final class InputFiles {
     } finally {
       pool.shutdownNow();
     }
-    return new Check(path, files.size(), unreadable);
+    return new Check(path, readable, unreadable);
   }
 
   /** Null when the footer reads; otherwise why not. */

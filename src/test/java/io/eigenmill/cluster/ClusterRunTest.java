@@ -22,6 +22,7 @@ import java.util.UUID;
 import java.util.stream.Stream;
 import org.junit.jupiter.api.AfterAll;
 import org.junit.jupiter.api.BeforeAll;
+import org.junit.jupiter.api.Tag;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.extension.ExtendWith;
 
@@ -30,6 +31,7 @@ import org.junit.jupiter.api.extension.ExtendWith;
  * the numbers and the tables of the same job run in local mode in this JVM; and secrets passed on its command line
  * appear nowhere: not in the driver's output, the executors' or daemons' logs, the plan, or the written files.
  */
+@Tag("cluster")
 @ExtendWith(SharedCluster.class)
 class ClusterRunTest extends SparkSuite {
   private static final int ROWS = 4000;
@@ -68,7 +70,7 @@ class ClusterRunTest extends SparkSuite {
     clusterOut = dir.resolve("out-cluster");
     localOut = dir.resolve("out-local");
     secretKey = "sk-" + UUID.randomUUID();
-    accessKey = "AK" + UUID.randomUUID().toString().replace("-", "").toUpperCase();
+    accessKey = "AK" + UUID.randomUUID().toString().replace("-", "").toUpperCase(java.util.Locale.ROOT);
     secretSets = List.of("--set", "spark.conf.\"spark.hadoop.fs.s3a.secret.key\"=\"" + secretKey + "\"",
         "--set", "spark.conf.\"spark.hadoop.fs.s3a.access.key\"=" + accessKey);
     submitted = c.submit("cluster-run", with(List.of(job.toString(), "--set",

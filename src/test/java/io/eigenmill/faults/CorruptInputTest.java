@@ -144,6 +144,7 @@ class CorruptInputTest extends SparkSuite {
   void aSoundInputHasNoUnreadableFiles() {
     InputFiles.Check check = InputFiles.scan(spark.sparkContext().hadoopConfiguration(), table.toString());
     assertEquals(FILES, check.files(), "the data files written by this test (not _SUCCESS, not .crc)");
+    assertEquals(FILES, check.readable().size(), "every one of them is readable");
     assertTrue(check.unreadable().isEmpty(), check.unreadable().toString());
     assertEquals("", check.skipWarning());
   }

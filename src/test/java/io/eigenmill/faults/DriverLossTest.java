@@ -26,6 +26,7 @@ import java.util.Set;
 import java.util.stream.Stream;
 import org.junit.jupiter.api.AfterAll;
 import org.junit.jupiter.api.BeforeAll;
+import org.junit.jupiter.api.Tag;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.extension.ExtendWith;
 
@@ -34,9 +35,10 @@ import org.junit.jupiter.api.extension.ExtendWith;
  * staging folder beside {@code output.path}, and nothing of them reaches {@code output.path}: a previous complete
  * result there is left exactly as it was. The cluster gives the dead driver's executors back, and a rerun succeeds.
  */
+@Tag("cluster")
 @ExtendWith(SharedCluster.class)
 class DriverLossTest extends SparkSuite {
-  private static final int ROWS = 12_000;
+  private static final int ROWS = 6_000;
   private static final String REFERENCE = "the local[2] run of the same job in this JVM (Main.run)";
 
   private static Path dir;
@@ -46,7 +48,7 @@ class DriverLossTest extends SparkSuite {
   static void fleetTable() throws IOException {
     dir = Files.createTempDirectory("eigenmill-driver-loss-");
     Path table = dir.resolve("fleet");
-    FleetTables.write(spark, table, ROWS, 40, 31);
+    FleetTables.write(spark, table, ROWS, 24, 31);
     job = dir.resolve("fleet-fit.conf");
     Files.writeString(job, String.join("\n",
         "input.path = \"" + table + "\"",

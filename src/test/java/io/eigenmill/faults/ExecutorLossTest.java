@@ -25,6 +25,7 @@ import java.util.regex.Matcher;
 import java.util.regex.Pattern;
 import org.junit.jupiter.api.AfterAll;
 import org.junit.jupiter.api.BeforeAll;
+import org.junit.jupiter.api.Tag;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.extension.ExtendWith;
 
@@ -34,6 +35,7 @@ import org.junit.jupiter.api.extension.ExtendWith;
  * and since each partition's partial is a pure function of its rows, no row is counted twice: the numbers equal an
  * undisturbed run.
  */
+@Tag("cluster")
 @ExtendWith(SharedCluster.class)
 class ExecutorLossTest extends SparkSuite {
   private static final int ROWS = 24_000;
