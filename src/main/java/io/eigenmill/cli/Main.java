@@ -62,11 +62,11 @@ public final class Main {
       JobSettings settings = new SettingsReader().read(a.jobFile(), a.sets(), a.envFile());
       secrets.addAll(Redaction.secretValues(settings.spark().conf()));
       spark = Sessions.open(settings);
-      InputFiles.Check input = InputFiles.check(spark, settings.input());
-      if (!input.skipWarning().isEmpty()) {
-        out.println(Redaction.scrub("warning: " + input.skipWarning(), secrets));
-      }
       if (a.command().equals("plan")) {
+        InputFiles.Check input = InputFiles.check(spark, settings.input());
+        if (!input.skipWarning().isEmpty()) {
+          out.println(Redaction.scrub("warning: " + input.skipWarning(), secrets));
+        }
         JobPlan plan = JobRunner.plan(spark, settings);
         out.print(Redaction.scrub(plan.describe() + sparkLine(settings), secrets));
         out.println("plan is valid; nothing was computed (" + Linalg.describe() + ")");
