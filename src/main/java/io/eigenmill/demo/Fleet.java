@@ -36,6 +36,8 @@ final class Fleet {
   final double[] storeFillPct;
   final double[] storePhase;
   final double[] ntpBiasMs;
+  /** Interval of the day (0-287) at which the host's cache process restarts every day. */
+  final int[] restartInterval;
   /** The fault of each host, or null; its window is [faultStart, faultEnd). */
   final Fault[] fault;
   final long[] faultStart;
@@ -55,6 +57,7 @@ final class Fleet {
     storeFillPct = new double[hosts];
     storePhase = new double[hosts];
     ntpBiasMs = new double[hosts];
+    restartInterval = new int[hosts];
     fault = new Fault[hosts];
     faultStart = new long[hosts];
     faultEnd = new long[hosts];
@@ -108,6 +111,7 @@ final class Fleet {
       storeFillPct[h] = noise.uniform(70, 90);
       storePhase[h] = noise.uniform(0, 2 * Math.PI);
       ntpBiasMs[h] = noise.gaussian(0, 0.8);
+      restartInterval[h] = noise.below(TelemetryModel.INTERVALS_PER_DAY);
     }
   }
 

@@ -4,7 +4,9 @@ import java.io.PrintStream;
 import java.time.LocalDate;
 import java.time.format.DateTimeParseException;
 import java.util.ArrayList;
+import java.util.LinkedHashMap;
 import java.util.List;
+import java.util.Map;
 import org.apache.spark.SparkContext;
 import org.apache.spark.api.java.JavaRDD;
 import org.apache.spark.rdd.RDD;
@@ -36,7 +38,7 @@ import org.apache.spark.sql.types.StructType;
  * so the same spec gives the same rows for any partition count or core count.
  *
  * <p>Cost: one pass, O(rows x columns), no shuffle; writing sorts each task's rows by date (Spark's partitioned
- * writer), which costs memory of one task's rows. Measured: see the design notes of the demo.
+ * writer), which costs memory of one task's rows. Measured speeds are in the package notes ({@code package-info}).
  */
 public final class FleetTelemetryGenerator {
   /** Key and label columns, in order, before the metrics. */
@@ -56,7 +58,8 @@ public final class FleetTelemetryGenerator {
    * @param rows exact row count, at least 1
    * @param seed the seed every random value derives from
    * @param extraMetrics extra double columns {@code x_0001 ..}, 0 to {@value #MAX_EXTRA_METRICS}
-   * @param partitions Spark partitions of the generated Dataset (and files per day when written), at least 1
+   * @param partitions Spark partitions of the generated Dataset, at least 1; when written, each writes one file per
+   *     day it covers
    * @param startDate the first day, yyyy-MM-dd; the first row is at its midnight UTC
    */
   public record FleetSpec(long rows, long seed, int extraMetrics, int partitions, String startDate) {
@@ -168,6 +171,15 @@ public final class FleetTelemetryGenerator {
     return names;
   }
 
+  /** The unit of each base metric, by column name, in column order (for the report's axes and tables). */
+  public static Map<String, String> metricUnits() {
+    Map<String, String> units = new LinkedHashMap<>();
+    for (Metric m : Metric.ALL) {
+      units.put(m.column, m.unit);
+    }
+    return units;
+  }
+
   /** The names of the injected faults, as they appear in the {@code fault} column. */
   public static List<String> faultNames() {
     List<String> names = new ArrayList<>();
@@ -208,7 +220,7 @@ public final class FleetTelemetryGenerator {
     String description = sc.getLocalProperty("spark.job.description");
     RuntimeConfig conf = spark.conf();
     boolean wide = spec.columns() > WIDE_COLUMNS;
-    String factoryMode = conf.getOption(CODEGEN_FACTORY_MODE).getOrElse(() -> null);
+    String factoryMode = conf.contains(CODEGEN_FACTORY_MODE) ? conf.get(CODEGEN_FACTORY_MODE) : null;
     sc.setJobDescription("eigenmill demo: " + spec.rows() + " fleet telemetry rows x " + spec.columns()
         + " columns to " + path);
     if (wide) {

@@ -17,7 +17,7 @@ record GeneratorArguments(String out, FleetSpec spec, String master) {
       "--start-date", "--master");
   static final int MAX_PARTITIONS = 1_000_000;
   static final String USAGE = "usage: FleetTelemetryGenerator --out PATH [--rows N] [--seed S] [--extra-metrics M]"
-      + " [--partitions P] [--master M]\n"
+      + " [--partitions P] [--start-date yyyy-MM-dd] [--master M]\n"
       + "  N, M, P accept 2000000, 2_000_000, 2e6 or 2m; defaults: rows 120000, seed 20261201, extra-metrics 0,"
       + " partitions 8, master local[*]";
 
@@ -72,7 +72,9 @@ record GeneratorArguments(String out, FleetSpec spec, String master) {
     if (m.startsWith("local")) {
       b = b.config("spark.driver.host", "127.0.0.1").config("spark.driver.bindAddress", "127.0.0.1");
     }
-    return b.getOrCreate();
+    SparkSession spark = b.getOrCreate();
+    spark.sparkContext().setLogLevel("WARN"); // the one line this tool prints should not drown in progress logs
+    return spark;
   }
 
   /** A whole number in [min, max], written as described in the class comment. */

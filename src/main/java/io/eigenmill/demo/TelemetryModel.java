@@ -11,22 +11,25 @@ import java.util.Arrays;
  * <p>The latent drivers are: the host's demand (its workload's daily curve in the region's local time, weekend
  * effect, region-wide live events, fleet-wide software release days, a smooth hourly jitter per host and the host's
  * popularity); the workload (object size, cacheability, connection habits); the hardware generation (capacity, CPU
- * cost, disk speed, idle power, fan base speed); and thermal coupling (CPU temperature follows CPU load, fans follow
- * CPU temperature, power follows load and fans, exhaust follows power over airflow). Faults override a few metrics
- * and propagate through the same couplings. Six standardised summaries of the row ({@link #factors}) drive the
- * extra metrics.
+ * cost, disk speed, idle power, fan base speed); thermal coupling (CPU temperature follows CPU load and the machine
+ * room, fans follow CPU temperature, power follows load and fans, exhaust follows power over airflow); a smooth
+ * machine-room temperature wander and a peering congestion per region; and a daily memory sawtooth per host (the
+ * cache process restarts once a day). Faults override a few metrics and propagate through the same couplings. Six
+ * standardised summaries of the row ({@link #factors}) drive the extra metrics.
  *
- * <p>Missing cells: inlet temperature (0.3 %), NVMe temperature (0.8 %) and fan 4 (0.5 %) drop out independently;
+ * <p>Missing cells: inlet temperature (0.4 %), NVMe temperature (0.7 %) and fan 4 (0.5 %) drop out independently;
  * PSU efficiency reads NaN with probability 2e-4.
  *
- * <p>Cost: about 80 random draws and a few transcendental calls per row; no allocation per row. One instance per task.
+ * <p>Cost: about 90 random draws and a few transcendental calls per row (about 2 microseconds on one core); no
+ * allocation per row. One instance per task.
  */
 final class TelemetryModel {
   static final int FACTORS = 6;
   static final int MINUTES_PER_INTERVAL = 5;
   static final int INTERVALS_PER_HOUR = 12;
-  static final double INLET_DROPOUT = 0.003;
-  static final double NVME_DROPOUT = 0.008;
+  static final int INTERVALS_PER_DAY = 288;
+  static final double INLET_DROPOUT = 0.004;
+  static final double NVME_DROPOUT = 0.007;
   static final double FAN_DROPOUT = 0.005;
   static final double PSU_NAN = 2e-4;
 
@@ -34,6 +37,8 @@ final class TelemetryModel {
   private static final long JITTER_STREAM = 22;
   private static final long LIVE_EVENT_STREAM = 23;
   private static final long RELEASE_STREAM = 24;
+  private static final long ROOM_STREAM = 25;
+  private static final long CONGESTION_STREAM = 26;
   private static final double KPPS_PER_GBPS = 1e6 / 8 / 1448;
   private static final double MAX_FAN_RPM = 16500;
 
@@ -51,8 +56,14 @@ final class TelemetryModel {
   private final double[] fans = new double[Fleet.FANS];
 
   // intermediate quantities of the row being computed
+  /** Local hour of the day (fractional) at the interval of the last {@link #demandAt} call. */
   private double localHour;
+  /** Local hour of the row being computed. */
   private double rowHour;
+  /** Machine-room temperature wander of the host's region, standard normal, smooth over hours. */
+  private double roomWander;
+  /** Peering congestion of the host's region, >= 0, mostly 0, smooth over hours. */
+  private double congestion;
   private double demand;
   private double tx;
   private double req;
@@ -83,6 +94,10 @@ final class TelemetryModel {
     double busyBefore3 = expectedBusy(w, hw, demandAt(host, interval - 3));
     double base = demandAt(host, interval);
     rowHour = localHour;
+    int region = fleet.region[host].ordinal();
+    roomWander = smooth(ROOM_STREAM, region, interval);
+    double c = Math.max(0, smooth(CONGESTION_STREAM, region, interval) - 0.5);
+    congestion = c * c;
     noise.reset(NoiseSource.key(seed, ROW_STREAM, host, interval));
     Arrays.fill(missing, false);
     demand = clamp(base * (1 + 0.04 * noise.gaussian()), 0.03, 1.8);
@@ -90,7 +105,7 @@ final class TelemetryModel {
     long connections = network(host, w, f);
     disk(w, hw, f);
     processor(w, hw, f, connections, busyBefore1, busyBefore3);
-    memory(w, hw, connections);
+    memory(host, interval, w, hw, connections);
     http(f);
     thermal(host, hw, f);
     dropouts();
@@ -99,7 +114,7 @@ final class TelemetryModel {
   }
 
   /** The host's demand at an interval without per-row noise (also used for the load averages' history). */
-  double demandAt(int host, long interval) {
+  private double demandAt(int host, long interval) {
     Region r = fleet.region[host];
     Workload w = fleet.workload[host];
     long localMinutes = startEpochDay * 1440 + interval * MINUTES_PER_INTERVAL + r.utcOffsetMinutes;
@@ -109,7 +124,7 @@ final class TelemetryModel {
     if (Math.floorMod(localDay + 3, 7) >= 5) {
       d *= w.weekend; // epoch day 0 was a Thursday: +3 makes Monday 0, so 5 and 6 are the weekend
     }
-    d *= 1 + 0.08 * jitter(host, interval);
+    d *= 1 + 0.08 * smooth(JITTER_STREAM, host, interval);
     if (w == Workload.LIVE_STREAMING) {
       d *= liveEvent(r, Math.floorDiv(interval, INTERVALS_PER_HOUR));
     } else if (w == Workload.SOFTWARE_DOWNLOADS) {
@@ -119,13 +134,15 @@ final class TelemetryModel {
   }
 
   private void traffic(int host, long interval, Workload w, Hardware hw, Fault f) {
-    tx = w.txPeakGbps * hw.txScale * demand * (1 + 0.03 * noise.gaussian());
-    if (f == Fault.NETWORK_ERRORS) {
-      tx *= noise.uniform(0.45, 0.65);
-    }
-    tx = Math.min(tx, hw.nicGbps * 0.97);
+    tx = Math.min(w.txPeakGbps * hw.txScale * demand * (1 + 0.03 * noise.gaussian()), hw.nicGbps * 0.97);
     double objectKib = w.objectKib * Math.exp(0.08 * noise.gaussian());
     req = tx * 1e9 / 8 / (objectKib * 1024);
+    if (f == Fault.NETWORK_ERRORS) {
+      // the same requests arrive, but clients fall back to lower bit rates and abort slow transfers
+      double kept = noise.uniform(0.45, 0.65);
+      tx *= kept;
+      objectKib *= kept;
+    }
     hit = clamp(w.hitRatio - 0.015 * demand + 0.006 * noise.gaussian(), 0.3, 0.999);
     ramHit = clamp(w.ramHitShare + 0.03 * noise.gaussian(), 0.02, 0.98);
     if (f == Fault.CACHE_DEGRADATION) {
@@ -145,7 +162,7 @@ final class TelemetryModel {
     put(BYTES_SERVED, tx * (1 + 0.02 * noise.gaussian()) * 300 / 8 / 1.073741824);
     put(EVICTIONS, originRequests * noise.uniform(0.85, 1.05));
     put(CACHE_OBJECTS, w.objectsMillions * hw.txScale * fill / 80 * (1 + 0.01 * noise.gaussian()));
-    double wave = 2 * Math.sin(2 * Math.PI * interval / (288.0 * 3) + fleet.storePhase[host]);
+    double wave = 2 * Math.sin(2 * Math.PI * interval / (3.0 * INTERVALS_PER_DAY) + fleet.storePhase[host]);
     put(STORE_USED, Math.min(99, fill + wave + 0.3 * noise.gaussian()));
   }
 
@@ -154,8 +171,8 @@ final class TelemetryModel {
     double rx = origin + tx * 0.025 * (1 + 0.05 * noise.gaussian());
     double rxKpps = txKpps * 0.45 + rx * KPPS_PER_GBPS * (1 + 0.02 * noise.gaussian());
     boolean broken = f == Fault.NETWORK_ERRORS;
-    double retransmit = broken ? noise.uniform(3, 12)
-        : fleet.region[host].retransmitPct * Math.exp(0.25 * noise.gaussian()) * (1 + 0.3 * demand);
+    double retransmit = fleet.region[host].retransmitPct * Math.exp(0.25 * noise.gaussian())
+        * (1 + 0.3 * demand + 3 * congestion) + (broken ? noise.uniform(4, 12) : 0);
     double drops = broken ? noise.uniform(200, 2000)
         : 0.3 * Math.abs(noise.gaussian()) + Math.max(0, rxKpps - 2000) * 0.01;
     double conns = (req * w.keepaliveSeconds * (1 + 0.05 * noise.gaussian()) + 400)
@@ -213,15 +230,19 @@ final class TelemetryModel {
     put(CONTEXT_SWITCHES, req * 0.004 + connections * 0.0008 + 5 + 0.5 * noise.gaussian());
   }
 
-  private void memory(Workload w, Hardware hw, long connections) {
-    double used = clamp(w.memUsedPct + 5 * demand + 0.6 * noise.gaussian(), 5, 99.5);
-    double pageCache = hw.ramGib * w.pageCacheShare * (1 + 0.1 * demand) * (1 + 0.01 * noise.gaussian());
+  /** Memory follows demand and a daily sawtooth: the cache process restarts once a day at a host-specific hour. */
+  private void memory(int host, long interval, Workload w, Hardware hw, long connections) {
+    double age = Math.floorMod(interval - fleet.restartInterval[host], INTERVALS_PER_DAY) / (double) INTERVALS_PER_DAY;
+    double used = clamp(w.memUsedPct + 5 * demand + 10 * (age - 0.5) + 0.6 * noise.gaussian(), 5, 99.5);
+    double pageCache = hw.ramGib * w.pageCacheShare * (1 + 0.1 * demand) * (1.15 - 0.3 * age)
+        * (1 + 0.01 * noise.gaussian());
     double swapBase = hw == Hardware.GEN_A ? 180 : 8;
+    double warmUp = 40 * Math.exp(-age * INTERVALS_PER_DAY / 3.0); // cold page cache right after a restart
     put(MEM_USED, used);
     put(PAGE_CACHE, pageCache);
     put(MEM_AVAILABLE, hw.ramGib * (1 - used / 100) + 0.8 * pageCache * (1 + 0.02 * noise.gaussian()));
-    put(SWAP_USED, swapBase * Math.exp(0.5 * noise.gaussian()) + Math.max(0, used - 95) * 300);
-    put(MAJOR_FAULTS, get(DISK_READ) * (1 - w.pageCacheShare) * 0.02 + 0.5 * Math.abs(noise.gaussian()));
+    put(SWAP_USED, swapBase * (0.3 + 1.4 * age) * Math.exp(0.5 * noise.gaussian()) + Math.max(0, used - 95) * 300);
+    put(MAJOR_FAULTS, get(DISK_READ) * (1 - w.pageCacheShare) * 0.02 + warmUp + 0.5 * Math.abs(noise.gaussian()));
     put(OPEN_FILES, Math.rint(12000 + 1.05 * connections + 200 * noise.gaussian()));
   }
 
@@ -246,7 +267,7 @@ final class TelemetryModel {
     Region r = fleet.region[host];
     boolean fanFault = f == Fault.FAILING_FAN;
     double inlet = r.ambientC + fleet.inletOffsetC[host] + 0.8 * Math.cos(2 * Math.PI * (rowHour - 15) / 24)
-        + 0.25 * noise.gaussian();
+        + 1.5 * roomWander + 0.25 * noise.gaussian();
     double cpuTemp = inlet + hw.thermal * (14 + 40 * busy) + 0.8 * noise.gaussian()
         + (fanFault ? noise.uniform(11, 16) : 0);
     double target = hw.fanBaseRpm * (1 + 0.035 * Math.max(0, cpuTemp - 50));
@@ -318,13 +339,17 @@ final class TelemetryModel {
     return hw.cpuCost * (req / 1000 * w.cpuPerKiloRequest + tx * 1.4) + 1.5;
   }
 
-  private double jitter(int host, long interval) {
+  /**
+   * Smooth noise: standard normal knots every hour, keyed by (stream, who, hour), blended with a smoothstep. Costs
+   * two draws; leaves the noise source reset, so call it before the row's own stream is started.
+   */
+  private double smooth(long stream, long who, long interval) {
     long k = Math.floorDiv(interval, INTERVALS_PER_HOUR);
     double t = (interval - k * INTERVALS_PER_HOUR) / (double) INTERVALS_PER_HOUR;
     double s = t * t * (3 - 2 * t);
-    noise.reset(NoiseSource.key(seed, JITTER_STREAM, host, k));
+    noise.reset(NoiseSource.key(seed, stream, who, k));
     double g0 = noise.gaussian();
-    noise.reset(NoiseSource.key(seed, JITTER_STREAM, host, k + 1));
+    noise.reset(NoiseSource.key(seed, stream, who, k + 1));
     double g1 = noise.gaussian();
     return g0 + (g1 - g0) * s;
   }
