@@ -1,0 +1,282 @@
+package io.eigenmill.demo;
+
+import java.io.PrintStream;
+import java.time.LocalDate;
+import java.time.format.DateTimeParseException;
+import java.util.ArrayList;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
+import org.apache.spark.SparkContext;
+import org.apache.spark.api.java.JavaRDD;
+import org.apache.spark.rdd.RDD;
+import org.apache.spark.sql.DataFrameWriter;
+import org.apache.spark.sql.Dataset;
+import org.apache.spark.sql.Row;
+import org.apache.spark.sql.RuntimeConfig;
+import org.apache.spark.sql.SaveMode;
+import org.apache.spark.sql.SparkSession;
+import org.apache.spark.sql.catalyst.InternalRow;
+import org.apache.spark.sql.types.DataType;
+import org.apache.spark.sql.types.DataTypes;
+import org.apache.spark.sql.types.StructField;
+import org.apache.spark.sql.types.StructType;
+
+/**
+ * The demo data: an invented telemetry table of a fleet of edge cache servers in five regions, one row per host per
+ * 5-minute interval, generated deterministically from a seed.
+ *
+ * <p>Columns: the keys {@code host}, {@code region}, {@code workload}, {@code ts} (UTC instants, 5-minute steps from
+ * midnight UTC of the start date), {@code date} (the UTC day, yyyy-MM-dd, the partition column when written) and
+ * {@code fault} (null on healthy rows, else the injected fault's name: a label, never a feature); then 62 metrics
+ * (doubles, plus {@code open_files}, {@code tcp_syn_backlog}, {@code worker_threads_busy} as int,
+ * {@code tcp_connections} as long and {@code cpu_freq_ghz} as float); then {@code extraMetrics} doubles
+ * {@code x_0001 ..}. See {@link TelemetryModel} for the latent factors, faults and missing cells.
+ *
+ * <p>Size: {@link #hostsFor} hosts (240 for the default 120,000 rows), ceil(rows / hosts) intervals, cut to exactly
+ * {@code rows}. Determinism: row r is host r % hosts at interval r / hosts, a pure function of (seed, host, interval),
+ * so the same spec gives the same rows for any partition count or core count.
+ *
+ * <p>Cost: one pass, O(rows x columns), no shuffle; writing sorts each task's rows by date (Spark's partitioned
+ * writer), which costs memory of one task's rows. Measured speeds are in the package notes ({@code package-info}).
+ */
+public final class FleetTelemetryGenerator {
+  /** Key and label columns, in order, before the metrics. */
+  public static final List<String> KEY_COLUMNS = List.of("host", "region", "workload", "ts", "date", "fault");
+
+  /** Above this many columns, {@link #write} uses interpreted projections. */
+  public static final int WIDE_COLUMNS = 1000;
+
+  private static final List<String> DICTIONARY_COLUMNS = List.of("host", "region", "workload", "fault");
+  private static final String CODEGEN_FACTORY_MODE = "spark.sql.codegen.factoryMode";
+
+  private FleetTelemetryGenerator() {}
+
+  /**
+   * What to generate.
+   *
+   * @param rows exact row count, at least 1
+   * @param seed the seed every random value derives from
+   * @param extraMetrics extra double columns {@code x_0001 ..}, 0 to {@value #MAX_EXTRA_METRICS}
+   * @param partitions Spark partitions of the generated Dataset, at least 1; when written, each writes one file per
+   *     day it covers
+   * @param startDate the first day, yyyy-MM-dd; the first row is at its midnight UTC
+   */
+  public record FleetSpec(long rows, long seed, int extraMetrics, int partitions, String startDate) {
+    public static final int MAX_EXTRA_METRICS = 100_000;
+
+    public FleetSpec {
+      List<String> problems = new ArrayList<>();
+      if (rows < 1) {
+        problems.add("rows = " + rows + ": must be at least 1");
+      }
+      if (extraMetrics < 0 || extraMetrics > MAX_EXTRA_METRICS) {
+        problems.add("extraMetrics = " + extraMetrics + ": must be between 0 and " + MAX_EXTRA_METRICS);
+      }
+      if (partitions < 1) {
+        problems.add("partitions = " + partitions + ": must be at least 1");
+      }
+      try {
+        LocalDate.parse(String.valueOf(startDate));
+      } catch (DateTimeParseException e) {
+        problems.add("startDate = " + startDate + ": must be a date written yyyy-MM-dd");
+      }
+      if (!problems.isEmpty()) {
+        throw new IllegalArgumentException(String.join("; ", problems));
+      }
+    }
+
+    /** 120,000 rows (240 hosts over 500 intervals), seed 20261201, no extra metrics, 8 partitions, 2026-11-02. */
+    public static FleetSpec defaults() {
+      return new FleetSpec(120_000, 20261201L, 0, 8, "2026-11-02");
+    }
+
+    public FleetSpec withRows(long newRows) {
+      return new FleetSpec(newRows, seed, extraMetrics, partitions, startDate);
+    }
+
+    public FleetSpec withSeed(long newSeed) {
+      return new FleetSpec(rows, newSeed, extraMetrics, partitions, startDate);
+    }
+
+    public FleetSpec withExtraMetrics(int newExtraMetrics) {
+      return new FleetSpec(rows, seed, newExtraMetrics, partitions, startDate);
+    }
+
+    public FleetSpec withPartitions(int newPartitions) {
+      return new FleetSpec(rows, seed, extraMetrics, newPartitions, startDate);
+    }
+
+    public int hosts() {
+      return hostsFor(rows);
+    }
+
+    /** ceil(rows / hosts). */
+    public long intervals() {
+      int h = hosts();
+      return (rows + h - 1) / h;
+    }
+
+    public int columns() {
+      return KEY_COLUMNS.size() + Metric.COUNT + extraMetrics;
+    }
+  }
+
+  /**
+   * The host count for a size: round(sqrt(0.48 rows)), so the fleet and the time span grow together (240 hosts over
+   * 500 intervals for 120,000 rows; 980 over 2,041 for 2,000,000), at least 12 (fewer only when rows < 12), at most
+   * 100,000.
+   */
+  public static int hostsFor(long rows) {
+    long h = Math.round(Math.sqrt(0.48 * rows));
+    return (int) Math.max(1, Math.min(rows, Math.min(100_000, Math.max(12, h))));
+  }
+
+  /** The table's schema: keys, base metrics, then the extra metrics. */
+  public static StructType schema(int extraMetrics) {
+    List<StructField> fields = new ArrayList<>();
+    fields.add(DataTypes.createStructField("host", DataTypes.StringType, false));
+    fields.add(DataTypes.createStructField("region", DataTypes.StringType, false));
+    fields.add(DataTypes.createStructField("workload", DataTypes.StringType, false));
+    fields.add(DataTypes.createStructField("ts", DataTypes.TimestampType, false));
+    fields.add(DataTypes.createStructField("date", DataTypes.StringType, false));
+    fields.add(DataTypes.createStructField("fault", DataTypes.StringType, true));
+    for (Metric m : Metric.ALL) {
+      fields.add(DataTypes.createStructField(m.column, sparkType(m.kind), m.dropsOut));
+    }
+    for (int j = 0; j < extraMetrics; j++) {
+      fields.add(DataTypes.createStructField(ExtraMetrics.name(j, extraMetrics), DataTypes.DoubleType, false));
+    }
+    return DataTypes.createStructType(fields);
+  }
+
+  private static DataType sparkType(Metric.Kind kind) {
+    return switch (kind) {
+      case DOUBLE -> DataTypes.DoubleType;
+      case FLOAT -> DataTypes.FloatType;
+      case INT -> DataTypes.IntegerType;
+      case LONG -> DataTypes.LongType;
+    };
+  }
+
+  /** The numeric columns (base metrics, then extra metrics): the features of a fit on this table. */
+  public static List<String> metricColumns(int extraMetrics) {
+    List<String> names = new ArrayList<>(Metric.COUNT + extraMetrics);
+    for (Metric m : Metric.ALL) {
+      names.add(m.column);
+    }
+    for (int j = 0; j < extraMetrics; j++) {
+      names.add(ExtraMetrics.name(j, extraMetrics));
+    }
+    return names;
+  }
+
+  /** The unit of each base metric, by column name, in column order (for the report's axes and tables). */
+  public static Map<String, String> metricUnits() {
+    Map<String, String> units = new LinkedHashMap<>();
+    for (Metric m : Metric.ALL) {
+      units.put(m.column, m.unit);
+    }
+    return units;
+  }
+
+  /** The names of the injected faults, as they appear in the {@code fault} column. */
+  public static List<String> faultNames() {
+    List<String> names = new ArrayList<>();
+    for (Fault f : Fault.ALL) {
+      names.add(f.label);
+    }
+    return names;
+  }
+
+  /**
+   * The table, lazily: row ids {@code 0 .. rows-1} from {@code SparkContext.range} in {@code partitions} slices,
+   * mapped partition by partition ({@link TelemetryRows}) to binary rows of {@link #schema}. Nothing runs until an
+   * action. For tables of more than {@value #WIDE_COLUMNS} columns, prefer {@link #write}: Spark generates and
+   * compiles code per column for the projections of any plan, which {@code write} avoids.
+   */
+  public static Dataset<Row> generate(SparkSession spark, FleetSpec spec) {
+    StructType schema = schema(spec.extraMetrics());
+    TelemetryRows rows = new TelemetryRows(spec.seed(), spec.hosts(), spec.intervals(), spec.extraMetrics(),
+        spec.startDate());
+    RDD<Object> ids = spark.sparkContext().range(0, spec.rows(), 1, spec.partitions());
+    JavaRDD<InternalRow> table = ids.toJavaRDD().mapPartitions(rows);
+    return spark.internalCreateDataFrame(table.rdd(), schema, false);
+  }
+
+  /**
+   * Generates the table and writes it as Parquet under {@code path}, partitioned by {@code date}, replacing what was
+   * there. One Spark job; each task sorts its rows by date before writing (Spark's partitioned writer), which holds
+   * one task's rows in execution memory (or spills).
+   *
+   * <p>The metric columns are written without dictionary encoding (they are continuous: trying a dictionary per
+   * column chunk took half the CPU time of the write, for nothing); the key columns keep it. Above
+   * {@value #WIDE_COLUMNS} columns the write runs with Spark's interpreted projections
+   * ({@code spark.sql.codegen.factoryMode = NO_CODEGEN}, restored afterwards): compiling a projection of 20,000
+   * columns cost minutes per task, interpreting it costs microseconds per row.
+   */
+  public static void write(SparkSession spark, FleetSpec spec, String path) {
+    SparkContext sc = spark.sparkContext();
+    String description = sc.getLocalProperty("spark.job.description");
+    RuntimeConfig conf = spark.conf();
+    boolean wide = spec.columns() > WIDE_COLUMNS;
+    String factoryMode = conf.contains(CODEGEN_FACTORY_MODE) ? conf.get(CODEGEN_FACTORY_MODE) : null;
+    sc.setJobDescription("eigenmill demo: " + spec.rows() + " fleet telemetry rows x " + spec.columns()
+        + " columns to " + path);
+    if (wide) {
+      conf.set(CODEGEN_FACTORY_MODE, "NO_CODEGEN");
+    }
+    try {
+      DataFrameWriter<Row> writer = generate(spark, spec).write().mode(SaveMode.Overwrite).partitionBy("date")
+          .option("parquet.enable.dictionary", "false");
+      for (String key : DICTIONARY_COLUMNS) {
+        writer = writer.option("parquet.enable.dictionary#" + key, "true");
+      }
+      writer.parquet(path);
+    } finally {
+      if (wide && factoryMode == null) {
+        conf.unset(CODEGEN_FACTORY_MODE);
+      } else if (wide) {
+        conf.set(CODEGEN_FACTORY_MODE, factoryMode);
+      }
+      sc.setJobDescription(description);
+    }
+  }
+
+  /** Command line; see {@link GeneratorArguments#USAGE}. Exit 0 when written, 2 on a bad flag, 1 on failure. */
+  public static void main(String[] args) {
+    System.exit(run(args, System.out, System.err));
+  }
+
+  /** The command line without {@code System.exit}: returns the exit code. */
+  static int run(String[] args, PrintStream out, PrintStream err) {
+    GeneratorArguments a;
+    try {
+      a = GeneratorArguments.parse(args);
+    } catch (IllegalArgumentException e) {
+      err.println("fleet-telemetry: " + e.getMessage());
+      err.println(GeneratorArguments.USAGE);
+      return 2;
+    }
+    SparkSession spark = null;
+    try {
+      spark = a.session();
+      long t0 = System.nanoTime();
+      write(spark, a.spec(), a.out());
+      double seconds = (System.nanoTime() - t0) / 1e9;
+      FleetSpec s = a.spec();
+      out.printf("wrote %s: %d rows x %d columns (%d hosts x %d intervals, %d extra metrics, seed %d) as Parquet"
+          + " partitioned by date in %.1f s%n", a.out(), s.rows(), s.columns(), s.hosts(), s.intervals(),
+          s.extraMetrics(), s.seed(), seconds);
+      return 0;
+    } catch (RuntimeException e) {
+      err.println("fleet-telemetry: failed: " + e);
+      e.printStackTrace(err);
+      return 1;
+    } finally {
+      if (spark != null) {
+        spark.stop();
+      }
+    }
+  }
+}

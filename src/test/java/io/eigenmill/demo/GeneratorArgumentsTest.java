@@ -1,0 +1,77 @@
+package io.eigenmill.demo;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertNull;
+import static org.junit.jupiter.api.Assertions.assertThrows;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import io.eigenmill.demo.FleetTelemetryGenerator.FleetSpec;
+import java.io.ByteArrayOutputStream;
+import java.io.PrintStream;
+import java.nio.charset.StandardCharsets;
+import org.junit.jupiter.api.Test;
+
+/** The generator's command line, without Spark: flags, count syntax, and errors that name the flag and value. */
+class GeneratorArgumentsTest {
+
+  @Test
+  void countsAcceptSeparatorsExponentsAndSuffixes() {
+    for (String text : new String[] {"2000000", "2_000_000", "2,000,000", "2e6", "2E6", "2m", "2M", "2.0m", "0.002b"}) {
+      assertEquals(2_000_000L, GeneratorArguments.count("--rows", text, 1, Long.MAX_VALUE), text);
+    }
+    assertEquals(1_500L, GeneratorArguments.count("--rows", "1.5k", 1, Long.MAX_VALUE));
+    assertEquals(120_000L, GeneratorArguments.count("--rows", " 120000 ", 1, Long.MAX_VALUE));
+    assertEquals(0L, GeneratorArguments.count("--extra-metrics", "0", 0, 10));
+  }
+
+  @Test
+  void everyFlagIsReadInBothForms() {
+    GeneratorArguments a = GeneratorArguments.parse(new String[] {"--out", "/tmp/fleet", "--rows", "2m", "--seed=-7",
+        "--extra-metrics", "40", "--partitions=16", "--master", "local[2]"});
+    assertEquals("/tmp/fleet", a.out());
+    assertEquals("local[2]", a.master());
+    assertEquals(new FleetSpec(2_000_000, -7, 40, 16, "2026-11-02"), a.spec());
+  }
+
+  @Test
+  void onlyTheOutputIsRequired() {
+    GeneratorArguments a = GeneratorArguments.parse(new String[] {"--out=data"});
+    assertEquals(FleetSpec.defaults(), a.spec());
+    assertNull(a.master(), "no --master: local[*] unless spark-submit gave one");
+  }
+
+  @Test
+  void errorsNameTheFlagAndTheValue() {
+    expectError("--rows 2x", "--out", "o", "--rows", "2x");
+    expectError("--rows 1.5: not a whole number", "--out", "o", "--rows", "1.5");
+    expectError("--rows 0: must be between 1", "--out", "o", "--rows", "0");
+    expectError("--rows -3: must be between 1", "--out", "o", "--rows", "-3");
+    expectError("--partitions 0: must be between 1", "--out", "o", "--partitions", "0");
+    expectError("--extra-metrics 100001: must be between 0 and 100000", "--out", "o", "--extra-metrics", "100001");
+    expectError("--seed abc", "--out", "o", "--seed", "abc");
+    expectError("unknown flag --colour", "--out", "o", "--colour", "red");
+    expectError("unknown flag extra", "--out", "o", "extra");
+    expectError("--rows needs a value", "--out", "o", "--rows");
+    expectError("--out is required", "--rows", "10");
+    expectError("--out needs a non-empty value", "--out", " ");
+  }
+
+  @Test
+  void aBadFlagExitsWithTwoBeforeAnySparkWork() {
+    ByteArrayOutputStream err = new ByteArrayOutputStream();
+    ByteArrayOutputStream out = new ByteArrayOutputStream();
+    int code = FleetTelemetryGenerator.run(new String[] {"--out", "x", "--rows", "many"},
+        new PrintStream(out, true, StandardCharsets.UTF_8), new PrintStream(err, true, StandardCharsets.UTF_8));
+    assertEquals(2, code);
+    String message = err.toString(StandardCharsets.UTF_8);
+    assertTrue(message.contains("--rows many"), message);
+    assertTrue(message.contains("usage:"), message);
+    assertEquals("", out.toString(StandardCharsets.UTF_8));
+  }
+
+  private static void expectError(String expected, String... args) {
+    IllegalArgumentException e = assertThrows(IllegalArgumentException.class, () -> GeneratorArguments.parse(args),
+        String.join(" ", args));
+    assertTrue(e.getMessage().contains(expected), "message for " + String.join(" ", args) + ": " + e.getMessage());
+  }
+}
