@@ -1,0 +1,139 @@
+package io.eigenmill.bench;
+
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.EnumSet;
+import java.util.List;
+import java.util.Set;
+
+/**
+ * The benchmark's command line, validated. Relative default paths resolve against {@code home} (the repository; the
+ * script passes it), paths given on the command line against the working directory.
+ *
+ * @param rows rows of the main table (default 2,000,000; 20,000 with {@code --smoke})
+ * @param features numeric features d (default 100; 20 with {@code --smoke}): the generator's base metrics, plus
+ *     extra metrics when d is larger, or the first d base metrics when smaller
+ * @param cores Spark's local[cores]
+ * @param reps timed repetitions per case, after one untimed warm-up (1 and no warm-up with {@code --smoke})
+ * @param cases the cases to run, in their fixed order
+ * @param casesGiven true when {@code --cases} was given (scaling then runs exactly those)
+ * @param command the command as typed, for the results file
+ */
+public record BenchOptions(long rows, int features, int cores, int reps, Path data, List<BenchCase> cases,
+    boolean casesGiven, boolean scaling, boolean wide, boolean smoke, Path out, String command) {
+
+  public static final long DEFAULT_ROWS = 2_000_000L;
+  public static final int DEFAULT_FEATURES = 100;
+  public static final long SMOKE_ROWS = 20_000L;
+  public static final int SMOKE_FEATURES = 20;
+
+  public static final String USAGE = String.join("\n",
+      "usage: local-demo/bench [--rows N] [--features D] [--cores C] [--reps R] [--data DIR] [--cases LIST]",
+      "                        [--scaling] [--wide] [--smoke] [--out FILE]",
+      "  --rows N      rows of the main table (default 2000000)",
+      "  --features D  numeric features (default 100)",
+      "  --cores C     Spark local[C] (default 2)",
+      "  --reps R      timed repetitions per case after one warm-up (default 3)",
+      "  --data DIR    where generated tables are kept and reused (default local-demo/bench-data)",
+      "  --cases LIST  comma-separated subset of: " + String.join(", ", BenchCase.words(List.of(BenchCase.values()))),
+      "  --scaling     also run 0.5, 1, 2 and 4 million rows and fit seconds per million rows",
+      "  --wide        only the wide cases: d = 1000 and 2000 by covariance, d = 20000 by randomized, with peak heap",
+      "                and the largest single allocation (the script gives this run a 4 GiB heap)",
+      "  --smoke       tiny table (20000 x 20 unless given), 1 repetition, no warm-up",
+      "  --out FILE    results as markdown (default local-demo/BENCHMARKS.md); only this run's sections are replaced");
+
+  /** Untimed warm-up runs before the timed ones. */
+  public int warmups() {
+    return smoke ? 0 : 1;
+  }
+
+  /** Timed runs per case. */
+  public int repetitions() {
+    return smoke ? 1 : reps;
+  }
+
+  public static BenchOptions parse(String[] args, Path home) {
+    Long rows = null;
+    Integer features = null;
+    int cores = 2;
+    int reps = 3;
+    Path data = home.resolve("local-demo/bench-data");
+    Path out = home.resolve("local-demo/BENCHMARKS.md");
+    Set<BenchCase> cases = EnumSet.allOf(BenchCase.class);
+    boolean casesGiven = false;
+    boolean scaling = false;
+    boolean wide = false;
+    boolean smoke = false;
+    for (int i = 0; i < args.length; i++) {
+      String a = args[i];
+      switch (a) {
+        case "--rows" -> rows = positiveLong(a, value(args, ++i, a));
+        case "--features" -> features = (int) positiveLong(a, value(args, ++i, a));
+        case "--cores" -> cores = (int) positiveLong(a, value(args, ++i, a));
+        case "--reps" -> reps = (int) positiveLong(a, value(args, ++i, a));
+        case "--data" -> data = Path.of(value(args, ++i, a)).toAbsolutePath();
+        case "--out" -> out = Path.of(value(args, ++i, a)).toAbsolutePath();
+        case "--cases" -> {
+          cases = casesOf(value(args, ++i, a));
+          casesGiven = true;
+        }
+        case "--scaling" -> scaling = true;
+        case "--wide" -> wide = true;
+        case "--smoke" -> smoke = true;
+        default -> throw new IllegalArgumentException("unknown argument '" + a + "'");
+      }
+    }
+    if (wide && scaling) {
+      throw new IllegalArgumentException("--wide runs on its own (it needs its own 4 GiB JVM): drop --scaling");
+    }
+    long n = rows != null ? rows : smoke ? SMOKE_ROWS : DEFAULT_ROWS;
+    int d = features != null ? features : smoke ? SMOKE_FEATURES : DEFAULT_FEATURES;
+    if (d < 11) {
+      throw new IllegalArgumentException("--features " + d + ": at least 11 (the fits keep k = 10 components)");
+    }
+    return new BenchOptions(n, d, cores, reps, data, new ArrayList<>(cases), casesGiven, scaling, wide, smoke, out,
+        command(args));
+  }
+
+  private static Set<BenchCase> casesOf(String list) {
+    Set<BenchCase> out = EnumSet.noneOf(BenchCase.class);
+    for (String word : list.split(",")) {
+      if (!word.isBlank()) {
+        out.add(BenchCase.of(word));
+      }
+    }
+    if (out.isEmpty()) {
+      throw new IllegalArgumentException("--cases: empty list");
+    }
+    return out;
+  }
+
+  private static String value(String[] args, int i, String flag) {
+    if (i >= args.length) {
+      throw new IllegalArgumentException(flag + " needs a value");
+    }
+    return args[i];
+  }
+
+  private static long positiveLong(String flag, String text) {
+    long v;
+    try {
+      v = Long.parseLong(text.replace("_", "").replace(",", ""));
+    } catch (NumberFormatException e) {
+      throw new IllegalArgumentException(flag + " " + text + ": not a whole number");
+    }
+    if (v <= 0 || (!flag.equals("--rows") && v > Integer.MAX_VALUE)) {
+      throw new IllegalArgumentException(flag + " " + text + ": must be a positive whole number");
+    }
+    return v;
+  }
+
+  private static String command(String[] args) {
+    StringBuilder s = new StringBuilder("local-demo/bench");
+    for (String a : args) {
+      boolean plain = a.matches("[A-Za-z0-9_./,:=+-]+");
+      s.append(' ').append(plain ? a : "'" + a.replace("'", "'\\''") + "'");
+    }
+    return s.toString();
+  }
+}

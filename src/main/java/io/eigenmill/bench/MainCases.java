@@ -1,0 +1,248 @@
+package io.eigenmill.bench;
+
+import io.eigenmill.bench.MainResult.CaseResult;
+import io.eigenmill.bench.MainResult.KMeansQuality;
+import io.eigenmill.bench.MainResult.MethodAccuracy;
+import io.eigenmill.jobs.ClusterJob;
+import io.eigenmill.jobs.ClusterOutcome;
+import io.eigenmill.jobs.FitJob;
+import io.eigenmill.jobs.FitResult;
+import io.eigenmill.jobs.JobRunner;
+import io.eigenmill.jobs.PcaModel;
+import io.eigenmill.jobs.RunResult;
+import io.eigenmill.math.PrincipalAngles;
+import io.eigenmill.plan.JobPlan;
+import io.eigenmill.plan.Planner;
+import io.eigenmill.settings.JobSettings;
+import io.eigenmill.spark.ModelStore;
+import io.eigenmill.spark.TableLoader;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.Arrays;
+import java.util.EnumMap;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Locale;
+import java.util.Map;
+import java.util.concurrent.Callable;
+import java.util.function.Function;
+import org.apache.spark.ml.clustering.KMeans;
+import org.apache.spark.ml.clustering.KMeansModel;
+import org.apache.spark.ml.feature.PCA;
+import org.apache.spark.ml.feature.PCAModel;
+import org.apache.spark.ml.feature.VectorAssembler;
+import org.apache.spark.sql.Dataset;
+import org.apache.spark.sql.Row;
+import org.apache.spark.sql.SparkSession;
+
+/**
+ * Runs the main cases on one table and gathers times, accuracy and k-means quality. Shared preparation runs once,
+ * untimed, before the first case that needs it: a covariance fit for the model (reused from the fit-covariance case
+ * when that ran), the model written for apply, the scores table (the apply-pass case's output, or one scoring pass),
+ * and the scores table read and cached for both k-means.
+ */
+final class MainCases {
+  /** Explained-variance ratios reported per method. */
+  static final int LEADING = 3;
+  private static final String VECTOR = "bench_features";
+
+  private final SparkSession spark;
+  private final BenchTable table;
+  private final List<String> columnsSetting;
+  private final Path work;
+  private final int warmups;
+  private final int reps;
+  private final Map<BenchCase, Timing> times = new EnumMap<>(BenchCase.class);
+  private final List<CaseResult> results = new ArrayList<>();
+  private final Map<String, FitResult> fits = new LinkedHashMap<>();
+  private double[] builtinRatios;
+  private PcaModel model;
+  private String modelPath;
+  private String scoresPath;
+  private Dataset<Row> cachedScores;
+  private KMeansQuality kmeans;
+
+  /**
+   * @param allNumeric true when the table's features are all its numeric non-key columns (the fits then leave
+   *     features.columns empty, as a user would), false to list them explicitly
+   */
+  MainCases(SparkSession spark, BenchTable table, boolean allNumeric, Path work, int warmups, int reps) {
+    this.spark = spark;
+    this.table = table;
+    this.columnsSetting = allNumeric ? List.of() : table.features();
+    this.work = work;
+    this.warmups = warmups;
+    this.reps = reps;
+  }
+
+  MainResult run(List<BenchCase> cases) {
+    try {
+      for (BenchCase c : cases) {
+        runCase(c);
+      }
+    } finally {
+      if (cachedScores != null) {
+        cachedScores.unpersist(true);
+      }
+    }
+    FitResult randomized = fits.get("randomized");
+    List<Ratio> ratios = Ratios.of(times, randomized == null ? 0 : randomized.passes(), kmeans);
+    return new MainResult(table, List.copyOf(results), accuracy(), kmeans, ratios);
+  }
+
+  private void runCase(BenchCase c) {
+    switch (c) {
+      case SQL_SUM -> time(c, () -> Floors.sqlSum(load(), table.features()), s -> "");
+      case READ_FLOOR -> time(c, () -> Floors.readFloor(load(), table.features()),
+          s -> String.format(Locale.ROOT, "%,d rows", (long) s[s.length - 1]));
+      case FIT_COVARIANCE -> fit(c, "covariance");
+      case FIT_TSQR -> fit(c, "tsqr");
+      case FIT_RANDOMIZED -> fit(c, "randomized");
+      case BUILTIN_PCA -> builtinPca();
+      case WRITE_FLOOR -> time(c, () -> {
+        Floors.writeFloor(load(), table.keys(), BenchTables.PARTITION_COLUMN, BenchJobs.COMPONENTS,
+            work.resolve("write-floor").toString());
+        return 0;
+      }, x -> "");
+      case APPLY_PASS -> applyPass();
+      case APPLY -> apply();
+      case KMEANS -> ourKMeans();
+      case BUILTIN_KMEANS -> builtinKMeans();
+      default -> throw new IllegalStateException("no runner for case " + c);
+    }
+  }
+
+  private <T> T time(BenchCase c, Callable<T> body, Function<T, String> notes) {
+    Timer.Timed<T> t = Timer.run(spark.sparkContext(), c.word(), warmups, reps, body);
+    times.put(c, t.timing());
+    results.add(new CaseResult(c, t.timing(), notes.apply(t.last())));
+    return t.last();
+  }
+
+  private Dataset<Row> load() {
+    return spark.read().parquet(table.path());
+  }
+
+  private void fit(BenchCase c, String method) {
+    JobSettings settings = BenchJobs.fit(table, columnsSetting, method, work.resolve("fit-output").toString());
+    JobPlan plan = Planner.plan(spark, settings);
+    if (plan.d() != table.d()) {
+      throw new IllegalStateException("the planner resolved " + plan.d() + " features, the table has " + table.d());
+    }
+    FitResult r = time(c, () -> new FitJob(spark, plan).execute(TableLoader.load(spark, settings.input())),
+        f -> f.passes() + (f.passes() == 1 ? " pass, " : " passes, ") + (f.columnarRead() ? "columnar batches" : "Row path") + ", k = "
+            + f.model().k() + ", " + f.blas());
+    fits.put(method, r);
+  }
+
+  private void builtinPca() {
+    PCAModel m = time(BenchCase.BUILTIN_PCA, () -> {
+      Dataset<Row> vectors = new VectorAssembler().setInputCols(table.features().toArray(new String[0]))
+          .setOutputCol(VECTOR).setHandleInvalid("skip").transform(load());
+      return new PCA().setInputCol(VECTOR).setOutputCol("bench_pca").setK(BenchJobs.COMPONENTS).fit(vectors);
+    }, x -> "unscaled features (the engine's PCA only centres)");
+    double[] explained = m.explainedVariance().toArray();
+    builtinRatios = Arrays.copyOf(explained, Math.min(LEADING, explained.length));
+  }
+
+  private void applyPass() {
+    ensureModel();
+    String path = work.resolve("scores").toString();
+    time(BenchCase.APPLY_PASS, () -> Scores.write(spark, load(), table.keys(), model, applySettings(), path),
+        n -> String.format(Locale.ROOT, "%,d rows scored", n));
+    scoresPath = path;
+  }
+
+  private void apply() {
+    ensureModel();
+    JobSettings settings = applySettings();
+    time(BenchCase.APPLY, () -> JobRunner.run(spark, settings), (RunResult r) -> String.format(Locale.ROOT,
+        "%,d rows scored, %d rows flagged by T2", r.monitor().rowsScored(), r.monitor().flaggedT2()));
+  }
+
+  private JobSettings applySettings() {
+    return BenchJobs.apply(table, modelPath, work.resolve("apply-output").toString());
+  }
+
+  private void ourKMeans() {
+    ensureCachedScores();
+    JobSettings.Cluster settings = BenchJobs.cluster(table, work.resolve("kmeans-output").toString());
+    ClusterOutcome o = time(BenchCase.KMEANS, () -> new ClusterJob(spark, settings, cachedScores, List.of(),
+        Scores.columns(model.k()), model, "scores").execute(), x -> x.passes() + " passes over the cached points");
+    KMeansQuality before = kmeans;
+    kmeans = new KMeansQuality(o.result().withinSs(), before == null ? Double.NaN : before.builtin(), o.passes(),
+        before == null ? 0 : before.builtinIterations());
+  }
+
+  private void builtinKMeans() {
+    ensureCachedScores();
+    KMeansModel m = time(BenchCase.BUILTIN_KMEANS, () -> {
+      Dataset<Row> vectors = new VectorAssembler().setInputCols(Scores.columns(model.k()).toArray(new String[0]))
+          .setOutputCol(VECTOR).transform(cachedScores);
+      return new KMeans().setK(BenchJobs.CLUSTERS).setMaxIter(BenchJobs.CLUSTER_ITERATIONS)
+          .setSeed(BenchJobs.CLUSTER_SEED).setFeaturesCol(VECTOR).fit(vectors);
+    }, x -> x.summary().numIter() + " iterations");
+    KMeansQuality before = kmeans;
+    kmeans = new KMeansQuality(before == null ? Double.NaN : before.ours(), m.summary().trainingCost(),
+        before == null ? 0 : before.ourPasses(), m.summary().numIter());
+  }
+
+  private void ensureModel() {
+    if (model != null) {
+      return;
+    }
+    FitResult cov = fits.get("covariance");
+    if (cov == null) {
+      System.out.println("bench: preparing the model: one covariance fit (untimed)");
+      JobSettings settings = BenchJobs.fit(table, columnsSetting, "covariance", work.resolve("fit-output")
+          .toString());
+      cov = new FitJob(spark, Planner.plan(spark, settings)).execute(TableLoader.load(spark, settings.input()));
+    }
+    model = cov.model();
+    Path path = work.resolve("model");
+    BenchTables.deleteTree(path);
+    ModelStore.write(spark, model, path.toString());
+    modelPath = path.toString();
+  }
+
+  private void ensureCachedScores() {
+    if (cachedScores != null) {
+      return;
+    }
+    ensureModel();
+    if (scoresPath == null) {
+      System.out.println("bench: preparing the scores table: one scoring pass (untimed)");
+      scoresPath = work.resolve("scores").toString();
+      Scores.write(spark, load(), table.keys(), model, applySettings(), scoresPath);
+    }
+    Dataset<Row> scores = spark.read().parquet(scoresPath);
+    cachedScores = scores.select(Scores.columns(model.k()).stream().map(scores::col)
+        .toArray(org.apache.spark.sql.Column[]::new)).cache();
+    long n = cachedScores.count();
+    System.out.printf(Locale.ROOT, "bench: cached the scores table (%,d rows, untimed)%n", n);
+  }
+
+  private List<MethodAccuracy> accuracy() {
+    List<MethodAccuracy> out = new ArrayList<>();
+    FitResult cov = fits.get("covariance");
+    for (Map.Entry<String, FitResult> e : fits.entrySet()) {
+      double[] ratios = e.getValue().spectrum().explainedRatios();
+      double angle = e.getKey().equals("covariance") || cov == null ? Double.NaN
+          : largestAngle(cov.model(), e.getValue().model());
+      out.add(new MethodAccuracy(e.getKey(), Arrays.copyOf(ratios, Math.min(LEADING, ratios.length)), angle, true));
+    }
+    if (builtinRatios != null) {
+      out.add(new MethodAccuracy("builtin-pca", builtinRatios, Double.NaN, false));
+    }
+    return out;
+  }
+
+  /** The largest principal angle between the k loadings of two models of the same features; NaN otherwise. */
+  static double largestAngle(PcaModel a, PcaModel b) {
+    if (!a.features().equals(b.features()) || a.k() != b.k() || a.k() == 0) {
+      return Double.NaN;
+    }
+    double[] angles = PrincipalAngles.between(a.loadings(), a.k(), b.loadings(), b.k(), a.d());
+    return angles[angles.length - 1];
+  }
+}

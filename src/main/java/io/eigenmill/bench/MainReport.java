@@ -1,0 +1,106 @@
+package io.eigenmill.bench;
+
+import io.eigenmill.bench.MainResult.CaseResult;
+import io.eigenmill.bench.MainResult.KMeansQuality;
+import io.eigenmill.bench.MainResult.MethodAccuracy;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Locale;
+
+/** The main section of the results file, and its console summary. */
+final class MainReport {
+  private MainReport() {}
+
+  static String render(MainResult r, List<String> header) {
+    StringBuilder s = new StringBuilder();
+    s.append(String.format(Locale.ROOT, "## Main cases: %,d rows x %d features%n%n", r.table().rows(),
+        r.table().d()));
+    header.forEach(h -> s.append(h).append('\n'));
+    s.append("- table: `").append(r.table().path()).append("` (").append(r.table().spec()).append(r.table()
+        .generatedSeconds() > 0 ? String.format(Locale.ROOT, "; generated in %.0f s", r.table().generatedSeconds())
+        : "; reused").append(")\n\n");
+    s.append(Report.table(List.of("case", "min s", "median s", "reps", "notes", "what the clock covers"),
+        caseRows(r))).append('\n');
+    s.append("### Ratios and targets\n\nRatios of median times (the last one of within-cluster sums of squares).\n\n");
+    s.append(Report.table(List.of("ratio", "value", "target", "verdict"), ratioRows(r.ratios()))).append('\n');
+    if (!r.accuracy().isEmpty()) {
+      s.append("### Accuracy\n\nExplained-variance ratios of the first components, and the largest principal angle "
+          + "between each method's k = 10 loadings and the covariance method's.\n\n");
+      s.append(Report.table(List.of("method", "ratio 1", "ratio 2", "ratio 3", "largest angle to covariance (rad)"),
+          accuracyRows(r.accuracy()))).append('\n');
+    }
+    if (r.kmeans() != null) {
+      s.append("### k-means quality\n\n").append(Report.table(List.of("implementation", "within-SS", "work"),
+          kmeansRows(r.kmeans())));
+    }
+    return s.toString();
+  }
+
+  private static List<List<String>> caseRows(MainResult r) {
+    List<List<String>> rows = new ArrayList<>();
+    for (CaseResult c : r.cases()) {
+      rows.add(List.of(c.which().word(), Report.seconds(c.timing().min()), Report.seconds(c.timing().median()),
+          Integer.toString(c.timing().repetitions()), c.notes(), c.which().timed()));
+    }
+    return rows;
+  }
+
+  static List<List<String>> ratioRows(List<Ratio> ratios) {
+    List<List<String>> rows = new ArrayList<>();
+    for (Ratio q : ratios) {
+      rows.add(List.of(q.name(), q.target() != null && q.target().quality()
+          ? String.format(Locale.ROOT, "%.6f", q.value()) : Report.number(q.value()),
+          q.target() == null ? "" : q.target().describe(), q.verdict()));
+    }
+    return rows;
+  }
+
+  private static List<List<String>> accuracyRows(List<MethodAccuracy> accuracy) {
+    List<List<String>> rows = new ArrayList<>();
+    for (MethodAccuracy a : accuracy) {
+      List<String> row = new ArrayList<>();
+      row.add(a.method() + (a.scaled() ? "" : " (unscaled features)"));
+      for (int i = 0; i < MainCases.LEADING; i++) {
+        row.add(i < a.leadingRatios().length ? String.format(Locale.ROOT, "%.8f", a.leadingRatios()[i]) : "");
+      }
+      row.add(Double.isNaN(a.largestAngle()) ? "" : String.format(Locale.ROOT, "%.2e", a.largestAngle()));
+      rows.add(row);
+    }
+    return rows;
+  }
+
+  private static List<List<String>> kmeansRows(KMeansQuality q) {
+    List<List<String>> rows = new ArrayList<>();
+    if (!Double.isNaN(q.ours())) {
+      rows.add(List.of("ours (kmeans)", String.format(Locale.ROOT, "%.8g", q.ours()),
+          q.ourPasses() + " passes (summary, k-means|| rounds, weights, Lloyd)"));
+    }
+    if (!Double.isNaN(q.builtin())) {
+      rows.add(List.of("engine (builtin-kmeans)", String.format(Locale.ROOT, "%.8g", q.builtin()),
+          q.builtinIterations() + " Lloyd iterations (plus its k-means|| initialisation)"));
+    }
+    return rows;
+  }
+
+  /** The ratios as console lines. */
+  static void print(MainResult r) {
+    System.out.println();
+    for (CaseResult c : r.cases()) {
+      System.out.printf(Locale.ROOT, "bench: %-16s min %8.3f s  median %8.3f s  %s%n", c.which().word(),
+          c.timing().min(), c.timing().median(), c.notes());
+    }
+    for (Ratio q : r.ratios()) {
+      System.out.printf(Locale.ROOT, "bench: %-48s %10s  %-8s %s%n", q.name(), Report.number(q.value()),
+          q.target() == null ? "" : q.target().describe(), q.verdict());
+    }
+    for (MethodAccuracy a : r.accuracy()) {
+      System.out.printf(Locale.ROOT, "bench: accuracy %-12s ratios %s  largest angle %s%n", a.method(),
+          java.util.Arrays.toString(a.leadingRatios()), Double.isNaN(a.largestAngle()) ? "-"
+              : String.format(Locale.ROOT, "%.2e rad", a.largestAngle()));
+    }
+    if (r.kmeans() != null) {
+      System.out.printf(Locale.ROOT, "bench: within-SS ours %.8g, engine %.8g%n", r.kmeans().ours(),
+          r.kmeans().builtin());
+    }
+  }
+}

@@ -1,0 +1,62 @@
+package io.eigenmill.bench;
+
+import java.util.Locale;
+
+/**
+ * One ratio of the results, with its target when it has one.
+ *
+ * @param name what is divided by what, e.g. "fit-covariance / read-floor"
+ * @param value the ratio of the medians (or of the within-SS for the quality ratio)
+ * @param target null when the ratio is informative only
+ */
+public record Ratio(String name, double value, Target target) {
+
+  /**
+   * A bound on a ratio. {@code atMost}: met when value <= bound (our time over a floor); otherwise met when
+   * value >= bound (the engine's time over ours). {@code quality} marks a quality ratio (within-SS) rather than a
+   * time ratio, which changes how a miss is described.
+   */
+  public record Target(boolean atMost, double bound, boolean quality) {
+
+    public static Target atMost(double bound) {
+      return new Target(true, bound, false);
+    }
+
+    public static Target atLeast(double bound) {
+      return new Target(false, bound, false);
+    }
+
+    /** At most {@code bound}, for a ratio of quality measures (lower is better). */
+    public static Target noWorseThan(double bound) {
+      return new Target(true, bound, true);
+    }
+
+    public String describe() {
+      return (atMost ? "<= " : ">= ") + Report.number(bound);
+    }
+  }
+
+  public boolean met() {
+    if (target == null) {
+      return true;
+    }
+    // within-SS may differ from an equal one in the last bits: 1e-9 relative absorbs that
+    double slack = target.quality() ? 1e-9 : 0.0;
+    return target.atMost() ? value <= target.bound() * (1 + slack) : value >= target.bound();
+  }
+
+  /** "met", or how far off: the factor by which our side must shrink (time), or how much higher it is (quality). */
+  public String verdict() {
+    if (target == null) {
+      return "";
+    }
+    if (met()) {
+      return "met";
+    }
+    double factor = target.atMost() ? value / target.bound() : target.bound() / value;
+    if (target.quality()) {
+      return String.format(Locale.ROOT, "missed: %.3g%% higher", (factor - 1) * 100);
+    }
+    return String.format(Locale.ROOT, "missed: needs %.2fx less time", factor);
+  }
+}

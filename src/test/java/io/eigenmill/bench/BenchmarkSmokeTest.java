@@ -1,0 +1,167 @@
+package io.eigenmill.bench;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertFalse;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import io.eigenmill.bench.MainResult.CaseResult;
+import io.eigenmill.bench.MainResult.MethodAccuracy;
+import io.eigenmill.bench.WideRun.WideCase;
+import io.eigenmill.bench.WideRun.WideResult;
+import io.eigenmill.testing.SparkSuite;
+import java.io.IOException;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.List;
+import org.apache.spark.sql.Column;
+import org.apache.spark.sql.Dataset;
+import org.apache.spark.sql.Row;
+import org.apache.spark.sql.functions;
+import org.junit.jupiter.api.BeforeAll;
+import org.junit.jupiter.api.Test;
+
+/**
+ * The benchmark harness on tiny tables, in-process: every case measured, ratios and accuracy sane, the results file
+ * with one row per case; the read floor sums what SQL sums; the allocation record and heap watch see a large array;
+ * the results file keeps the sections of other runs. Times are never compared with anything but zero.
+ */
+class BenchmarkSmokeTest extends SparkSuite {
+  private static final Path BASE = Path.of(System.getProperty("eigenmill.repo", ".")).resolve("target/bench-smoke")
+      .toAbsolutePath();
+  private static final Path DATA = BASE.resolve("data");
+
+  @BeforeAll
+  static void clean() {
+    BenchTables.deleteTree(BASE.resolve("out"));
+  }
+
+  private static BenchOptions options(String... extra) {
+    String[] base = {"--smoke", "--rows", "20000", "--features", "20", "--data", DATA.toString()};
+    String[] args = new String[base.length + extra.length];
+    System.arraycopy(base, 0, args, 0, base.length);
+    System.arraycopy(extra, 0, args, base.length, extra.length);
+    return BenchOptions.parse(args, BASE);
+  }
+
+  @Test
+  void smokeRunMeasuresEveryCaseAndWritesOneRowPerCase() throws IOException {
+    Path out = BASE.resolve("out/BENCHMARKS.md");
+    MainResult r = Benchmark.run(spark, options("--out", out.toString())).main();
+
+    assertEquals(List.of(BenchCase.values()), r.cases().stream().map(CaseResult::which).toList());
+    for (CaseResult c : r.cases()) {
+      assertEquals(1, c.timing().repetitions(), c.which().word());
+      assertTrue(c.timing().min() > 0, c.which().word() + " took " + c.timing().min() + " s");
+    }
+    // every ratio of the harness is defined once all cases ran: 13 of them, each finite and positive
+    assertEquals(13, r.ratios().size(), r.ratios().toString());
+    for (Ratio q : r.ratios()) {
+      assertTrue(Double.isFinite(q.value()) && q.value() > 0, q.name() + " = " + q.value());
+    }
+    checkAccuracy(r);
+    assertTrue(Double.isFinite(r.kmeans().ours()) && r.kmeans().ours() > 0, "our within-SS " + r.kmeans().ours());
+    assertTrue(Double.isFinite(r.kmeans().builtin()) && r.kmeans().builtin() > 0,
+        "the engine's within-SS " + r.kmeans().builtin());
+
+    List<String> lines = Files.readAllLines(out);
+    for (BenchCase c : BenchCase.values()) {
+      long rows = lines.stream().filter(l -> l.startsWith("| " + c.word() + " |")).count();
+      assertEquals(1, rows, "rows of case " + c.word() + " in " + out);
+    }
+    assertTrue(lines.stream().anyMatch(l -> l.startsWith("- command: `local-demo/bench --smoke")), "command line");
+    assertTrue(lines.stream().anyMatch(l -> l.startsWith("- BLAS/LAPACK: BLAS ")), "BLAS line");
+  }
+
+  private static void checkAccuracy(MainResult r) {
+    // The three methods estimate the same leading eigenvalue of the same correlation matrix: covariance and TSQR
+    // exactly up to rounding (~1e-13 on 20 standardised features), the randomized method after 2 power iterations
+    // with a sketch of 20 columns on 20 features, i.e. the whole space, so to rounding as well. 1e-6 is the
+    // agreement asked of the harness.
+    double lead = r.accuracyOf("covariance").orElseThrow().leadingRatios()[0];
+    assertTrue(lead > 0 && lead < 1, "leading ratio " + lead);
+    for (String method : List.of("tsqr", "randomized")) {
+      MethodAccuracy a = r.accuracyOf(method).orElseThrow();
+      assertEquals(lead, a.leadingRatios()[0], 1e-6, method + " leading explained-variance ratio");
+      // the k = 10 subspaces of exact methods agree to rounding divided by the eigengap after component 10
+      assertTrue(a.largestAngle() >= 0 && a.largestAngle() < 1e-6, method + " largest angle " + a.largestAngle());
+    }
+    MethodAccuracy engine = r.accuracyOf("builtin-pca").orElseThrow();
+    assertFalse(engine.scaled());
+    assertTrue(engine.leadingRatios()[0] > 0 && engine.leadingRatios()[0] <= 1, "engine's leading ratio");
+  }
+
+  @Test
+  void readFloorSumsWhatSqlSums() {
+    BenchTable table = BenchTables.prepare(spark, DATA, 20000, 20);
+    Dataset<Row> t = spark.read().parquet(table.path());
+    double[] sql = Floors.sqlSum(t, table.features());
+    double[] columnar = Floors.readFloor(t, table.features());
+    assertEquals(20000, columnar[table.d()], "rows read by the read floor");
+    Column[] absSums = table.features().stream().map(f -> functions.sum(functions.abs(functions.col(f))))
+        .toArray(Column[]::new);
+    Row scales = t.agg(absSums[0], java.util.Arrays.copyOfRange(absSums, 1, absSums.length)).first();
+    for (int j = 0; j < table.d(); j++) {
+      // the two differ only in summation order: each is within n eps sum|x| of the exact sum (Higham 2002, 4.2)
+      double bound = 2 * 20000 * Math.ulp(1.0) * ((Number) scales.get(j)).doubleValue();
+      assertEquals(sql[j], columnar[j], bound, table.features().get(j));
+    }
+  }
+
+  @Test
+  void wideCasesReportHeapAndLargestAllocation() {
+    BenchOptions o = options();
+    List<WideResult> wide = WideRun.run(spark, o, List.of(new WideCase(30, "covariance"),
+        new WideCase(60, "randomized")), 30_000);
+    assertEquals(2, wide.size());
+    for (WideResult w : wide) {
+      assertEquals(30_000 / w.which().d(), w.table().rows(), "rows of the wide table");
+      assertTrue(w.timing().min() > 0, "time");
+      assertTrue(w.peakHeapBytes() > 0 && w.peakHeapBytes() <= w.maxHeapBytes(), "peak heap " + w.peakHeapBytes());
+      assertEquals(8L * w.which().d() * w.which().d(), w.squareBytes());
+      assertTrue(w.columnar(), "the fit read columnar batches");
+    }
+    String md = WideRun.render(wide, List.of());
+    assertEquals(2, md.lines().filter(l -> l.startsWith("| 30 |") || l.startsWith("| 60 |")).count(), md);
+  }
+
+  @Test
+  void allocationRecordAndHeapWatchSeeALargeArray() {
+    long size = 32L << 20;
+    double[] big;
+    long peak;
+    LargeAllocations.Summary s;
+    try (HeapWatch heap = HeapWatch.start(); LargeAllocations record = LargeAllocations.start()) {
+      big = new double[(int) (size / Double.BYTES)];
+      big[big.length - 1] = 1;
+      s = record.stop(size);
+      peak = heap.peakBytes();
+    }
+    assertTrue(big[big.length - 1] == 1);
+    assertTrue(s.atLeastThreshold() >= 1, "allocations of at least 32 MiB: " + s);
+    assertTrue(s.largestBytes() >= size, "largest " + s);
+    assertEquals("double[]", s.largestType());
+    assertTrue(peak >= size, "peak heap " + peak);
+  }
+
+  @Test
+  void resultsFileKeepsTheSectionsOfOtherRuns() throws IOException {
+    Path file = BASE.resolve("out/sections.md");
+    Files.deleteIfExists(file);
+    Report.writeSection(file, "wide", "wide one\n");
+    Report.writeSection(file, "main", "main one\n");
+    Report.writeSection(file, "main", "main two\n");
+    String text = Files.readString(file);
+    assertTrue(text.contains("main two") && !text.contains("main one"), text);
+    assertTrue(text.contains("wide one"), text);
+    assertTrue(text.indexOf("main two") < text.indexOf("wide one"), "sections in order: " + text);
+  }
+
+  @Test
+  void verdictsSayHowFarATargetIsMissed() {
+    assertEquals("met", new Ratio("a", 1.1, Ratio.Target.atMost(1.2)).verdict());
+    assertEquals("missed: needs 1.25x less time", new Ratio("a", 1.5, Ratio.Target.atMost(1.2)).verdict());
+    assertEquals("missed: needs 1.50x less time", new Ratio("b", 4, Ratio.Target.atLeast(6)).verdict());
+    assertEquals("met", new Ratio("c", 1 + 1e-12, Ratio.Target.noWorseThan(1)).verdict());
+    assertEquals("missed: 1.00% higher", new Ratio("c", 1.01, Ratio.Target.noWorseThan(1)).verdict());
+  }
+}
