@@ -147,7 +147,8 @@ public final class FitJob {
     }
     if (!empty.isEmpty()) {
       throw new InvalidJobException("features.columns: column" + (empty.size() > 1 ? "s " : " ")
-          + String.join(", ", empty) + " hold no value at all (every cell null, NaN or infinite);"
+          + String.join(", ", empty) + (empty.size() > 1 ? " hold" : " holds")
+          + " no value at all (every cell null, NaN or infinite);"
           + " prepare.missing = impute-mean cannot fill them: exclude them with features.exclude");
     }
     return stats.means();
