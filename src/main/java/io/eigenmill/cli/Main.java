@@ -8,10 +8,17 @@ import io.eigenmill.plan.JobPlan;
 import io.eigenmill.settings.InvalidJobException;
 import io.eigenmill.settings.JobSettings;
 import io.eigenmill.settings.SettingsReader;
+import io.eigenmill.spark.InputFiles;
 import java.io.File;
 import java.io.PrintStream;
+import java.io.PrintWriter;
+import java.io.StringWriter;
 import java.util.ArrayList;
+import java.util.LinkedHashSet;
 import java.util.List;
+import java.util.Locale;
+import java.util.Map;
+import java.util.Set;
 import org.apache.spark.sql.SparkSession;
 
 /**
@@ -31,7 +38,11 @@ public final class Main {
     System.exit(code);
   }
 
-  /** Runs the command and returns its exit code (never calls System.exit; tests use this). */
+  /**
+   * Runs the command and returns its exit code (never calls System.exit; tests use this). Everything printed goes
+   * through {@link Redaction#scrub}: the values of secret keys given with {@code --set} or under {@code spark.conf}
+   * never appear in the output, not even inside an error message or a stack trace.
+   */
   public static int run(String[] args, PrintStream out, PrintStream err) {
     Arguments a;
     try {
@@ -45,38 +56,58 @@ public final class Main {
       out.println("eigenmill " + Version.current() + " (" + Linalg.describe() + ")");
       return OK;
     }
+    Set<String> secrets = new LinkedHashSet<>(Redaction.secretValuesOfSets(a.sets()));
     SparkSession spark = null;
     try {
       JobSettings settings = new SettingsReader().read(a.jobFile(), a.sets(), a.envFile());
+      secrets.addAll(Redaction.secretValues(settings.spark().conf()));
       spark = Sessions.open(settings);
       if (a.command().equals("plan")) {
+        InputFiles.Check input = InputFiles.check(spark, settings.input());
+        if (!input.skipWarning().isEmpty()) {
+          out.println(Redaction.scrub("warning: " + input.skipWarning(), secrets));
+        }
         JobPlan plan = JobRunner.plan(spark, settings);
-        out.print(plan.describe());
+        out.print(Redaction.scrub(plan.describe() + sparkLine(settings), secrets));
         out.println("plan is valid; nothing was computed (" + Linalg.describe() + ")");
         return OK;
       }
       RunResult result = JobRunner.run(spark, settings);
-      out.println(Outcome.describe(result));
+      out.println(Redaction.scrub(Outcome.describe(result), secrets));
       return OK;
     } catch (InvalidJobException e) {
-      for (String problem : e.problems()) {
-        err.println("eigenmill: error: " + problem);
-      }
+      printProblems(e, err, secrets);
       return INVALID;
-    } catch (RuntimeException | Error e) {
+    } catch (Exception | Error e) {
+      // Exception, not only RuntimeException: Spark's AnalysisException is a checked exception thrown from Scala
       InvalidJobException cause = Sessions.userError(e);
       if (cause != null) {
-        for (String problem : cause.problems()) {
-          err.println("eigenmill: error: " + problem);
-        }
+        printProblems(cause, err, secrets);
         return INVALID;
       }
-      err.println("eigenmill: failed: " + e);
-      e.printStackTrace(err);
+      StringWriter trace = new StringWriter();
+      e.printStackTrace(new PrintWriter(trace));
+      err.println(Redaction.scrub("eigenmill: failed: " + e, secrets));
+      err.print(Redaction.scrub(trace.toString(), secrets));
       return FAILED;
     } finally {
       Sessions.closeIfOwned(spark);
     }
+  }
+
+  private static void printProblems(InvalidJobException e, PrintStream err, Set<String> secrets) {
+    for (String problem : e.problems()) {
+      err.println(Redaction.scrub("eigenmill: error: " + problem, secrets));
+    }
+  }
+
+  /** The Spark settings of the job as one plan line, secret values masked. */
+  static String sparkLine(JobSettings settings) {
+    Map<String, String> conf = Redaction.redact(settings.spark().conf());
+    List<String> parts = new ArrayList<>();
+    conf.forEach((k, v) -> parts.add(k + " = " + v));
+    return String.format(Locale.ROOT, "%-16s %s%n", "spark.conf:", parts.isEmpty() ? "(none)"
+        : String.join(", ", parts));
   }
 
   /** Parsed command-line arguments. */

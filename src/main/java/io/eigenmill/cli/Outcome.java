@@ -17,9 +17,6 @@ final class Outcome {
       s.append(String.format(Locale.ROOT, "fit: %,d rows (%,d dropped), %d features, method %s, k = %d "
               + "explaining %.4f of the variance%n", fit.rowsUsed(), fit.rowsDropped(), fit.model().d(),
           fit.model().method(), k, k > 0 ? cumulative[k - 1] : 0.0));
-      for (String w : fit.warnings()) {
-        s.append("warning: ").append(w).append('\n');
-      }
     }
     if (run.monitor() != null) {
       var m = run.monitor();
@@ -31,10 +28,8 @@ final class Outcome {
       s.append(String.format(Locale.ROOT, "clusters: k = %d (%s), silhouette %.4f%n", run.clusters().k(),
           run.clusters().selectionRule(), run.clusters().silhouette()));
     }
-    if (fit == null) {
-      for (String w : run.warnings()) {
-        s.append("warning: ").append(w).append('\n');
-      }
+    for (String w : run.warnings()) {
+      s.append("warning: ").append(w).append('\n');
     }
     s.append(String.format(Locale.ROOT, "output: %s (%.1f s)%n", run.outputPath(), run.totalSeconds()));
     s.append("summary: ").append(run.outputPath()).append("/summary.json");

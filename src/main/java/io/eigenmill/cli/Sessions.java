@@ -25,6 +25,10 @@ final class Sessions {
     for (Map.Entry<String, String> e : settings.spark().conf().entrySet()) {
       builder = builder.config(e.getKey(), e.getValue());
     }
+    if (!settings.spark().conf().containsKey("spark.redaction.regex")) {
+      // Spark's own UI, event log and verbose output hide the keys eigenmill treats as secret
+      builder = builder.config("spark.redaction.regex", Redaction.KEY_REGEX);
+    }
     if (!settings.spark().conf().containsKey("spark.executorEnv.OPENBLAS_NUM_THREADS")) {
       // one BLAS thread per Spark task: OpenBLAS's own threads fight the task threads for the cores
       builder = builder.config("spark.executorEnv.OPENBLAS_NUM_THREADS", "1");

@@ -5,6 +5,7 @@ import io.eigenmill.plan.Planner;
 import io.eigenmill.report.HtmlReport;
 import io.eigenmill.settings.JobSettings;
 import io.eigenmill.spark.FitTables;
+import io.eigenmill.spark.InputFiles;
 import io.eigenmill.spark.ModelStore;
 import io.eigenmill.spark.OutputCommit;
 import io.eigenmill.spark.TableLoader;
@@ -37,6 +38,9 @@ public final class JobRunner {
 
   public static RunResult run(SparkSession spark, JobSettings settings) {
     long started = System.nanoTime();
+    // every Parquet footer is read before anything else: an unreadable file fails the run here (exit 2, naming it)
+    // or, with input.corrupt-files = skip, is left out and reported
+    String skipped = InputFiles.check(spark, settings.input()).skipWarning();
     boolean applying = settings.apply().appliesModel();
     PcaModel applied = applying ? ModelStore.read(spark, "apply.model", settings.apply().model()) : null;
     PcaModel earlier = settings.apply().compareWith().isEmpty() ? null
@@ -44,7 +48,7 @@ public final class JobRunner {
     JobPlan plan = applying ? Planner.planApply(spark, settings, applied) : Planner.plan(spark, settings);
     OutputCommit out = OutputCommit.begin(spark, settings.output().path(), settings.output().mode());
     try {
-      RunResult result = execute(spark, plan, applied, earlier, out, started);
+      RunResult result = execute(spark, plan, applied, earlier, out, started, skipped);
       out.writeText("summary.json", SummaryJson.render(result));
       out.writeText("report.html", HtmlReport.render(result));
       out.commit();
@@ -57,11 +61,14 @@ public final class JobRunner {
   }
 
   private static RunResult execute(SparkSession spark, JobPlan plan, PcaModel applied, PcaModel earlier,
-      OutputCommit out, long started) {
+      OutputCommit out, long started, String skipped) {
     JobSettings settings = plan.settings();
     Stopwatch clock = new Stopwatch();
     Map<String, Double> timings = new LinkedHashMap<>();
     List<String> warnings = new ArrayList<>();
+    if (!skipped.isEmpty()) {
+      warnings.add(skipped);
+    }
     Dataset<Row> table = TableLoader.load(spark, settings.input());
     FitResult fit = null;
     PcaModel model = applied;

@@ -14,8 +14,8 @@ import org.apache.spark.sql.SparkSession;
 /**
  * Atomic output: everything is written under a hidden staging folder beside {@code output.path}; only when all of
  * it is written does a success marker go in and the staging folder get renamed to {@code output.path}. A run that
- * fails or is killed before the rename leaves {@code output.path} untouched (a leftover staging folder is hidden and
- * removed by the next run's {@link #abort} or by hand). With {@code overwrite}, the old folder is moved aside,
+ * fails before the rename deletes its staging folder ({@link #abort}); one that is killed leaves {@code output.path}
+ * untouched and a hidden {@code .NAME.staging-*} folder beside it, which holds no success marker and can be deleted. With {@code overwrite}, the old folder is moved aside,
  * the new one renamed in, and the old one deleted.
  */
 public final class OutputCommit {

@@ -26,8 +26,17 @@ public final class TableLoader {
       if (input.format() == Choices.InputFormat.CSV) {
         return reader.option("header", "true").option("inferSchema", "true").csv(input.path());
       }
+      if (input.corruptFiles() == Choices.CorruptFiles.SKIP) {
+        // Spark infers the schema from one file: read only the files whose footers are sound
+        InputFiles.Check files = InputFiles.check(spark, input);
+        if (!files.unreadable().isEmpty()) {
+          return reader.option("basePath", input.path()).parquet(files.readable().toArray(String[]::new));
+        }
+      }
       return reader.parquet(input.path());
-    } catch (RuntimeException e) {
+    } catch (InvalidJobException e) {
+      throw e;
+    } catch (Exception e) { // AnalysisException is checked
       throw new InvalidJobException("input.path = " + input.path() + ": cannot be read as "
           + input.format().word() + ": " + firstLine(e));
     }

@@ -158,6 +158,22 @@ class ApplyJobTest extends SparkSuite {
   }
 
   @Test
+  void scoresArePartitionedLikeTheInput() throws Exception {
+    Path dir = JobFiles.scratch("partitioned");
+    Path fit = dir.resolve("fit");
+    fitArrests(fit, 2);
+    spark.read().option("header", "true").option("inferSchema", "true").csv(Datasets.csv("usarrests").toString())
+        .withColumn("date", functions.when(functions.col("UrbanPop").gt(65), "2026-11-02").otherwise("2026-11-03"))
+        .write().partitionBy("date").parquet(dir.resolve("daily").toString());
+    RunResult r = JobRunner.run(spark, JobFiles.settings("input.path = \"" + dir.resolve("daily") + "\"\n"
+        + "features.keys = [state]\napply.model = \"" + fit + "\"\noutput.path = \"" + dir.resolve("out") + "\"\n"));
+    assertEquals(List.of("date"), r.plan().partitionColumns());
+    assertTrue(Files.isDirectory(dir.resolve("out/scores/date=2026-11-02")));
+    assertTrue(Files.isDirectory(dir.resolve("out/scores/date=2026-11-03")));
+    assertEquals(50, spark.read().parquet(dir.resolve("out/scores").toString()).count());
+  }
+
+  @Test
   void missingOrRetypedFeatureIsRejectedAndNothingIsWritten() throws Exception {
     Path dir = JobFiles.scratch("schema");
     Path fit = dir.resolve("fit");
