@@ -30,15 +30,17 @@ import org.apache.spark.sql.types.StructType;
  * version) is reused as is; anything else in its place is deleted and regenerated.
  *
  * <p>Width: the generator's base metrics plus {@code d - base} extra metrics; for d below the base count, the first
- * d base metrics of the full table. Partitions: one generator partition per {@link #ROWS_PER_PARTITION} rows, at
- * least {@link #MIN_PARTITIONS}, so that the table splits into enough input partitions for the cores.
+ * d base metrics of the full table. Partitions (the generator writes that many files per day): one per
+ * {@link #CELLS_PER_PARTITION} values, so that files hold tens of MB; a single one from {@link #WIDE} features on,
+ * because Spark 3.5's vectorised Parquet reader pays O(d^2) each time it opens a file (measured: about 2 s per file
+ * at d = 20,000), so a wide table should come in few files.
  */
 final class BenchTables {
   static final List<String> KEYS = List.of("host", "region", "workload", "ts");
   static final String PARTITION_COLUMN = "date";
   static final String SPEC_FILE = "_EIGENMILL_BENCH_SPEC";
-  static final long ROWS_PER_PARTITION = 250_000L;
-  static final int MIN_PARTITIONS = 4;
+  static final long CELLS_PER_PARTITION = 50_000_000L;
+  static final int WIDE = 1000;
 
   private BenchTables() {}
 
@@ -48,7 +50,8 @@ final class BenchTables {
     int base = numericColumns(FleetTelemetryGenerator.generate(spark, new FleetSpec(16, defaults.seed(), 0, 1,
         defaults.startDate())).schema()).size();
     int extra = Math.max(0, d - base);
-    FleetSpec spec = new FleetSpec(rows, defaults.seed(), extra, partitionsFor(rows), defaults.startDate());
+    FleetSpec spec = new FleetSpec(rows, defaults.seed(), extra, partitionsFor(rows, base + extra),
+        defaults.startDate());
     Path dir = data.resolve(String.format(Locale.ROOT, "fleet-%d-rows-%d-metrics", rows, base + extra))
         .toAbsolutePath();
     String specText = spec + "\neigenmill " + Version.current() + "\n";
@@ -71,8 +74,12 @@ final class BenchTables {
     return new BenchTable(dir.toString(), rows, List.copyOf(numeric.subList(0, d)), KEYS, spec.toString(), seconds);
   }
 
-  static int partitionsFor(long rows) {
-    return (int) Math.max(MIN_PARTITIONS, (rows + ROWS_PER_PARTITION - 1) / ROWS_PER_PARTITION);
+  static int partitionsFor(long rows, int columns) {
+    if (columns >= WIDE) {
+      return 1;
+    }
+    long cells = rows * columns;
+    return (int) Math.max(1, (cells + CELLS_PER_PARTITION - 1) / CELLS_PER_PARTITION);
   }
 
   /** Numeric columns that are neither keys nor the partition column, in schema order. */

@@ -226,23 +226,33 @@ final class MainCases {
     List<MethodAccuracy> out = new ArrayList<>();
     FitResult cov = fits.get("covariance");
     for (Map.Entry<String, FitResult> e : fits.entrySet()) {
-      double[] ratios = e.getValue().spectrum().explainedRatios();
-      double angle = e.getKey().equals("covariance") || cov == null ? Double.NaN
-          : largestAngle(cov.model(), e.getValue().model());
-      out.add(new MethodAccuracy(e.getKey(), Arrays.copyOf(ratios, Math.min(LEADING, ratios.length)), angle, true));
+      FitResult f = e.getValue();
+      double[] ratios = f.spectrum().explainedRatios();
+      boolean compared = !e.getKey().equals("covariance") && cov != null;
+      double[] ev = f.spectrum().eigenvalues();
+      int k = f.model().k();
+      out.add(new MethodAccuracy(e.getKey(), Arrays.copyOf(ratios, Math.min(LEADING, ratios.length)),
+          compared ? largestAngle(cov.model(), f.model(), k) : Double.NaN,
+          compared ? largestAngle(cov.model(), f.model(), Math.min(LEADING, k)) : Double.NaN,
+          ev.length > k ? ev[k - 1] / ev[k] : Double.NaN, true));
     }
     if (builtinRatios != null) {
-      out.add(new MethodAccuracy("builtin-pca", builtinRatios, Double.NaN, false));
+      out.add(new MethodAccuracy("builtin-pca", builtinRatios, Double.NaN, Double.NaN, Double.NaN, false));
     }
     return out;
   }
 
-  /** The largest principal angle between the k loadings of two models of the same features; NaN otherwise. */
-  static double largestAngle(PcaModel a, PcaModel b) {
-    if (!a.features().equals(b.features()) || a.k() != b.k() || a.k() == 0) {
+  /**
+   * The largest principal angle between the subspaces of the first {@code m} loadings of two models of the same
+   * features; NaN when they are not comparable.
+   */
+  static double largestAngle(PcaModel a, PcaModel b, int m) {
+    if (!a.features().equals(b.features()) || m < 1 || m > Math.min(a.k(), b.k())) {
       return Double.NaN;
     }
-    double[] angles = PrincipalAngles.between(a.loadings(), a.k(), b.loadings(), b.k(), a.d());
+    // loadings are column-major d x k: the first m columns are the first m * d values
+    double[] angles = PrincipalAngles.between(Arrays.copyOf(a.loadings(), m * a.d()), m,
+        Arrays.copyOf(b.loadings(), m * b.d()), m, a.d());
     return angles[angles.length - 1];
   }
 }

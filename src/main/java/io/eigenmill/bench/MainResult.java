@@ -23,9 +23,13 @@ public record MainResult(BenchTable table, List<CaseResult> cases, List<MethodAc
    * @param leadingRatios explained-variance ratios of the first components
    * @param largestAngle largest principal angle (radians) between this method's k = 10 loadings and the covariance
    *     method's; NaN for the covariance method itself, or when not comparable
+   * @param largestLeadingAngle the same for the first {@code leadingRatios.length} components only
+   * @param gapAfterK eigenvalue k over eigenvalue k + 1 of this method's spectrum (NaN when unknown): close to 1,
+   *     the k-th direction is nearly degenerate and any method's k-dimensional subspace is ill-determined there
    * @param scaled false for the engine's PCA, which works on unscaled features
    */
-  public record MethodAccuracy(String method, double[] leadingRatios, double largestAngle, boolean scaled) {}
+  public record MethodAccuracy(String method, double[] leadingRatios, double largestAngle, double largestLeadingAngle,
+      double gapAfterK, boolean scaled) {}
 
   /**
    * @param ours within-cluster sum of squares of our k-means (NaN when it did not run)

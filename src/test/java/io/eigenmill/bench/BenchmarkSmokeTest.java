@@ -84,7 +84,12 @@ class BenchmarkSmokeTest extends SparkSuite {
       assertEquals(lead, a.leadingRatios()[0], 1e-6, method + " leading explained-variance ratio");
       // the k = 10 subspaces of exact methods agree to rounding divided by the eigengap after component 10
       assertTrue(a.largestAngle() >= 0 && a.largestAngle() < 1e-6, method + " largest angle " + a.largestAngle());
+      // the first 3 eigenvalues are well separated on this table, so their subspace agrees to rounding too
+      assertTrue(a.largestLeadingAngle() >= 0 && a.largestLeadingAngle() < 1e-6, method + " first-3 angle "
+          + a.largestLeadingAngle());
     }
+    double gap = r.accuracyOf("covariance").orElseThrow().gapAfterK();
+    assertTrue(gap >= 1, "eigenvalues are sorted descending, so eigenvalue 10 / 11 >= 1: " + gap);
     MethodAccuracy engine = r.accuracyOf("builtin-pca").orElseThrow();
     assertFalse(engine.scaled());
     assertTrue(engine.leadingRatios()[0] > 0 && engine.leadingRatios()[0] <= 1, "engine's leading ratio");
