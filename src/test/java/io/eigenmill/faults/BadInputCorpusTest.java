@@ -138,6 +138,23 @@ class BadInputCorpusTest extends SparkSuite {
   }
 
   @Test
+  void duplicateColumnNames() throws Exception {
+    // Parquet keeps "cpu" and "CPU" apart; Spark resolves names ignoring case and refuses the pair when the table is
+    // opened, which eigenmill reports against input.path (the planner's own case-insensitive check covers sources that
+    // Spark opens without complaint)
+    Path t = dir.resolve("dupes");
+    spark.conf().set("spark.sql.caseSensitive", "true");
+    try {
+      spark.createDataFrame(healthy(10), SCHEMA).withColumn("CPU", functions.col("cpu").plus(1)).write()
+          .parquet(t.toString());
+    } finally {
+      spark.conf().set("spark.sql.caseSensitive", "false");
+    }
+    rejected(run("dupes", t, ""), "input.path = " + t + ": cannot be read as parquet: [COLUMN_ALREADY_EXISTS] The"
+        + " column `cpu` already exists. Consider to choose another name or rename the existing column.");
+  }
+
+  @Test
   void moreComponentsThanFeatures() throws Exception {
     Path t = table("few", healthy(30));
     rejected(run("few", t, "reduce.components = 7\n"), "reduce.components = 7: more components than the 3 features");
