@@ -1,5 +1,6 @@
 package io.eigenmill.bench;
 
+import io.eigenmill.spark.ValueKinds;
 import java.util.Collections;
 import java.util.Iterator;
 import org.apache.spark.api.java.function.FlatMapFunction;
@@ -13,12 +14,12 @@ import org.apache.spark.sql.vectorized.ColumnarBatch;
  */
 final class ColumnSums implements FlatMapFunction<Iterator<ColumnarBatch>, double[]> {
   private static final long serialVersionUID = 1L;
-  static final int DOUBLE = 0;
-  static final int FLOAT = 1;
-  static final int INT = 2;
-  static final int LONG = 3;
-  static final int SHORT = 4;
-  static final int BYTE = 5;
+  static final int DOUBLE = ValueKinds.DOUBLE;
+  static final int FLOAT = ValueKinds.FLOAT;
+  static final int INT = ValueKinds.INT;
+  static final int LONG = ValueKinds.LONG;
+  static final int SHORT = ValueKinds.SHORT;
+  static final int BYTE = ValueKinds.BYTE;
 
   private final int[] ordinals;
   private final int[] kinds;
@@ -103,20 +104,11 @@ final class ColumnSums implements FlatMapFunction<Iterator<ColumnarBatch>, doubl
     return s;
   }
 
-  /** The kind constant of a numeric Spark type. */
+  /** The kind constant of a numeric Spark type (decimal excluded: the floor sums primitive columns only). */
   static int kindOf(org.apache.spark.sql.types.DataType t) {
-    if (t instanceof org.apache.spark.sql.types.DoubleType) {
-      return DOUBLE;
-    } else if (t instanceof org.apache.spark.sql.types.FloatType) {
-      return FLOAT;
-    } else if (t instanceof org.apache.spark.sql.types.IntegerType) {
-      return INT;
-    } else if (t instanceof org.apache.spark.sql.types.LongType) {
-      return LONG;
-    } else if (t instanceof org.apache.spark.sql.types.ShortType) {
-      return SHORT;
-    } else if (t instanceof org.apache.spark.sql.types.ByteType) {
-      return BYTE;
+    int kind = ValueKinds.kindOf(t);
+    if (kind >= 0 && kind != ValueKinds.DECIMAL) {
+      return kind;
     }
     throw new IllegalArgumentException("not a numeric column type: " + t.simpleString());
   }

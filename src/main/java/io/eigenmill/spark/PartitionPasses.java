@@ -7,14 +7,8 @@ import java.util.List;
 import org.apache.spark.api.java.function.FlatMapFunction;
 import org.apache.spark.api.java.function.Function2;
 import org.apache.spark.sql.Row;
-import org.apache.spark.sql.types.ByteType;
 import org.apache.spark.sql.types.DataType;
 import org.apache.spark.sql.types.DecimalType;
-import org.apache.spark.sql.types.DoubleType;
-import org.apache.spark.sql.types.FloatType;
-import org.apache.spark.sql.types.IntegerType;
-import org.apache.spark.sql.types.LongType;
-import org.apache.spark.sql.types.ShortType;
 import org.apache.spark.sql.vectorized.ColumnVector;
 import org.apache.spark.sql.vectorized.ColumnarBatch;
 import org.apache.spark.util.LongAccumulator;
@@ -27,32 +21,16 @@ import org.apache.spark.util.LongAccumulator;
 final class PartitionPasses {
   private PartitionPasses() {}
 
-  static final int DOUBLE = 0;
-  static final int FLOAT = 1;
-  static final int INT = 2;
-  static final int LONG = 3;
-  static final int SHORT = 4;
-  static final int BYTE = 5;
-  static final int DECIMAL = 6;
+  static final int DOUBLE = ValueKinds.DOUBLE;
+  static final int FLOAT = ValueKinds.FLOAT;
+  static final int INT = ValueKinds.INT;
+  static final int LONG = ValueKinds.LONG;
+  static final int SHORT = ValueKinds.SHORT;
+  static final int BYTE = ValueKinds.BYTE;
 
   /** The reader's code for a numeric Spark type, or -1 when the type is not numeric. */
   static int kindOf(DataType type) {
-    if (type instanceof DoubleType) {
-      return DOUBLE;
-    } else if (type instanceof FloatType) {
-      return FLOAT;
-    } else if (type instanceof IntegerType) {
-      return INT;
-    } else if (type instanceof LongType) {
-      return LONG;
-    } else if (type instanceof ShortType) {
-      return SHORT;
-    } else if (type instanceof ByteType) {
-      return BYTE;
-    } else if (type instanceof DecimalType) {
-      return DECIMAL;
-    }
-    return -1;
+    return ValueKinds.kindOf(type);
   }
 
   /** Settings shared by both readers. */
