@@ -13,7 +13,6 @@ import io.eigenmill.spark.ScoringPass;
 import io.eigenmill.spark.TopRows;
 import java.util.ArrayList;
 import java.util.List;
-import java.util.Locale;
 import org.apache.spark.sql.Column;
 import org.apache.spark.sql.Dataset;
 import org.apache.spark.sql.Row;
@@ -48,7 +47,7 @@ final class ScoringStage {
   }
 
   /** What scoring produced: the monitoring record, a sample for the score map, and where the scores are. */
-  record Outcome(MonitorResult monitor, ScoreSample sample, String scoresPath, List<String> passThrough) {}
+  record Outcome(MonitorResult monitor, ScoreSample sample, String scoresPath) {}
 
   Outcome score(Dataset<Row> table, boolean fittedRows) {
     JobSettings s = plan.settings();
@@ -81,12 +80,13 @@ final class ScoringStage {
     }
     failOnMissing(counters.dropped().value(), s.prepare().missing());
     Dataset<Row> written = spark.read().parquet(path);
-    MonitorResult monitor = new MonitorResult(confidence, k, counters.scored().value(),
+    long rows = counters.scored().value();
+    MonitorResult monitor = new MonitorResult(confidence, k, rows,
         counters.flaggedT2().value(), counters.flaggedQ().value(), counters.flaggedBoth().value(), t2Limit, t2Rule,
-        qLimit, qRule, series(written, passThrough), flagged(counters.top(), t2Limit, qLimit));
+        qLimit, qRule, series(written, passThrough, rows), flagged(counters.top(), t2Limit, qLimit));
     LOG.info("score: {} rows, flagged T2 {}, Q {}, both {}", monitor.rowsScored(), monitor.flaggedT2(),
         monitor.flaggedQ(), monitor.flaggedBoth());
-    return new Outcome(monitor, sample(written, passThrough, k), path, passThrough);
+    return new Outcome(monitor, sample(written, k, rows), path);
   }
 
   private ScoringPass.Spec spec(JobSettings s, int passThrough, boolean reconstruct, double t2Limit,
@@ -119,7 +119,8 @@ final class ScoringStage {
   }
 
   /** T2 and Q along time (maximum per time bucket) when a key is a timestamp, else along a seeded row sample. */
-  private MonitorResult.Series series(Dataset<Row> scores, List<String> passThrough) {
+  /** {@code n} is the number of scored rows (counted by the scoring pass: the written table is not counted again). */
+  private MonitorResult.Series series(Dataset<Row> scores, List<String> passThrough, long n) {
     String time = null;
     for (StructField f : scores.schema().fields()) {
       if (passThrough.contains(f.name()) && isTime(f.dataType())) {
@@ -143,7 +144,6 @@ final class ScoringStage {
           .collectAsList();
       label = time + " (maximum per " + width + " s)";
     } else {
-      long n = scores.count();
       double fraction = Math.min(1.0, 1.5 * SERIES_POINTS / Math.max(1, n));
       rows = scores.sample(false, fraction, 17).limit(SERIES_POINTS)
           .select(functions.monotonically_increasing_id(), functions.col("t2"), functions.col("q")).collectAsList();
@@ -182,7 +182,7 @@ final class ScoringStage {
     return out;
   }
 
-  private ScoreSample sample(Dataset<Row> scores, List<String> passThrough, int k) {
+  private ScoreSample sample(Dataset<Row> scores, int k, long n) {
     int size = plan.settings().output().reportSample();
     List<String> keys = new ArrayList<>(plan.keys());
     List<Column> cols = new ArrayList<>();
@@ -193,7 +193,6 @@ final class ScoringStage {
     for (int c = 1; c <= dims; c++) {
       cols.add(functions.col("pc_" + c));
     }
-    long n = scores.count();
     double fraction = Math.min(1.0, 1.2 * size / Math.max(1, n));
     List<Row> rows = size == 0 ? List.of()
         : scores.sample(false, fraction, 23).limit(size).select(cols.toArray(new Column[0])).collectAsList();
@@ -248,9 +247,5 @@ final class ScoringStage {
         .add("rmse", DataTypes.DoubleType, false).add("max_abs_error", DataTypes.DoubleType, false)
         .add("variance_kept", DataTypes.DoubleType, false);
     spark.createDataFrame(rows, schema).coalesce(1).write().parquet(out.staged("reconstruction-error"));
-  }
-
-  static String format(double v) {
-    return String.format(Locale.ROOT, "%.6g", v);
   }
 }

@@ -52,10 +52,6 @@ public final class Linalg {
     return "BLAS " + name(BLAS_INSTANCE) + ", LAPACK " + name(LAPACK_INSTANCE);
   }
 
-  public static boolean nativeBlas() {
-    return BLAS_INSTANCE.getClass().getSimpleName().startsWith("JNI");
-  }
-
   private static String name(Object impl) {
     String simple = impl.getClass().getSimpleName();
     return simple + (simple.startsWith("JNI") ? " (native)" : " (pure Java)");

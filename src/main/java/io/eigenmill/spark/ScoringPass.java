@@ -81,16 +81,6 @@ public final class ScoringPass {
     return input.mapPartitions(new ScoreRows(spec, counters), Encoders.row(out));
   }
 
-  /** Names of the score columns the pass adds, in order. */
-  public static List<String> scoreColumns(int k) {
-    List<String> out = new ArrayList<>();
-    for (int c = 1; c <= k; c++) {
-      out.add("pc_" + c);
-    }
-    out.addAll(List.of("t2", "q", "flag_t2", "flag_q"));
-    return out;
-  }
-
   static final class ScoreRows implements MapPartitionsFunction<Row, Row> {
     private static final long serialVersionUID = 1L;
     private final Spec spec;
