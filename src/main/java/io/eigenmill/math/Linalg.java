@@ -54,7 +54,12 @@ public final class Linalg {
 
   private static String name(Object impl) {
     String simple = impl.getClass().getSimpleName();
-    return simple + (simple.startsWith("JNI") ? " (native)" : " (pure Java)");
+    if (!simple.startsWith("JNI")) {
+      return simple + " (pure Java)";
+    }
+    // OpenBLAS's kernel choice, when forced (local-demo/blas-env sets it from the CPU flags)
+    String core = System.getenv("OPENBLAS_CORETYPE");
+    return simple + (core == null || core.isBlank() ? " (native)" : " (native, OPENBLAS_CORETYPE=" + core + ")");
   }
 
   /** Throws with the routine's name when a LAPACK call reports {@code info != 0}. */

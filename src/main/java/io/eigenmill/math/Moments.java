@@ -33,6 +33,7 @@ public final class Moments implements Serializable {
   private final double[] m2;
   private transient double[] scratch;
   private transient double[] residualScratch;
+  private transient double[] gramResidualScratch;
 
   private Moments(int d, boolean gram, long n, double[] shift, double[] mean, double[] m2) {
     this.d = d;
@@ -78,46 +79,94 @@ public final class Moments implements Serializable {
     }
     double[] centre = scratch();
     double[] residual = residualScratch;
+    double[] gramResidual = gramResidualScratch;
+    double[] sums = new double[2];
     for (int j = 0; j < d; j++) {
       int off = j * ld;
-      double s = 0;
-      for (int i = 0; i < rows; i++) {
-        s += block[off + i];
+      double mu = sum(block, off, rows) / rows;
+      // centre on mu (rounded): the centred values are exact when mu is within a factor 2 of them, and their mean,
+      // the residual, is what the rounding of the sum left over; it enters the Gram and the merge below
+      centre(block, off, rows, mu, sums);
+      double res = sums[0] / rows;
+      double offset = res;
+      if (rows * res * res * (1 << CANCEL_BITS) > sums[1]) {
+        // the residual correction would cost more than 2^-CANCEL_BITS of the sum of squares: centre once more, on
+        // mu + res; mu stays the block's origin and the two residuals add up to its mean relative to mu
+        centre(block, off, rows, res, sums);
+        res = sums[0] / rows;
+        offset += res;
       }
-      double mu = s / rows;
-      // second pass: correct the mean by the mean residual (exact up to one rounding)
-      double r = 0;
-      for (int i = 0; i < rows; i++) {
-        r += block[off + i] - mu;
-      }
-      mu += r / rows;
       centre[j] = mu;
-      // mu is rounded to ulp(mu); the centred values are exact and their mean is what that rounding left over
-      double left = 0;
-      for (int i = 0; i < rows; i++) {
-        double v = block[off + i] - mu;
-        block[off + i] = v;
-        left += v;
+      residual[j] = offset;
+      gramResidual[j] = res;
+      if (!gram) {
+        m2[j] += sums[1] - rows * res * res;
       }
-      residual[j] = left / rows;
     }
-    // the Gram of the centred rows is taken about the rounded mean; subtract rows * residual residual^T to have it
-    // about the block's exact mean, centre + residual, which is what the merge below combines
+    // the Gram of the centred rows is taken about what the block was centred on; subtract rows * res res^T to have
+    // it about the block's exact mean, centre + residual, which is what the merge below combines
     if (gram) {
       Linalg.blas().dsyrk("U", "T", d, rows, 1.0, block, ld, 1.0, m2, d);
-      Linalg.repeatableBlas().dsyr("U", d, -(double) rows, residual, 1, m2, d);
-    } else {
-      for (int j = 0; j < d; j++) {
-        int off = j * ld;
-        double s = 0;
-        for (int i = 0; i < rows; i++) {
-          double v = block[off + i];
-          s += v * v;
-        }
-        m2[j] += s - rows * residual[j] * residual[j];
-      }
+      Linalg.repeatableBlas().dsyr("U", d, -(double) rows, gramResidual, 1, m2, d);
     }
     combineMeans(centre, residual, rows);
+  }
+
+  /**
+   * A block is centred a second time when the correction of its Gram by the residual mean, rows res^2, exceeds
+   * 2^-CANCEL_BITS of the sum of squares about the first mean (the correction then costs more than
+   * log2(16 / 15) = 0.1 bit). A block's sum in four chains has a relative error of about (rows / 4) eps, so this
+   * happens only when a column's offset exceeds its spread by many orders of magnitude.
+   */
+  static final int CANCEL_BITS = 4;
+
+  /** Sum of {@code rows} values from {@code off}, in four independent chains (no wait on one adder). */
+  static double sum(double[] a, int off, int rows) {
+    double s0 = 0;
+    double s1 = 0;
+    double s2 = 0;
+    double s3 = 0;
+    int i = 0;
+    for (; i + 3 < rows; i += 4) {
+      s0 += a[off + i];
+      s1 += a[off + i + 1];
+      s2 += a[off + i + 2];
+      s3 += a[off + i + 3];
+    }
+    for (; i < rows; i++) {
+      s0 += a[off + i];
+    }
+    return (s0 + s1) + (s2 + s3);
+  }
+
+  /**
+   * Subtracts {@code mu} in place; {@code out[0]} gets the sum of the centred values, {@code out[1]} the sum of
+   * their squares (two chains each).
+   */
+  private static void centre(double[] a, int off, int rows, double mu, double[] out) {
+    double s0 = 0;
+    double s1 = 0;
+    double q0 = 0;
+    double q1 = 0;
+    int i = 0;
+    for (; i + 1 < rows; i += 2) {
+      double v0 = a[off + i] - mu;
+      double v1 = a[off + i + 1] - mu;
+      a[off + i] = v0;
+      a[off + i + 1] = v1;
+      s0 += v0;
+      s1 += v1;
+      q0 += v0 * v0;
+      q1 += v1 * v1;
+    }
+    if (i < rows) {
+      double v = a[off + i] - mu;
+      a[off + i] = v;
+      s0 += v;
+      q0 += v * v;
+    }
+    out[0] = s0 + s1;
+    out[1] = q0 + q1;
   }
 
   /** Merges {@code other} into this (Chan, Golub and LeVeque); {@code other} is unchanged. */
@@ -172,6 +221,7 @@ public final class Moments implements Serializable {
     if (scratch == null) {
       scratch = new double[d];
       residualScratch = new double[d];
+      gramResidualScratch = new double[d];
     }
     return scratch;
   }

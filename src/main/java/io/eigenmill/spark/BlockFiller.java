@@ -80,16 +80,19 @@ final class BlockFiller<A extends Serializable> {
 
   private int compact(int t) {
     int dropped = 0;
+    int first = -1;
     for (int i = 0; i < t; i++) {
       if (bad[fill + i]) {
         dropped++;
+        first = first < 0 ? i : first;
       }
     }
     counts.rowsDropped += dropped;
+    // rows before the first dropped one stay where they are
     for (int j = 0; j < d; j++) {
       int off = j * capacity + fill;
-      int w = 0;
-      for (int i = 0; i < t; i++) {
+      int w = first;
+      for (int i = first; i < t; i++) {
         if (!bad[fill + i]) {
           block[off + w++] = block[off + i];
         }

@@ -399,8 +399,9 @@ class MomentsTest {
 
   /**
    * Blocks in several shapes (single rows, small, uneven, one block) and, for each, a merge of partitions. Each
-   * block is centred on its own mean, a double within 0.5 ulp(1e9) = 6e-8 of the exact mean, and 1e9 +/- 1 minus
-   * that mean is exact (Sterbenz's lemma, Higham 2002 Thm 2.5); the brief's requirement is a relative error below
+   * block is centred on its computed mean, a double near 1e9, and 1e9 +/- 1 minus that double is exact (Sterbenz's
+   * lemma, Higham 2002 Thm 2.5); the mean of the centred values (what the rounding of the block's sum left over)
+   * corrects the Gram and the block's mean; the brief's requirement is a relative error below
    * 1e-6, and what is left after exact centring is a sum of n non-negative products and of the merge terms, whose
    * relative error is at most gamma_{n + 8 blocks} (Higham 2002, §4.2) when the block means enter the merge without
    * loss: we assert that sharper bound too.
@@ -432,6 +433,33 @@ class MomentsTest {
         assertArrayEquals(new double[] {OFFSET, OFFSET, OFFSET, OFFSET}, left.mean(), 1e-3,
             "means stay at the offset");
       }
+    }
+  }
+
+  /**
+   * Offset 1e16 and standard deviation 16 in one block of 2^20 rows (the largest reduce.block-rows allows): each of
+   * the four chains of the block's sum reaches 2.6e21, where one ulp is 5e5, so the first mean misses by thousands
+   * of standard deviations (measured here: about 4e4, so rows res^2 / ss = 6e6) and the Gram about it would lose
+   * some 22 bits to the residual correction (measured with the second centring switched off: relative error 3e-10,
+   * above the bound below); the second centring (taken when the correction exceeds 1/16 of the sum of squares) keeps the
+   * variance to the exact one (BigDecimal, as above) within gamma_{n + 16} (Higham 2002, §4.2; values 1e16 +/- 100
+   * stored in doubles are multiples of 2, and subtracting a double near them is exact by Sterbenz's lemma).
+   */
+  @Test
+  void aHugeOffsetInOneLargeBlockIsCentredTwice() {
+    int n = 1 << 20;
+    Random random = new Random(29);
+    double[] x = new double[n];
+    for (int i = 0; i < n; i++) {
+      x[i] = 1e16 + 16 * random.nextGaussian();
+    }
+    double truth = exactCovariance(x, n, 1)[0];
+    for (boolean gram : new boolean[] {true, false}) {
+      Moments m = Moments.empty(1, gram);
+      m.addBlock(x.clone(), n, n);
+      double rel = Math.abs(m.variances()[0] - truth) / truth;
+      assertTrue(rel <= gamma(n + 16), "gram " + gram + ": relative error " + rel + " > " + gamma(n + 16));
+      assertEquals(1e16, m.mean()[0], 2, "the mean stays at the offset");
     }
   }
 
