@@ -32,10 +32,11 @@ import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 
 /**
- * Fits a PCA model: the moments pass (count, means, variances, and for the covariance method the full Gram), then the
- * method's own passes, the eigen-decomposition on the driver, the sign convention and the choice of k.
+ * Fits a PCA model: the first pass (count, means, variances, and for the covariance method the full Gram; for TSQR
+ * the R factor of the centred rows), then the randomized method's own passes, the decomposition on the driver, the
+ * sign convention and the choice of k.
  *
- * <p>Passes: covariance 1 (2 with impute-mean), TSQR 2, randomized 2 + power-iterations. Missing values follow
+ * <p>Passes: covariance 1, TSQR 1, randomized 2 + power-iterations; one more with impute-mean (the column means). Missing values follow
  * {@code prepare.missing}; constant columns are dropped with a warning; results do not depend on the partitioning
  * beyond rounding.
  */
@@ -76,17 +77,29 @@ public final class FitJob {
       imputed = stats.counts().totalMissingCells();
       clock.lap("column-means");
     }
-    boolean gram = plan.method() == Method.COVARIANCE;
-    PartialResult<Moments> pass = input.run("fit/moments", new Aggregators.MomentsPass(d, gram),
-        impute == null ? ReadMode.DROP : ReadMode.MARK, impute == null ? BlockPrep.identity()
-            : BlockPrep.imputeOnly(impute));
+    ReadMode mode = impute == null ? ReadMode.DROP : ReadMode.MARK;
+    BlockPrep imputation = impute == null ? BlockPrep.identity() : BlockPrep.imputeOnly(impute);
+    // TSQR: one pass gives count, means and the R factor of the centred rows; the others start with the moments
+    RFactor rFactor = null;
+    Moments moments = null;
+    ReadCounts counts;
+    if (plan.method() == Method.TSQR) {
+      PartialResult<RFactor> pass = input.run("fit/tsqr", new Aggregators.RFactorPass(d), mode, imputation);
+      rFactor = pass.value();
+      counts = pass.counts();
+      clock.lap("tsqr");
+    } else {
+      PartialResult<Moments> pass = input.run("fit/moments",
+          new Aggregators.MomentsPass(d, plan.method() == Method.COVARIANCE), mode, imputation);
+      moments = pass.value();
+      counts = pass.counts();
+      clock.lap("moments");
+    }
     passes++;
-    clock.lap("moments");
-    ReadCounts counts = pass.counts();
-    Moments moments = pass.value();
-    checkRows(counts, moments, missing);
-    double[] means = moments.mean();
-    double[] variances = moments.variances();
+    long used = rFactor != null ? rFactor.count() : moments.count();
+    checkRows(counts, used, missing);
+    double[] means = rFactor != null ? rFactor.mean() : moments.mean();
+    double[] variances = rFactor != null ? rFactor.variances() : moments.variances();
     List<String> dropped = new ArrayList<>();
     int[] keep = keptColumns(means, variances, dropped);
     if (!dropped.isEmpty()) {
@@ -105,14 +118,11 @@ public final class FitJob {
     }
     Spectrum spectrum = switch (plan.method()) {
       case COVARIANCE -> covarianceSpectrum(moments, keep, scales);
-      case TSQR -> {
-        passes++;
-        yield tsqrSpectrum(input, impute, means, variances, keep, scales);
-      }
+      case TSQR -> Spectrum.ofRFactor(rFactor, keep, inverses(scales));
       default -> {
         int l = Math.min(dk, MethodChoice.sketchSize(s.reduce(), dk));
         passes += s.reduce().powerIterations() + 1;
-        yield randomizedSpectrum(input, impute, means, keep, scales, variances, moments.count(), l);
+        yield randomizedSpectrum(input, impute, means, keep, scales, variances, used, l);
       }
     };
     clock.lap(plan.method().word());
@@ -127,11 +137,11 @@ public final class FitJob {
     double[] loadings = new double[dk * k[0]];
     System.arraycopy(spectrum.loadings(), 0, loadings, 0, loadings.length);
     PcaModel model = new PcaModel(PcaModel.FORMAT_VERSION, Version.current(), kept, keptTypes,
-        s.prepare().scaling().word(), plan.method().word(), moments.count(), keptMeans, scales, k[0], loadings,
+        s.prepare().scaling().word(), plan.method().word(), used, keptMeans, scales, k[0], loadings,
         spectrum.eigenvalues(), plan.method() != Method.RANDOMIZED, spectrum.totalVariance(),
         PcaModel.fingerprint(kept, keptTypes), sqrtOf(select(variances, keep)));
     clock.lap("model");
-    LOG.info("fit: {} rows used, k = {} ({}), first ratios {}", moments.count(), k[0], rule,
+    LOG.info("fit: {} rows used, k = {} ({}), first ratios {}", used, k[0], rule,
         firstRatios(spectrum, Math.min(3, spectrum.available())));
     return new FitResult(plan, model, spectrum, dropped, counts.rowsRead(), counts.rowsDropped(), imputed,
         counts.missingCells(), input.columnar(), passes, rule, Linalg.describe(), clock.timings(), warnings);
@@ -154,7 +164,7 @@ public final class FitJob {
     return stats.means();
   }
 
-  private void checkRows(ReadCounts counts, Moments moments, MissingPolicy missing) {
+  private void checkRows(ReadCounts counts, long used, MissingPolicy missing) {
     String path = plan.settings().input().path();
     if (counts.rowsRead() == 0) {
       throw new InvalidJobException("input.path = " + path + ": the table has no rows");
@@ -163,12 +173,12 @@ public final class FitJob {
       throw new InvalidJobException("prepare.missing = fail: the input has missing values (null, NaN or infinite): "
           + missingSummary(counts) + "; set prepare.missing = drop-rows or impute-mean");
     }
-    if (moments.count() == 0) {
+    if (used == 0) {
       throw new InvalidJobException("prepare.missing = " + missing.word() + ": no rows left: all "
           + counts.rowsRead() + " rows have a missing value (" + missingSummary(counts) + ")");
     }
-    if (moments.count() < 2) {
-      throw new InvalidJobException("input.path = " + path + ": only " + moments.count()
+    if (used < 2) {
+      throw new InvalidJobException("input.path = " + path + ": only " + used
           + " usable row; a PCA needs at least 2 rows");
     }
   }
@@ -248,11 +258,12 @@ public final class FitJob {
     return impute == null ? ReadMode.DROP : ReadMode.MARK;
   }
 
-  private static Spectrum tsqrSpectrum(FeatureInput input, double[] impute, double[] means, double[] variances,
-      int[] keep, double[] scales) {
-    PartialResult<RFactor> r = input.run("fit/tsqr", new Aggregators.RFactorPass(keep.length), modeFor(impute),
-        centreAndScale(impute, means, variances, keep, scales));
-    return Spectrum.ofRFactor(r.value(), keep.length);
+  private static double[] inverses(double[] scales) {
+    double[] f = new double[scales.length];
+    for (int i = 0; i < f.length; i++) {
+      f[i] = 1.0 / scales[i];
+    }
+    return f;
   }
 
   private Spectrum randomizedSpectrum(FeatureInput input, double[] impute, double[] means, int[] keep,

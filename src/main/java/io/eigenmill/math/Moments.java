@@ -83,16 +83,16 @@ public final class Moments implements Serializable {
     double[] sums = new double[2];
     for (int j = 0; j < d; j++) {
       int off = j * ld;
-      double mu = sum(block, off, rows) / rows;
+      double mu = ColumnSweeps.sum(block, off, rows) / rows;
       // centre on mu (rounded): the centred values are exact when mu is within a factor 2 of them, and their mean,
       // the residual, is what the rounding of the sum left over; it enters the Gram and the merge below
-      centre(block, off, rows, mu, sums);
+      ColumnSweeps.centre(block, off, rows, mu, sums);
       double res = sums[0] / rows;
       double offset = res;
       if (rows * res * res * (1 << CANCEL_BITS) > sums[1]) {
         // the residual correction would cost more than 2^-CANCEL_BITS of the sum of squares: centre once more, on
         // mu + res; mu stays the block's origin and the two residuals add up to its mean relative to mu
-        centre(block, off, rows, res, sums);
+        ColumnSweeps.centre(block, off, rows, res, sums);
         res = sums[0] / rows;
         offset += res;
       }
@@ -119,55 +119,6 @@ public final class Moments implements Serializable {
    * happens only when a column's offset exceeds its spread by many orders of magnitude.
    */
   static final int CANCEL_BITS = 4;
-
-  /** Sum of {@code rows} values from {@code off}, in four independent chains (no wait on one adder). */
-  static double sum(double[] a, int off, int rows) {
-    double s0 = 0;
-    double s1 = 0;
-    double s2 = 0;
-    double s3 = 0;
-    int i = 0;
-    for (; i + 3 < rows; i += 4) {
-      s0 += a[off + i];
-      s1 += a[off + i + 1];
-      s2 += a[off + i + 2];
-      s3 += a[off + i + 3];
-    }
-    for (; i < rows; i++) {
-      s0 += a[off + i];
-    }
-    return (s0 + s1) + (s2 + s3);
-  }
-
-  /**
-   * Subtracts {@code mu} in place; {@code out[0]} gets the sum of the centred values, {@code out[1]} the sum of
-   * their squares (two chains each).
-   */
-  private static void centre(double[] a, int off, int rows, double mu, double[] out) {
-    double s0 = 0;
-    double s1 = 0;
-    double q0 = 0;
-    double q1 = 0;
-    int i = 0;
-    for (; i + 1 < rows; i += 2) {
-      double v0 = a[off + i] - mu;
-      double v1 = a[off + i + 1] - mu;
-      a[off + i] = v0;
-      a[off + i + 1] = v1;
-      s0 += v0;
-      s1 += v1;
-      q0 += v0 * v0;
-      q1 += v1 * v1;
-    }
-    if (i < rows) {
-      double v = a[off + i] - mu;
-      a[off + i] = v;
-      s0 += v;
-      q0 += v * v;
-    }
-    out[0] = s0 + s1;
-    out[1] = q0 + q1;
-  }
 
   /** Merges {@code other} into this (Chan, Golub and LeVeque); {@code other} is unchanged. */
   public Moments merge(Moments other) {

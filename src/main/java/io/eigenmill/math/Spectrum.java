@@ -63,9 +63,13 @@ public record Spectrum(int d, double[] eigenvalues, double[] loadings, double to
     return new Spectrum(d, e.values(), e.vectors(), trace);
   }
 
-  /** From the R factor of the centred (scaled) rows: eigenvalues sigma^2 / (n - 1). */
-  public static Spectrum ofRFactor(RFactor r, int d) {
-    RFactor.Svd svd = r.svd();
+  /**
+   * From the R factor of the centred rows, restricted to the columns {@code keep} and column i multiplied by
+   * {@code factor[i]}: eigenvalues sigma^2 / (n - 1).
+   */
+  public static Spectrum ofRFactor(RFactor r, int[] keep, double[] factor) {
+    int d = keep.length;
+    RFactor.Svd svd = r.svd(keep, factor);
     long n = r.count();
     double denominator = Math.max(1, n - 1);
     double[] values = new double[d];

@@ -10,7 +10,7 @@ import io.eigenmill.settings.JobSettings;
  * <ul>
  *   <li>covariance: one pass, d x d Gram per task and on the driver; the default while d is at most
  *       {@code reduce.covariance-max-features} and the Gram fits.
- *   <li>tsqr: moments pass + QR pass; d x d R per task; chosen only when asked (best accuracy for ill-conditioned
+ *   <li>tsqr: one pass (each block centred on its mean and QR-factored with the R so far); d x d R per task; chosen only when asked (best accuracy for ill-conditioned
  *       data, since singular values are not squared).
  *   <li>randomized: moments pass + (power-iterations + 1) passes; d x l arrays only, for wide tables.
  * </ul>

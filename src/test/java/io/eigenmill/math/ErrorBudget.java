@@ -90,12 +90,14 @@ final class ErrorBudget {
    * ||F||_2, the perturbation of the TSQR route after {@code steps} QR steps (blocks plus merges), apart from the
    * column shift of {@link #shiftNorm}. Householder QR is exact for X + Delta X with ||Delta x_j|| <= gamma~_{m d}
    * ||x_j|| (Higham 2002, Thm 19.4; gamma~_k = c k u, c a small constant taken as 4); each step of the chain factors
-   * (rows + d) x d, so m sums to n + steps d (Demmel, Grigori, Hoemmen and Langou 2012, SIAM J. Sci. Comput. 34(1),
-   * show the tree variants share this bound). dgesvd of R adds SOLVER d ulp sigma_1, and the subtraction of the
-   * centre rounds each entry by at most 3u |x| (with the rounding of the mean's own digits).
+   * (rows + d + 1) x d (the R so far, the block, and the row sqrt(w) delta of the means), so m sums to
+   * n + steps (d + 1) (Demmel, Grigori, Hoemmen and Langou 2012, SIAM J. Sci. Comput. 34(1), show the tree variants
+   * share this bound). dgesvd of R adds SOLVER d ulp sigma_1, and the subtraction of each block's centre rounds each
+   * entry by at most 3u |x| (with the rounding of the mean's own digits; the rows of mean differences carry the same
+   * relative error).
    */
   double tsqrX(int steps) {
-    double qr = gamma(4.0 * d * (n + (double) steps * d)) * frobCentred;
+    double qr = gamma(4.0 * d * (n + (double) steps * (d + 1))) * frobCentred;
     return qr + SOLVER * d * ULP * sigma1() + 3 * U * frobRaw;
   }
 

@@ -14,7 +14,7 @@ import org.junit.jupiter.params.provider.MethodSource;
 /**
  * The two exact routes of the fit on seeded matrices, against EJML 0.43.1's SVD of the full centred matrix computed
  * in the test: the covariance route (Moments in blocks, Spectrum.ofCovariance) and the TSQR route (means from
- * Moments, BlockPrep centring, RFactor blocks merged across partitions, Spectrum.ofRFactor), as FitJob chains them.
+ * Moments; RFactor blocks, each centred on its mean, merged across partitions, Spectrum.ofRFactor), as FitJob chains them.
  *
  * <p>Checked: eigenvalues against sigma^2 / (n - 1) within the Weyl bound of {@link ErrorBudget}; eigenvectors as
  * subspaces (largest principal angle, sign-free), grouping eigenvalues closer than 100 times the perturbation, whose
@@ -143,21 +143,13 @@ class ExactSpectrumTest {
     return total.covariance();
   }
 
-  /** The TSQR route: means from Moments (diagonal mode), centring by BlockPrep, RFactor per partition, merged. */
+  /** The TSQR route: raw blocks into one RFactor per partition (each block centred on its mean), merged. */
   static RFactor rFactorOf(Case c) {
-    Moments means = Moments.empty(c.d, false);
-    MathFixtures.feed(c.x, c.n, c.d, BLOCKS, 0, means::addBlock);
-    double[] ones = new double[c.d];
-    java.util.Arrays.fill(ones, 1.0);
-    BlockPrep prep = BlockPrep.of(null, means.mean(), ones, null);
     RFactor total = RFactor.empty(c.d);
     for (int p = 0; p < PARTITIONS; p++) {
       int[] s = slice(c.n, p);
       RFactor part = RFactor.empty(c.d);
-      MathFixtures.feed(MathFixtures.rows(c.x, c.n, c.d, s[0], s[1]), s[1], c.d, BLOCKS, 2, (b, rows, ld) -> {
-        prep.apply(b, rows, ld);
-        part.addBlock(b, rows, ld);
-      });
+      MathFixtures.feed(MathFixtures.rows(c.x, c.n, c.d, s[0], s[1]), s[1], c.d, BLOCKS, 2, part::addBlock);
       total.merge(part);
     }
     return total;
@@ -198,7 +190,7 @@ class ExactSpectrumTest {
       double tol = budget.tsqrSigma(steps, i) + budget.referenceX();
       assertEquals(ref.values()[i], sv[i], tol, c + ": singular value " + i);
     }
-    Spectrum spectrum = Spectrum.ofRFactor(r, c.d);
+    Spectrum spectrum = MathFixtures.spectrumOf(r);
     double code = budget.tsqrC(steps);
     double reference = budget.referenceC();
     assertSpectrumMatches(c, spectrum, ref, budget, code, reference);

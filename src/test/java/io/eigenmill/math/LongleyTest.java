@@ -79,20 +79,12 @@ class LongleyTest {
   /** Two partitions of 8 rows in blocks of 3: 6 blocks and 2 merges. */
   private static final int STEPS = 8;
 
-  /** Means (Moments, diagonal mode, as the TSQR fit's first pass), BlockPrep centring, two RFactor partitions. */
+  /** The one-pass TSQR route: two RFactor partitions fed raw blocks (each centred on its own mean), merged. */
   private static RFactor tsqr() {
-    Moments m = Moments.empty(D, false);
-    MathFixtures.feed(X, N, D, new int[] {5}, 0, m::addBlock);
-    double[] ones = new double[D];
-    Arrays.fill(ones, 1.0);
-    BlockPrep prep = BlockPrep.of(null, m.mean(), ones, null);
     RFactor total = RFactor.empty(D);
     for (int p = 0; p < 2; p++) {
       RFactor part = RFactor.empty(D);
-      MathFixtures.feed(MathFixtures.rows(X, N, D, 8 * p, 8), 8, D, BLOCKS, 1, (b, rows, ld) -> {
-        prep.apply(b, rows, ld);
-        part.addBlock(b, rows, ld);
-      });
+      MathFixtures.feed(MathFixtures.rows(X, N, D, 8 * p, 8), 8, D, BLOCKS, 1, part::addBlock);
       total.merge(part);
     }
     return total;
@@ -119,7 +111,7 @@ class LongleyTest {
    */
   @Test
   void tsqrEigenvaluesMatchMpmathToRelativeAccuracy() {
-    Spectrum s = Spectrum.ofRFactor(tsqr(), D);
+    Spectrum s = MathFixtures.spectrumOf(tsqr());
     double[] exact = mpmathEigenvalues();
     for (int i = 0; i < D; i++) {
       double e = BUDGET.tsqrSigma(STEPS, i) + U * BUDGET.frobRaw;
@@ -135,7 +127,7 @@ class LongleyTest {
    */
   @Test
   void tsqrLoadingsMatchTheReferenceWithTheirSigns() {
-    Spectrum s = Spectrum.ofRFactor(tsqr(), D);
+    Spectrum s = MathFixtures.spectrumOf(tsqr());
     double[][] ref = Datasets.matrix(REF.get("loadings"));
     double code = BUDGET.tsqrC(STEPS);
     double reference = BUDGET.referenceC();

@@ -1,5 +1,8 @@
 package io.eigenmill.math;
 
+import java.math.BigDecimal;
+import java.math.MathContext;
+
 import java.util.Arrays;
 import java.util.Random;
 import org.ejml.data.DMatrixRMaj;
@@ -245,5 +248,43 @@ final class MathFixtures {
       System.arraycopy(x, start + j * n, b, j * rows, rows);
     }
     return b;
+  }
+
+  /** Exact sample covariance of the stored doubles with BigDecimal (sums exact, one division to 34 digits). */
+  static double[] exactCovariance(double[] x, int n, int d) {
+    BigDecimal[][] centred = new BigDecimal[d][n];
+    for (int j = 0; j < d; j++) {
+      BigDecimal sum = BigDecimal.ZERO;
+      for (int i = 0; i < n; i++) {
+        sum = sum.add(new BigDecimal(x[i + j * n]));
+      }
+      BigDecimal mean = sum.divide(BigDecimal.valueOf(n), MathContext.DECIMAL128);
+      for (int i = 0; i < n; i++) {
+        centred[j][i] = new BigDecimal(x[i + j * n]).subtract(mean);
+      }
+    }
+    double[] cov = new double[d * d];
+    for (int a = 0; a < d; a++) {
+      for (int b = 0; b < d; b++) {
+        BigDecimal s = BigDecimal.ZERO;
+        for (int i = 0; i < n; i++) {
+          s = s.add(centred[a][i].multiply(centred[b][i]));
+        }
+        cov[a + b * d] = s.divide(BigDecimal.valueOf(n - 1), MathContext.DECIMAL128).doubleValue();
+      }
+    }
+    return cov;
+  }
+
+  /** Spectrum.ofRFactor on every column, unscaled. */
+  static Spectrum spectrumOf(RFactor r) {
+    int d = r.dimension();
+    int[] all = new int[d];
+    double[] ones = new double[d];
+    for (int j = 0; j < d; j++) {
+      all[j] = j;
+      ones[j] = 1.0;
+    }
+    return Spectrum.ofRFactor(r, all, ones);
   }
 }

@@ -7,8 +7,6 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
-import java.math.BigDecimal;
-import java.math.MathContext;
 import java.util.Random;
 import org.apache.commons.math3.stat.correlation.Covariance;
 import org.junit.jupiter.api.Test;
@@ -16,7 +14,7 @@ import org.junit.jupiter.api.Test;
 /**
  * {@link Moments} against references outside the package: Apache Commons Math 3.6.1 {@code Covariance} (a two-pass
  * computation: the column means first, then a running average of the centred products, times n / (n - 1), as its
- * bytecode in the 3.6.1 jar shows), a two-pass loop and exact {@link BigDecimal} sums written out in this test, and
+ * bytecode in the 3.6.1 jar shows), a two-pass loop and exact {@code BigDecimal} sums (MathFixtures.exactCovariance), and
  * EJML 0.43.1's symmetric eigen-decomposition.
  *
  * <p>Tolerances. For entry (a, b) of the co-moment matrix M = sum (x - mean)(x - mean)^T, a sum of n centred products
@@ -371,32 +369,6 @@ class MomentsTest {
     return x;
   }
 
-  /** Exact sample covariance of the stored doubles with BigDecimal (sums exact, one division to 34 digits). */
-  private static double[] exactCovariance(double[] x, int n, int d) {
-    BigDecimal[][] centred = new BigDecimal[d][n];
-    for (int j = 0; j < d; j++) {
-      BigDecimal sum = BigDecimal.ZERO;
-      for (int i = 0; i < n; i++) {
-        sum = sum.add(new BigDecimal(x[i + j * n]));
-      }
-      BigDecimal mean = sum.divide(BigDecimal.valueOf(n), MathContext.DECIMAL128);
-      for (int i = 0; i < n; i++) {
-        centred[j][i] = new BigDecimal(x[i + j * n]).subtract(mean);
-      }
-    }
-    double[] cov = new double[d * d];
-    for (int a = 0; a < d; a++) {
-      for (int b = 0; b < d; b++) {
-        BigDecimal s = BigDecimal.ZERO;
-        for (int i = 0; i < n; i++) {
-          s = s.add(centred[a][i].multiply(centred[b][i]));
-        }
-        cov[a + b * d] = s.divide(BigDecimal.valueOf(n - 1), MathContext.DECIMAL128).doubleValue();
-      }
-    }
-    return cov;
-  }
-
   /**
    * Blocks in several shapes (single rows, small, uneven, one block) and, for each, a merge of partitions. Each
    * block is centred on its computed mean, a double near 1e9, and 1e9 +/- 1 minus that double is exact (Sterbenz's
@@ -409,7 +381,7 @@ class MomentsTest {
   @Test
   void offsetDataKeepsVariancesToRelativeAccuracy() {
     double[] x = offsetData();
-    double[] exact = exactCovariance(x, STABLE_N, STABLE_D);
+    double[] exact = MathFixtures.exactCovariance(x, STABLE_N, STABLE_D);
     for (int[] sizes : new int[][] {{1}, {10}, {64}, {17, 1, 250}, {STABLE_N}}) {
       for (boolean gram : new boolean[] {true, false}) {
         Moments left = Moments.empty(STABLE_D, gram);
@@ -453,7 +425,7 @@ class MomentsTest {
     for (int i = 0; i < n; i++) {
       x[i] = 1e16 + 16 * random.nextGaussian();
     }
-    double truth = exactCovariance(x, n, 1)[0];
+    double truth = MathFixtures.exactCovariance(x, n, 1)[0];
     for (boolean gram : new boolean[] {true, false}) {
       Moments m = Moments.empty(1, gram);
       m.addBlock(x.clone(), n, n);
@@ -473,7 +445,7 @@ class MomentsTest {
   @Test
   void theNaiveSumOfSquaresFormulaFailsOnTheSameData() {
     double[] x = offsetData();
-    double[] exact = exactCovariance(x, STABLE_N, STABLE_D);
+    double[] exact = MathFixtures.exactCovariance(x, STABLE_N, STABLE_D);
     for (int j = 0; j < STABLE_D; j++) {
       double s = 0;
       double s2 = 0;
@@ -504,7 +476,7 @@ class MomentsTest {
     MathFixtures.feed(x, STABLE_N, STABLE_D, new int[] {100}, 0, m::addBlock);
     double[] cov = m.covariance();
     Spectrum spectrum = Spectrum.ofCovariance(cov, STABLE_D);
-    double[] exact = exactCovariance(x, STABLE_N, STABLE_D);
+    double[] exact = MathFixtures.exactCovariance(x, STABLE_N, STABLE_D);
     double[] reference = MathFixtures.symmetricEigen(exact, STABLE_D).values();
     double frob = 0;
     for (int a = 0; a < STABLE_D; a++) {

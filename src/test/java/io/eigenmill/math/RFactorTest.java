@@ -17,15 +17,21 @@ import java.util.List;
 import org.junit.jupiter.api.Test;
 
 /**
- * {@link RFactor} (TSQR) against a brute-force Gram X^T X (EJML 0.43.1 product) and EJML's singular values of X,
- * for several shapes of the merge tree, blocks with fewer rows than columns, and empty sides.
+ * {@link RFactor} (one-pass TSQR of the centred rows) against a brute-force Gram X_c^T X_c of the two-pass centred
+ * matrix (EJML 0.43.1 product) and EJML's singular values of X_c, for several shapes of the merge tree, blocks with
+ * fewer rows than columns, and empty sides; means and variances against a two-pass computation and exact BigDecimal
+ * sums.
  *
  * <p>Tolerance. Each QR step is exact for its input plus a columnwise perturbation ||Delta x_j|| <= gamma~ ||x_j||
- * (Higham 2002, Thm 19.4), and the chain of steps composes into one such perturbation of X with gamma~ =
- * gamma(4 d (n + steps d)) (see ErrorBudget.tsqrX). Then R^T R = (X + Delta X)^T (X + Delta X) differs from X^T X in
- * entry (a, b) by at most (2 gamma~ + gamma~^2) ||x_a|| ||x_b||. R^T R is read back through the SVD of R (dgesvd,
- * exact for R + E with ||E|| <= SOLVER d ulp sigma_1, so 2 sigma_1 ||E|| + ||E||^2 more, and gamma_d sigma_1^2 to
- * form V S^2 V^T), and the EJML product has its own gamma_n ||x_a|| ||x_b|| (Higham 2002, eq. 3.5).
+ * (Higham 2002, Thm 19.4), and the chain of steps composes into one such perturbation with gamma~ =
+ * gamma(4 d (n + steps (d + 1))) (see ErrorBudget.tsqrX; each step also carries the merge row). Centring a block
+ * on its computed mean changes each value by at most a few units of rounding of the raw value, and the merge rows
+ * sqrt(w) delta carry a relative error of a few u in delta: both are columnwise perturbations bounded by
+ * gamma~ ||x_j|| with x_j the raw (uncentred) column, which is what the bounds below use as the scale. Then
+ * R^T R differs from X_c^T X_c in entry (a, b) by at most (2 gamma~ + gamma~^2) ||x_a|| ||x_b||. R^T R is read back
+ * through the SVD of R (dgesvd, exact for R + E with ||E|| <= SOLVER d ulp sigma_1, so 2 sigma_1 ||E|| + ||E||^2
+ * more, and gamma_d sigma_1^2 to form V S^2 V^T), and the EJML product has its own gamma_n ||x_a|| ||x_b|| (Higham
+ * 2002, eq. 3.5).
  */
 class RFactorTest {
   private static final int N = 1200;
@@ -72,9 +78,10 @@ class RFactorTest {
   /** The bound of the class comment, for one computation against the brute-force product. */
   private static void assertGramMatches(double[] x, int n, RFactor r, int steps, String what) {
     double[] gram = gramOf(r);
-    double[] brute = MathFixtures.multiplyTransA(x, x, n, D, D);
-    double g = gamma(4.0 * D * (n + (double) steps * D));
-    double sigma1 = MathFixtures.svd(x, n, D).values()[0];
+    double[] xc = MathFixtures.centred(x, n, D);
+    double[] brute = MathFixtures.multiplyTransA(xc, xc, n, D, D);
+    double g = gamma(4.0 * D * (n + (double) steps * (D + 1)));
+    double sigma1 = MathFixtures.svd(xc, n, D).values()[0];
     double e = SOLVER * D * ULP * sigma1;
     for (int a = 0; a < D; a++) {
       for (int b = 0; b < D; b++) {
@@ -85,14 +92,26 @@ class RFactorTest {
     }
   }
 
-  /** Weyl for singular values: each side within its backward error of the exact singular values of X. */
+  /** Weyl for singular values: each side within its backward error of the exact singular values of X_c. */
   private static void assertSingularValuesMatch(double[] x, int n, RFactor r, int steps, String what) {
-    MathFixtures.Svd ref = MathFixtures.svd(x, n, D);
+    MathFixtures.Svd ref = MathFixtures.svd(MathFixtures.centred(x, n, D), n, D);
     double frob = MathFixtures.normF(x);
-    double tol = gamma(4.0 * D * (n + (double) steps * D)) * frob + 2 * SOLVER * D * ULP * ref.values()[0];
+    double tol = gamma(4.0 * D * (n + (double) steps * (D + 1))) * frob + 2 * SOLVER * D * ULP * ref.values()[0];
     double[] sv = r.svd().singularValues();
     for (int i = 0; i < D; i++) {
       assertEquals(ref.values()[i], sv[i], tol, what + ": singular value " + i);
+    }
+  }
+
+  /** Means against the two-pass column means (within gamma_n of the largest |x|, the error of a sum of n terms). */
+  private static void assertMeansMatch(double[] x, int n, RFactor r, String what) {
+    double[] mean = r.mean();
+    for (int j = 0; j < D; j++) {
+      double biggest = 0;
+      for (int i = 0; i < n; i++) {
+        biggest = Math.max(biggest, Math.abs(x[i + j * n]));
+      }
+      assertEquals(MathFixtures.columnMean(x, n, j), mean[j], 2 * gamma(n) * biggest, what + ": mean " + j);
     }
   }
 
@@ -118,6 +137,7 @@ class RFactorTest {
     int steps = N / 64 + 1;
     assertGramMatches(x, N, r, steps, "one chain");
     assertSingularValuesMatch(x, N, r, steps, "one chain");
+    assertMeansMatch(x, N, r, "one chain");
   }
 
   @Test
@@ -149,6 +169,9 @@ class RFactorTest {
     assertSingularValuesMatch(x, N, fold, steps, "left fold");
     assertSingularValuesMatch(x, N, tree, steps, "balanced tree");
     assertSingularValuesMatch(x, N, reverse, steps, "reverse fold");
+    for (RFactor r : List.of(fold, tree, reverse)) {
+      assertMeansMatch(x, N, r, "merge tree");
+    }
   }
 
   @Test
@@ -170,11 +193,62 @@ class RFactorTest {
     assertEquals(n, r.count());
     assertGramMatches(x, n, r, 3, "6 rows");
     double[] sv = r.svd().singularValues();
-    // rank at most 6: the remaining singular values are rounding, at most the backward error of the QR and SVD
-    double tol = gamma(4.0 * D * (n + 3.0 * D)) * MathFixtures.normF(x) + SOLVER * D * ULP * sv[0];
-    for (int i = n; i < D; i++) {
+    // centred, 6 rows have rank at most 5: the remaining singular values are rounding, at most the backward error
+    // of the QR and SVD
+    double tol = gamma(4.0 * D * (n + 3.0 * (D + 1))) * MathFixtures.normF(x) + SOLVER * D * ULP * sv[0];
+    for (int i = n - 1; i < D; i++) {
       assertTrue(sv[i] <= tol, "singular value " + i + " = " + sv[i] + " should vanish (bound " + tol + ")");
     }
+  }
+
+  /**
+   * Offset 1e9 and standard deviations 1e-3..4e-3 (as in MomentsTest), blocks of 64 rows in two merged partitions:
+   * the variances from R (squared column norms over n - 1) within 1e-6 relative of the exact ones (BigDecimal sums,
+   * MathFixtures.exactCovariance; the brief's requirement), and the singular values within the same relative error
+   * of EJML's singular values of the exactly centred matrix (each centred value computed in BigDecimal, then rounded
+   * once). A QR of the raw columns would be exact only for a perturbation of size u 1e9 sqrt(n), 10^-4 of the
+   * centred norm.
+   */
+  @Test
+  void offsetDataKeepVariancesAndSingularValues() {
+    int n = 3000;
+    int d = 4;
+    java.util.Random random = new java.util.Random(23);
+    double[] x = new double[n * d];
+    for (int j = 0; j < d; j++) {
+      for (int i = 0; i < n; i++) {
+        x[i + j * n] = 1e9 + 1e-3 * (1 + j) * random.nextGaussian();
+      }
+    }
+    double[] exact = MathFixtures.exactCovariance(x, n, d);
+    RFactor left = RFactor.empty(d);
+    RFactor right = RFactor.empty(d);
+    MathFixtures.feed(MathFixtures.rows(x, n, d, 0, 1234), 1234, d, new int[] {64}, 1, left::addBlock);
+    MathFixtures.feed(MathFixtures.rows(x, n, d, 1234, n - 1234), n - 1234, d, new int[] {64}, 1, right::addBlock);
+    RFactor r = left.merge(right);
+    double[] v = r.variances();
+    for (int j = 0; j < d; j++) {
+      double truth = exact[j + j * d];
+      assertTrue(Math.abs(v[j] - truth) / truth < 1e-6, "variance " + j + ": " + v[j] + " against " + truth);
+    }
+    double[] xc = new double[n * d];
+    for (int j = 0; j < d; j++) {
+      java.math.BigDecimal sum = java.math.BigDecimal.ZERO;
+      for (int i = 0; i < n; i++) {
+        sum = sum.add(new java.math.BigDecimal(x[i + j * n]));
+      }
+      java.math.BigDecimal mean = sum.divide(java.math.BigDecimal.valueOf(n), java.math.MathContext.DECIMAL128);
+      for (int i = 0; i < n; i++) {
+        xc[i + j * n] = new java.math.BigDecimal(x[i + j * n]).subtract(mean).doubleValue();
+      }
+    }
+    double[] ref = MathFixtures.svd(xc, n, d).values();
+    double[] sv = r.svd().singularValues();
+    for (int i = 0; i < d; i++) {
+      assertTrue(Math.abs(sv[i] - ref[i]) / ref[i] < 1e-6, "singular value " + i + ": " + sv[i] + " against "
+          + ref[i]);
+    }
+    assertArrayEquals(new double[] {1e9, 1e9, 1e9, 1e9}, r.mean(), 1e-3, "means stay at the offset");
   }
 
   /**
