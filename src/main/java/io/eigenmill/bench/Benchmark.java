@@ -59,6 +59,14 @@ public final class Benchmark {
    * left as they were.
    */
   public static Outcome run(SparkSession spark, BenchOptions options) {
+    try {
+      return runCases(spark, options);
+    } finally {
+      BenchTables.deleteTree(ScalingRun.runWork(options));
+    }
+  }
+
+  private static Outcome runCases(SparkSession spark, BenchOptions options) {
     Machine machine = Machine.describe();
     String loadBefore = Machine.loadAverage();
     System.out.printf(Locale.ROOT, "bench: %s; %s; heap %s%n", machine.describeHardware(), machine.blas(),

@@ -67,8 +67,17 @@ final class ScalingRun {
     return new ScalingResult(options.features(), sizes.clone(), lines);
   }
 
+  /**
+   * The scratch folder of this run for a table (models, scores, outputs): under the run's own folder
+   * {@link #runWork}, so that two benchmark runs sharing a data folder never read each other's scratch tables.
+   */
   static Path workFor(BenchOptions options, BenchTable table) {
-    return options.data().resolve("work").resolve(Path.of(table.path()).getFileName().toString());
+    return runWork(options).resolve(Path.of(table.path()).getFileName().toString());
+  }
+
+  /** This process's scratch folder under the data folder; {@link Benchmark#run} deletes it at the end. */
+  static Path runWork(BenchOptions options) {
+    return options.data().resolve("work").resolve("run-" + ProcessHandle.current().pid());
   }
 
   static double[] millions(long[] rows) {

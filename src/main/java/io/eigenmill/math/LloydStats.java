@@ -60,14 +60,17 @@ public final class LloydStats implements Serializable {
         int j = search.nearest(r, i);
         double d2 = search.distance2(r, i);
         counts[j]++;
-        int base = j * d;
-        for (int l = 0; l < d; l++) {
-          sums[base + l] += x[xoff + i + l * ldx];
-        }
         distanceSums[j] += Math.sqrt(d2);
         cost += d2;
         if (far.wouldKeep(-d2, ids[idOff + i])) {
           far.offer(-d2, ids[idOff + i], x, xoff + i, ldx);
+        }
+      }
+      // coordinate sums column by column: the rows are read contiguously
+      for (int l = 0; l < d; l++) {
+        int xl = xoff + l * ldx;
+        for (int i = 0; i < rows; i++) {
+          sums[search.nearest(r, i) * d + l] += x[xl + i];
         }
       }
       withinSs[r] += cost;

@@ -100,15 +100,57 @@ public final class NearestSearch {
     }
     Linalg.blas().dgemm("N", "N", rows, total, d, -2.0, x, xoff, ldx, centroids, 0, d, 0.0, product, 0, rows);
     for (int r = 0; r < runs; r++) {
-      searchRun(r, rows);
       int base = r * chunk;
-      for (int i = 0; i < rows; i++) {
-        distance2[base + i] = squaredDistance(x, xoff + i, ldx, centroids, nearest[base + i] * d, d);
-        if (second) {
+      if (second) {
+        searchRun(r, rows);
+        for (int i = 0; i < rows; i++) {
           int j = runnerUp[base + i];
           secondDistance2[base + i] = j < 0 ? Double.NaN
               : squaredDistance(x, xoff + i, ldx, centroids, j * d, d);
         }
+      } else {
+        nearestOnly(r, rows);
+      }
+      exactDistances(x, xoff, rows, ldx, base);
+    }
+  }
+
+  /**
+   * The nearest centroid of each row within run r, without branches on the data (a select per comparison), so
+   * that the loop over rows neither mispredicts nor stalls; ties keep the lower index as in {@link #searchRun}.
+   */
+  private void nearestOnly(int r, int rows) {
+    int base = r * chunk;
+    int first = offsets[r];
+    double norm0 = norms[first];
+    int col0 = first * rows;
+    for (int i = 0; i < rows; i++) {
+      bestScore[i] = product[col0 + i] + norm0;
+      nearest[base + i] = first;
+    }
+    for (int j = first + 1; j < offsets[r + 1]; j++) {
+      int col = j * rows;
+      double norm = norms[j];
+      for (int i = 0; i < rows; i++) {
+        double s = product[col + i] + norm;
+        boolean better = s < bestScore[i];
+        bestScore[i] = better ? s : bestScore[i];
+        nearest[base + i] = better ? j : nearest[base + i];
+      }
+    }
+  }
+
+  /**
+   * Exact squared distances of the rows to their nearest centroids of one run, coordinate by coordinate so that
+   * the rows are read contiguously (the centroids are few and stay in cache).
+   */
+  private void exactDistances(double[] x, int xoff, int rows, int ldx, int base) {
+    java.util.Arrays.fill(distance2, base, base + rows, 0.0);
+    for (int l = 0; l < d; l++) {
+      int xl = xoff + l * ldx;
+      for (int i = 0; i < rows; i++) {
+        double t = x[xl + i] - centroids[nearest[base + i] * d + l];
+        distance2[base + i] += t * t;
       }
     }
   }

@@ -37,15 +37,20 @@ import org.slf4j.LoggerFactory;
  * deterministically with the row farthest from its centroid (the next farthest for a second empty cluster, ties by
  * identity), counted in {@link Fitted#reseeds}, and the run is not considered converged in that iteration.
  *
- * <p>Passes: 1 summary (done by the caller) + 5 rounds + 1 (weights) + Lloyd iterations (the slowest run's count);
+ * <p>Passes: 1 summary (done by the caller) + {@link #ROUNDS} rounds + 1 (weights) + Lloyd iterations (the slowest run's count);
  * a round whose kept rows overflow costs one more pass (rare: see {@link #KEPT_PER_OVERSAMPLE}). Centroids travel as
  * broadcasts; all arithmetic is in coordinates shifted by the data mean.
  */
 public final class ParallelKMeans {
   private static final Logger LOG = LoggerFactory.getLogger(ParallelKMeans.class);
 
-  /** Oversampling rounds of k-means|| (one pass each). */
-  public static final int ROUNDS = 5;
+  /**
+   * Oversampling rounds of k-means|| (one pass each), each adding about l = 2k candidates per run. Two rounds keep
+   * the initialisation to 3 passes (first centre from the summary pass, 2 rounds, weights); restarts run side by
+   * side in the same passes and cover the variance of a short initialisation (see local-demo/BENCHMARKS.md for the
+   * within-SS this gives against the engine's k-means on the benchmark's scores).
+   */
+  public static final int ROUNDS = 2;
   /** Further rounds allowed while a run has fewer than k distinct candidates. */
   public static final int MAX_EXTRA_ROUNDS = 30;
   /**

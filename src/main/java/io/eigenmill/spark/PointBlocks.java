@@ -7,6 +7,7 @@ import org.apache.spark.api.java.JavaRDD;
 import org.apache.spark.api.java.function.FlatMapFunction;
 import org.apache.spark.sql.Dataset;
 import org.apache.spark.sql.Row;
+import org.apache.spark.sql.catalyst.InternalRow;
 import org.apache.spark.storage.StorageLevel;
 
 /**
@@ -24,13 +25,16 @@ public final class PointBlocks {
    * @return the persisted blocks; the caller unpersists them
    */
   public static JavaRDD<PointBlock> cache(Dataset<Row> frame, int d, int blockRows) {
-    JavaRDD<PointBlock> blocks = frame.javaRDD().mapPartitions(new BuildBlocks(d, blockRows));
+    // the executed plan's internal rows: no conversion to external Rows (the rows may be reused by the iterator;
+    // their values are copied at once)
+    JavaRDD<PointBlock> blocks = frame.queryExecution().toRdd().toJavaRDD().mapPartitions(new BuildBlocks(d,
+        blockRows));
     blocks.setName("eigenmill clustered points (" + d + " dimensions)");
     return blocks.persist(StorageLevel.MEMORY_ONLY());
   }
 
   /** Copies rows into column-major blocks; rows with a null or non-finite coordinate are counted, not kept. */
-  static final class BuildBlocks implements FlatMapFunction<Iterator<Row>, PointBlock> {
+  static final class BuildBlocks implements FlatMapFunction<Iterator<InternalRow>, PointBlock> {
     private static final long serialVersionUID = 1L;
     private final int d;
     private final int capacity;
@@ -41,14 +45,14 @@ public final class PointBlocks {
     }
 
     @Override
-    public Iterator<PointBlock> call(Iterator<Row> rows) {
+    public Iterator<PointBlock> call(Iterator<InternalRow> rows) {
       List<PointBlock> out = new ArrayList<>();
       double[] values = new double[capacity * d];
       long[] ids = new long[capacity];
       int fill = 0;
       long skipped = 0;
       while (rows.hasNext()) {
-        Row row = rows.next();
+        InternalRow row = rows.next();
         if (!copy(row, values, fill)) {
           skipped++;
           continue;
@@ -66,7 +70,7 @@ public final class PointBlocks {
       return out.iterator();
     }
 
-    private boolean copy(Row row, double[] values, int at) {
+    private boolean copy(InternalRow row, double[] values, int at) {
       for (int l = 0; l < d; l++) {
         if (row.isNullAt(l + 1)) {
           return false;
