@@ -23,7 +23,7 @@ public enum BenchCase {
       + "scores, partitioned like them); reads the key columns it writes"),
   APPLY_PASS("apply-pass", "the scoring pass alone (`ScoringPass`, k = 10) and the scores Parquet write"),
   APPLY("apply", "`JobRunner.run` with `apply.model`: model read, scoring pass, scores write, monitoring summary "
-      + "(reads the written scores), summary.json and report.html, atomic commit"),
+      + "(from the pass's accumulators), summary.json and report.html, atomic commit"),
   KMEANS("kmeans", "`ClusterJob` on the cached scores table (pc_1..pc_10): k = 8, 10 iterations, seed 1, 1 restart, "
       + "including its own block cache"),
   BUILTIN_KMEANS("builtin-kmeans", "`VectorAssembler` + `ml.clustering.KMeans(k = 8, maxIter 10, seed 1).fit` on the "
