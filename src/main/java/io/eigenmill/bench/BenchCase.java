@@ -23,8 +23,9 @@ public enum BenchCase {
       + "scores, partitioned like them); reads the key columns it writes"),
   APPLY_PASS("apply-pass", "the scoring pass alone (`ScoringPass`, k = 10) and the scores Parquet write"),
   APPLY("apply", "`JobRunner.run` with `apply.model`: model read, scoring pass, scores write, monitoring summary "
-      + "(reads the written scores), summary.json and report.html, atomic commit"),
-  KMEANS("kmeans", "`ClusterJob` on the cached scores table (pc_1..pc_10): k = 8, 10 iterations, seed 1, 3 restarts side by side (the default), "
+      + "(from the pass's accumulators), summary.json and report.html, atomic commit"),
+  KMEANS("kmeans", "`ClusterJob` on the cached scores table (pc_1..pc_10): k = 8, 10 iterations, seed 1, "
+      + "3 restarts side by side in the same passes (the default), "
       + "including its own block cache"),
   BUILTIN_KMEANS("builtin-kmeans", "`VectorAssembler` + `ml.clustering.KMeans(k = 8, maxIter 10, seed 1).fit` on the "
       + "same cached scores table, including its own instance cache");

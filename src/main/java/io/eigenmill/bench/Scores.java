@@ -1,8 +1,6 @@
 package io.eigenmill.bench;
 
 import io.eigenmill.jobs.PcaModel;
-import io.eigenmill.math.ControlLimits;
-import io.eigenmill.math.Scorer;
 import io.eigenmill.settings.JobSettings;
 import io.eigenmill.spark.ScoringPass;
 import java.util.ArrayList;
@@ -23,20 +21,14 @@ final class Scores {
   /** Scores {@code table} into {@code path} (overwritten) and returns the rows scored. */
   static long write(SparkSession spark, Dataset<Row> table, List<String> keys, PcaModel model,
       JobSettings settings, String path) {
-    int k = model.k();
-    double confidence = settings.monitor().confidence();
-    double t2Limit = ControlLimits.t2New(k, model.rows(), confidence);
-    double qLimit = ControlLimits.q(ControlLimits.thetas(model.eigenvalues(), k, model.eigenvaluesComplete(),
-        model.d(), model.totalVariance()), confidence);
+    ScoringPass.Limits limits = ScoringPass.Limits.of(model, settings.monitor().confidence(), false);
+    ScoringPass.Spec spec = ScoringPass.spec(model, settings, limits, false);
+    ScoringPass.Counters counters = ScoringPass.Counters.register(spark.sparkContext(), "benchmark scores", spec,
+        20);
     List<String> partitions = List.of(BenchTables.PARTITION_COLUMN);
-    List<String> passThrough = ScoringPass.passThrough(table.schema(), keys, partitions);
-    Scorer scorer = new Scorer(model.means(), model.scales(), model.loadings(), model.eigenvalues(), k);
-    ScoringPass.Spec spec = new ScoringPass.Spec(scorer, passThrough.size(), model.features(),
-        settings.reduce().blockRows(), settings.prepare().missing(), model.means(), t2Limit, qLimit, false);
-    ScoringPass.Counters counters = ScoringPass.Counters.register(spark.sparkContext(), "benchmark scores",
-        model.d(), 20);
-    DataFrameWriter<Row> writer = ScoringPass.apply(table, passThrough, spec, counters).write().mode("overwrite");
-    if (passThrough.contains(BenchTables.PARTITION_COLUMN)) {
+    ScoringPass.Scored scored = ScoringPass.apply(table, keys, partitions, spec, counters);
+    DataFrameWriter<Row> writer = scored.rows().write().mode("overwrite");
+    if (List.of(scored.rows().columns()).contains(BenchTables.PARTITION_COLUMN)) {
       writer = writer.partitionBy(BenchTables.PARTITION_COLUMN);
     }
     writer.parquet(path);

@@ -1,7 +1,7 @@
 package io.eigenmill.jobs;
 
-import io.eigenmill.math.ControlLimits;
-import io.eigenmill.math.Scorer;
+import io.eigenmill.math.HashSample;
+import io.eigenmill.math.TimeBuckets;
 import io.eigenmill.plan.JobPlan;
 import io.eigenmill.settings.Choices.MissingPolicy;
 import io.eigenmill.settings.InvalidJobException;
@@ -16,23 +16,25 @@ import java.util.List;
 import org.apache.spark.sql.Column;
 import org.apache.spark.sql.Dataset;
 import org.apache.spark.sql.Row;
+import org.apache.spark.sql.RowFactory;
 import org.apache.spark.sql.SparkSession;
+import org.apache.spark.sql.catalyst.CatalystTypeConverters;
 import org.apache.spark.sql.functions;
-import org.apache.spark.sql.types.DataType;
 import org.apache.spark.sql.types.DataTypes;
-import org.apache.spark.sql.types.StructField;
+import org.apache.spark.sql.types.StructType;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 
 /**
- * Scores a table against a model and writes {@code scores/} (partitioned like the input), then summarises the
- * monitoring statistics from what the pass gathered and from the written scores (a small table: keys, k scores,
- * T2, Q). Shared by the fit ({@code output.scores}) and apply jobs. Optionally writes the reconstruction.
+ * Scores a table against a model and writes {@code scores/} (partitioned like the input), and summarises the
+ * monitoring statistics from what the pass gathered in its accumulators (counts, most severe rows, the series of
+ * T2 and Q maxima along time or a row sample, the score map's sample): the written scores are not read again.
+ * Shared by the fit ({@code output.scores}) and apply jobs. Optionally writes the reconstruction.
  */
 final class ScoringStage {
   private static final Logger LOG = LoggerFactory.getLogger(ScoringStage.class);
   static final int TOP_ROWS = 20;
-  static final int SERIES_POINTS = 600;
+  static final int SERIES_POINTS = ScoringPass.SERIES_POINTS;
 
   private final SparkSession spark;
   private final JobPlan plan;
@@ -52,48 +54,23 @@ final class ScoringStage {
   Outcome score(Dataset<Row> table, boolean fittedRows) {
     JobSettings s = plan.settings();
     double confidence = s.monitor().confidence();
-    int k = model.k();
-    double t2Limit = fittedRows ? ControlLimits.t2Fitted(k, model.rows(), confidence)
-        : ControlLimits.t2New(k, model.rows(), confidence);
-    String t2Rule = fittedRows
-        ? "fitted rows: (n-1)^2/n Beta(k/2, (n-k-1)/2) at " + confidence + " (Tracy, Young and Mason 1992)"
-        : "new rows: k(n-1)(n+1)/(n(n-k)) F(k, n-k) at " + confidence;
-    ControlLimits.Thetas thetas = ControlLimits.thetas(model.eigenvalues(), k, model.eigenvaluesComplete(),
-        model.d(), model.totalVariance());
-    double qLimit = ControlLimits.q(thetas, confidence);
-    String qRule = "Jackson and Mudholkar (1979) at " + confidence + (thetas.exact()
-        ? ", from all " + (model.eigenvalues().length - k) + " discarded eigenvalues"
-        : ", discarded eigenvalues beyond the " + model.eigenvalues().length + " computed estimated from the trace"
-            + " (theta1 exact; theta2, theta3 assume an even spread)");
-    if (!(qLimit > 0)) {
-      qRule = "no discarded variance (k = d): Q is zero for every row and flags nothing";
-    }
-    List<String> passThrough = ScoringPass.passThrough(table.schema(), plan.keys(), plan.partitionColumns());
-    ScoringPass.Spec spec = spec(s, passThrough.size(), false, t2Limit, qLimit);
-    ScoringPass.Counters counters = ScoringPass.Counters.register(spark.sparkContext(), "scores", model.d(),
-        TOP_ROWS);
-    Dataset<Row> scored = ScoringPass.apply(table, passThrough, spec, counters);
+    ScoringPass.Limits limits = ScoringPass.Limits.of(model, confidence, fittedRows);
+    ScoringPass.Spec spec = ScoringPass.spec(model, s, limits, false);
+    ScoringPass.Counters counters = ScoringPass.Counters.register(spark.sparkContext(), "scores", spec, TOP_ROWS);
+    ScoringPass.Scored scored = ScoringPass.apply(table, plan.keys(), plan.partitionColumns(), spec, counters);
+    LOG.info("score: reading {}", scored.readPath());
     String path = out.staged("scores");
     try (Progress progress = Progress.start(spark, "score", counters.scored())) {
-      write(scored, path);
+      write(scored.rows(), path);
       progress.done(counters.scored().value());
     }
     failOnMissing(counters.dropped().value(), s.prepare().missing());
-    Dataset<Row> written = spark.read().parquet(path);
-    long rows = counters.scored().value();
-    MonitorResult monitor = new MonitorResult(confidence, k, rows,
-        counters.flaggedT2().value(), counters.flaggedQ().value(), counters.flaggedBoth().value(), t2Limit, t2Rule,
-        qLimit, qRule, series(written, passThrough, rows), flagged(counters.top(), t2Limit, qLimit));
+    MonitorResult monitor = new MonitorResult(confidence, model.k(), counters.scored().value(),
+        counters.flaggedT2().value(), counters.flaggedQ().value(), counters.flaggedBoth().value(), limits.t2(),
+        limits.t2Rule(), limits.q(), limits.qRule(), series(scored, counters), flagged(counters.top(), limits));
     LOG.info("score: {} rows, flagged T2 {}, Q {}, both {}", monitor.rowsScored(), monitor.flaggedT2(),
         monitor.flaggedQ(), monitor.flaggedBoth());
-    return new Outcome(monitor, sample(written, k, rows), path);
-  }
-
-  private ScoringPass.Spec spec(JobSettings s, int passThrough, boolean reconstruct, double t2Limit,
-      double qLimit) {
-    Scorer scorer = new Scorer(model.means(), model.scales(), model.loadings(), model.eigenvalues(), model.k());
-    return new ScoringPass.Spec(scorer, passThrough, model.features(), s.reduce().blockRows(), s.prepare().missing(),
-        model.means(), t2Limit, qLimit, reconstruct);
+    return new Outcome(monitor, sample(scored, counters), path);
   }
 
   private void write(Dataset<Row> scored, String path) {
@@ -118,55 +95,42 @@ final class ScoringStage {
     }
   }
 
-  /** T2 and Q along time (maximum per time bucket) when a key is a timestamp, else along a seeded row sample. */
-  /** {@code n} is the number of scored rows (counted by the scoring pass: the written table is not counted again). */
-  private MonitorResult.Series series(Dataset<Row> scores, List<String> passThrough, long n) {
-    String time = null;
-    for (StructField f : scores.schema().fields()) {
-      if (passThrough.contains(f.name()) && isTime(f.dataType())) {
-        time = f.name();
-        break;
-      }
-    }
-    List<Row> rows;
-    String label;
+  /**
+   * T2 and Q along time when a key is a timestamp or date: the maximum per bucket of a power-of-two number of
+   * seconds, the narrowest for which at most {@value #SERIES_POINTS} buckets hold rows; else along a sample of
+   * {@value #SERIES_POINTS} rows chosen by a seeded hash of their keys (in that hash's order).
+   */
+  private static MonitorResult.Series series(ScoringPass.Scored scored, ScoringPass.Counters counters) {
+    String time = scored.timeColumn();
     if (time != null) {
-      Column t = functions.col(time).cast("long");
-      Row range = scores.agg(functions.min(t), functions.max(t)).first();
-      if (range.isNullAt(0)) {
+      TimeBuckets buckets = counters.series().value();
+      if (buckets.isEmpty()) {
         return new MonitorResult.Series(time, new double[0], new double[0], new double[0]);
       }
-      long lo = range.getLong(0);
-      long hi = range.getLong(1);
-      long width = Math.max(1, (hi - lo + SERIES_POINTS) / SERIES_POINTS);
-      Column bucket = functions.floor(t.minus(lo).divide(width)).multiply(width).plus(lo);
-      rows = scores.groupBy(bucket.as("at")).agg(functions.max("t2"), functions.max("q")).orderBy("at")
-          .collectAsList();
-      label = time + " (maximum per " + width + " s)";
-    } else {
-      double fraction = Math.min(1.0, 1.5 * SERIES_POINTS / Math.max(1, n));
-      rows = scores.sample(false, fraction, 17).limit(SERIES_POINTS)
-          .select(functions.monotonically_increasing_id(), functions.col("t2"), functions.col("q")).collectAsList();
-      label = "row (seeded sample)";
+      buckets.coarsenToAtMost(SERIES_POINTS);
+      TimeBuckets.Points points = buckets.points();
+      double[] at = new double[points.starts().length];
+      for (int i = 0; i < at.length; i++) {
+        at[i] = points.starts()[i];
+      }
+      return new MonitorResult.Series(time + " (maximum per " + points.width() + " s)", at, points.maxA(),
+          points.maxB());
     }
+    List<HashSample.Entry<double[]>> rows = counters.seriesSample().value().entries();
     double[] at = new double[rows.size()];
     double[] t2 = new double[rows.size()];
     double[] q = new double[rows.size()];
     for (int i = 0; i < at.length; i++) {
-      Row r = rows.get(i);
-      at[i] = time != null ? ((Number) r.get(0)).doubleValue() : i;
-      t2[i] = r.getDouble(1);
-      q[i] = r.getDouble(2);
+      at[i] = i;
+      t2[i] = rows.get(i).value()[0];
+      q[i] = rows.get(i).value()[1];
     }
-    return new MonitorResult.Series(label, at, t2, q);
+    return new MonitorResult.Series("row (seeded sample)", at, t2, q);
   }
 
-  private static boolean isTime(DataType type) {
-    return type.equals(DataTypes.TimestampType) || type.equals(DataTypes.DateType)
-        || type.typeName().startsWith("timestamp");
-  }
-
-  private List<MonitorResult.FlaggedRow> flagged(TopRows top, double t2Limit, double qLimit) {
+  private List<MonitorResult.FlaggedRow> flagged(TopRows top, ScoringPass.Limits limits) {
+    double t2Limit = limits.t2();
+    double qLimit = limits.q();
     List<MonitorResult.FlaggedRow> out = new ArrayList<>();
     for (TopRows.Candidate c : top.value()) {
       List<MonitorResult.Contribution> contributions = new ArrayList<>();
@@ -182,43 +146,61 @@ final class ScoringStage {
     return out;
   }
 
-  private ScoreSample sample(Dataset<Row> scores, int k, long n) {
-    int size = plan.settings().output().reportSample();
+  /**
+   * The score map's sample: the {@code output.report-sample} rows of smallest seeded hash of their keys, gathered by
+   * the pass. Keys as text as Spark casts them to string (the clustering looks rows up by that text), "" for null.
+   */
+  private ScoreSample sample(ScoringPass.Scored scored, ScoringPass.Counters counters) {
     List<String> keys = new ArrayList<>(plan.keys());
-    List<Column> cols = new ArrayList<>();
-    for (String key : keys) {
-      cols.add(functions.col(key).cast("string"));
-    }
-    int dims = Math.min(3, k);
-    for (int c = 1; c <= dims; c++) {
-      cols.add(functions.col("pc_" + c));
-    }
-    double fraction = Math.min(1.0, 1.2 * size / Math.max(1, n));
-    List<Row> rows = size == 0 ? List.of()
-        : scores.sample(false, fraction, 23).limit(size).select(cols.toArray(new Column[0])).collectAsList();
-    List<List<String>> keyValues = new ArrayList<>();
-    double[][] values = new double[rows.size()][dims];
-    for (int i = 0; i < rows.size(); i++) {
-      Row r = rows.get(i);
-      List<String> kv = new ArrayList<>();
-      for (int j = 0; j < keys.size(); j++) {
-        kv.add(r.isNullAt(j) ? "" : r.getString(j));
-      }
-      keyValues.add(kv);
-      for (int c = 0; c < dims; c++) {
-        values[i][c] = r.getDouble(keys.size() + c);
-      }
+    List<HashSample.Entry<ScoringPass.SampledRow>> rows = counters.sample().value().entries();
+    List<List<String>> keyValues = keyText(scored.keySchema(), rows);
+    double[][] values = new double[rows.size()][];
+    for (int i = 0; i < values.length; i++) {
+      values[i] = rows.get(i).value().scores().clone();
     }
     return new ScoreSample(keys, keyValues, values, null);
+  }
+
+  private List<List<String>> keyText(StructType keySchema, List<HashSample.Entry<ScoringPass.SampledRow>> rows) {
+    List<List<String>> out = new ArrayList<>();
+    int width = keySchema.fields().length;
+    if (width == 0 || rows.isEmpty()) {
+      for (int i = 0; i < rows.size(); i++) {
+        out.add(List.of());
+      }
+      return out;
+    }
+    List<Row> external = new ArrayList<>();
+    for (HashSample.Entry<ScoringPass.SampledRow> e : rows) {
+      Object[] v = new Object[width];
+      for (int c = 0; c < width; c++) {
+        Object internal = e.value().keys()[c];
+        v[c] = internal == null ? null
+            : CatalystTypeConverters.convertToScala(internal, keySchema.fields()[c].dataType());
+      }
+      external.add(RowFactory.create(v));
+    }
+    Column[] text = new Column[width];
+    for (int c = 0; c < width; c++) {
+      text[c] = functions.col("`" + keySchema.fields()[c].name().replace("`", "``") + "`").cast("string");
+    }
+    // a local relation: evaluated on the driver, in order, with the session's time zone
+    for (Row r : spark.createDataFrame(external, keySchema).select(text).collectAsList()) {
+      List<String> kv = new ArrayList<>();
+      for (int c = 0; c < width; c++) {
+        kv.add(r.isNullAt(c) ? "" : r.getString(c));
+      }
+      out.add(kv);
+    }
+    return out;
   }
 
   /** Writes {@code reconstruction/} (original units) and returns the per-feature errors. */
   ReconstructionResult reconstruct(Dataset<Row> table) {
     JobSettings s = plan.settings();
-    List<String> passThrough = ScoringPass.passThrough(table.schema(), plan.keys(), plan.partitionColumns());
-    ScoringPass.Counters counters = ScoringPass.Counters.register(spark.sparkContext(), "reconstruction",
-        model.d(), 1);
-    Dataset<Row> rebuilt = ScoringPass.apply(table, passThrough, spec(s, passThrough.size(), true, Double.MAX_VALUE, 0), counters);
+    ScoringPass.Spec spec = ScoringPass.spec(model, s, ScoringPass.Limits.none(), true);
+    ScoringPass.Counters counters = ScoringPass.Counters.register(spark.sparkContext(), "reconstruction", spec, 1);
+    Dataset<Row> rebuilt = ScoringPass.apply(table, plan.keys(), plan.partitionColumns(), spec, counters).rows();
     try (Progress progress = Progress.start(spark, "reconstruct", counters.scored())) {
       write(rebuilt, out.staged("reconstruction"));
       progress.done(counters.scored().value());

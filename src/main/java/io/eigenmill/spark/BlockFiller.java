@@ -10,7 +10,7 @@ import java.util.Arrays;
  * {@link #base()}, mark missing cells, then {@link #commit} the slice. One block and one flag array per partition:
  * no allocation per row.
  */
-final class BlockFiller<A extends Serializable> {
+final class BlockFiller<A extends Serializable> implements BlockSink {
   private final int d;
   private final int capacity;
   private final double[] block;
@@ -35,17 +35,20 @@ final class BlockFiller<A extends Serializable> {
     this.counts = new ReadCounts(d);
   }
 
-  double[] block() {
+  @Override
+  public double[] block() {
     return block;
   }
 
   /** Leading dimension of the block. */
-  int ld() {
+  @Override
+  public int ld() {
     return capacity;
   }
 
   /** Row index in the block where the next slice starts. */
-  int base() {
+  @Override
+  public int base() {
     return fill;
   }
 
@@ -55,7 +58,8 @@ final class BlockFiller<A extends Serializable> {
   }
 
   /** Marks cell (row {@code base() + i}, column j) missing and stores NaN there. */
-  void markMissing(int i, int j) {
+  @Override
+  public void markMissing(int i, int j) {
     int row = fill + i;
     bad[row] = true;
     anyBad = true;
@@ -79,22 +83,42 @@ final class BlockFiller<A extends Serializable> {
   }
 
   private int compact(int t) {
-    int dropped = 0;
+    int kept = compact(block, d, capacity, fill, t, bad, null);
+    counts.rowsDropped += t - kept;
+    return kept;
+  }
+
+  /**
+   * Removes the rows of slice {@code [from, from + t)} flagged in {@code bad} from every column of a column-major
+   * block (leading dimension {@code ld}), keeping the order of the others, and moves {@code origins} along when it
+   * is not null. Rows before the first flagged one stay where they are. Returns the rows kept.
+   */
+  static int compact(double[] block, int d, int ld, int from, int t, boolean[] bad, int[] origins) {
     int first = -1;
+    int dropped = 0;
     for (int i = 0; i < t; i++) {
-      if (bad[fill + i]) {
+      if (bad[from + i]) {
         dropped++;
         first = first < 0 ? i : first;
       }
     }
-    counts.rowsDropped += dropped;
-    // rows before the first dropped one stay where they are
+    if (first < 0) {
+      return t;
+    }
     for (int j = 0; j < d; j++) {
-      int off = j * capacity + fill;
+      int off = j * ld + from;
       int w = first;
       for (int i = first; i < t; i++) {
-        if (!bad[fill + i]) {
+        if (!bad[from + i]) {
           block[off + w++] = block[off + i];
+        }
+      }
+    }
+    if (origins != null) {
+      int w = first;
+      for (int i = first; i < t; i++) {
+        if (!bad[from + i]) {
+          origins[from + w++] = origins[from + i];
         }
       }
     }

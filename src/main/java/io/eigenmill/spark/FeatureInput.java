@@ -2,19 +2,14 @@ package io.eigenmill.spark;
 
 import io.eigenmill.math.BlockPrep;
 import java.io.Serializable;
-import java.util.ArrayList;
 import java.util.List;
 import org.apache.spark.api.java.JavaRDD;
 import org.apache.spark.sql.Column;
 import org.apache.spark.sql.Dataset;
 import org.apache.spark.sql.Row;
-import org.apache.spark.sql.catalyst.expressions.Attribute;
-import org.apache.spark.sql.execution.FileSourceScanExec;
-import org.apache.spark.sql.execution.SparkPlan;
 import org.apache.spark.sql.functions;
 import org.apache.spark.sql.vectorized.ColumnarBatch;
 import org.apache.spark.util.LongAccumulator;
-import scala.collection.JavaConverters;
 
 /**
  * The feature columns of the input table as a source of blocks for one or more passes.
@@ -28,7 +23,7 @@ public final class FeatureInput {
   private final Dataset<Row> table;
   private final List<String> features;
   private final int blockRows;
-  private final SparkPlan columnarScan;
+  private final ColumnarScan columnarScan;
   private final int[] ordinals;
   private final int[] kinds;
 
@@ -37,11 +32,11 @@ public final class FeatureInput {
     this.features = List.copyOf(features);
     this.blockRows = blockRows;
     Column[] cols = features.stream().map(functions::col).toArray(Column[]::new);
-    SparkPlan scan = findColumnarScan(table.select(cols).queryExecution().executedPlan());
-    int[] ord = scan == null ? null : ordinalsIn(scan, features);
+    ColumnarScan scan = ColumnarScan.of(table.select(cols));
+    int[] ord = scan == null ? null : scan.ordinals(features);
     this.columnarScan = ord == null ? null : scan;
     this.ordinals = ord;
-    this.kinds = ord == null ? null : kindsIn(scan, ord);
+    this.kinds = ord == null ? null : kindsIn(scan, ord, features);
   }
 
   /** True when passes read Parquet's columnar batches; false for the Row path. */
@@ -58,7 +53,7 @@ public final class FeatureInput {
    * has no columnar scan. For the benchmark's read floor.
    */
   public JavaRDD<ColumnarBatch> columnarBatches() {
-    return columnar() ? columnarScan.executeColumnar().toJavaRDD() : null;
+    return columnar() ? columnarScan.batches() : null;
   }
 
   public int[] batchOrdinals() {
@@ -84,7 +79,7 @@ public final class FeatureInput {
     var spec = new PartitionPasses.PassSpec<>(features.size(), blockRows, mode, prep, aggregator, rows);
     JavaRDD<PartialResult<A>> partials;
     if (columnar()) {
-      JavaRDD<ColumnarBatch> batches = columnarScan.executeColumnar().toJavaRDD();
+      JavaRDD<ColumnarBatch> batches = columnarScan.batches();
       partials = batches.mapPartitions(new PartitionPasses.ColumnarPass<>(spec, ordinals, kinds));
     } else {
       Column[] cast = features.stream().map(f -> functions.col(f).cast("double")).toArray(Column[]::new);
@@ -100,37 +95,11 @@ public final class FeatureInput {
     }
   }
 
-  private static SparkPlan findColumnarScan(SparkPlan plan) {
-    for (SparkPlan leaf : JavaConverters.seqAsJavaList(plan.collectLeaves())) {
-      if (leaf instanceof FileSourceScanExec && leaf.supportsColumnar()) {
-        return leaf;
-      }
-    }
-    return null;
-  }
-
-  private static int[] ordinalsIn(SparkPlan scan, List<String> features) {
-    List<String> names = new ArrayList<>();
-    for (Attribute a : JavaConverters.seqAsJavaList(scan.output())) {
-      names.add(a.name());
-    }
-    int[] ord = new int[features.size()];
-    for (int j = 0; j < ord.length; j++) {
-      ord[j] = names.indexOf(features.get(j));
-      if (ord[j] < 0) {
-        return null;
-      }
-    }
-    return ord;
-  }
-
-  private static int[] kindsIn(SparkPlan scan, int[] ordinals) {
-    List<Attribute> attrs = JavaConverters.seqAsJavaList(scan.output());
-    int[] k = new int[ordinals.length];
+  private static int[] kindsIn(ColumnarScan scan, int[] ordinals, List<String> features) {
+    int[] k = scan.kinds(ordinals);
     for (int j = 0; j < k.length; j++) {
-      k[j] = PartitionPasses.kindOf(attrs.get(ordinals[j]).dataType());
       if (k[j] < 0) {
-        throw new IllegalStateException("column " + attrs.get(ordinals[j]).name() + " is not numeric");
+        throw new IllegalStateException("column " + features.get(j) + " is not numeric");
       }
     }
     return k;

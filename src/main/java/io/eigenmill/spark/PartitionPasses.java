@@ -79,97 +79,102 @@ final class PartitionPasses {
       spec.rowsRead().add(result.counts().rowsRead());
       return List.of(result).iterator();
     }
+  }
 
-    private static void copyColumn(ColumnVector v, int kind, int start, int t, BlockFiller<?> filler, int j) {
-      double[] dst = filler.block();
-      int off = j * filler.ld() + filler.base();
-      switch (kind) {
-        case DOUBLE:
-        case FLOAT:
-          if (copyFloating(v, kind, start, t, dst, off) || v.hasNull()) {
-            markFloating(v, start, t, dst, off, filler, j);
-          }
-          return;
-        case INT:
-          for (int i = 0; i < t; i++) {
-            dst[off + i] = v.getInt(start + i);
-          }
-          break;
-        case LONG:
-          for (int i = 0; i < t; i++) {
-            dst[off + i] = v.getLong(start + i);
-          }
-          break;
-        case SHORT:
-          for (int i = 0; i < t; i++) {
-            dst[off + i] = v.getShort(start + i);
-          }
-          break;
-        case BYTE:
-          for (int i = 0; i < t; i++) {
-            dst[off + i] = v.getByte(start + i);
-          }
-          break;
-        default:
-          DecimalType dt = (DecimalType) v.dataType();
-          for (int i = 0; i < t; i++) {
-            dst[off + i] = v.isNullAt(start + i) ? 0.0
-                : v.getDecimal(start + i, dt.precision(), dt.scale()).toDouble();
-          }
-          break;
-      }
-      if (v.hasNull()) {
+  /**
+   * Copies rows {@code start .. start + t - 1} of a batch column of type {@code kind} into column j of the sink's
+   * next slice, as doubles (exact widening for integers and floats, {@code Decimal.toDouble} for decimals: the
+   * values a cast to double gives), and reports the missing cells.
+   */
+  static void copyColumn(ColumnVector v, int kind, int start, int t, BlockSink filler, int j) {
+    double[] dst = filler.block();
+    int off = j * filler.ld() + filler.base();
+    switch (kind) {
+      case DOUBLE:
+      case FLOAT:
+        if (copyFloating(v, kind, start, t, dst, off) || v.hasNull()) {
+          markFloating(v, start, t, dst, off, filler, j);
+        }
+        return;
+      case INT:
         for (int i = 0; i < t; i++) {
-          if (v.isNullAt(start + i)) {
-            filler.markMissing(i, j);
-          }
+          dst[off + i] = v.getInt(start + i);
         }
-      }
-    }
-
-    /**
-     * Copies a double or float column and reports whether a copied value is NaN or infinite, in the same sweep: x * 0
-     * is 0 for a finite x and NaN otherwise, summed in four chains (no branch per value, no wait on one adder).
-     */
-    private static boolean copyFloating(ColumnVector v, int kind, int start, int t, double[] dst, int off) {
-      double z0 = 0;
-      double z1 = 0;
-      double z2 = 0;
-      double z3 = 0;
-      int i = 0;
-      if (kind == DOUBLE) {
-        for (; i + 3 < t; i += 4) {
-          double x0 = v.getDouble(start + i);
-          double x1 = v.getDouble(start + i + 1);
-          double x2 = v.getDouble(start + i + 2);
-          double x3 = v.getDouble(start + i + 3);
-          dst[off + i] = x0;
-          dst[off + i + 1] = x1;
-          dst[off + i + 2] = x2;
-          dst[off + i + 3] = x3;
-          z0 += x0 * 0.0;
-          z1 += x1 * 0.0;
-          z2 += x2 * 0.0;
-          z3 += x3 * 0.0;
+        break;
+      case LONG:
+        for (int i = 0; i < t; i++) {
+          dst[off + i] = v.getLong(start + i);
         }
-      }
-      for (; i < t; i++) {
-        double x = kind == DOUBLE ? v.getDouble(start + i) : v.getFloat(start + i);
-        dst[off + i] = x;
-        z0 += x * 0.0;
-      }
-      return (z0 + z1) + (z2 + z3) != 0.0;
+        break;
+      case SHORT:
+        for (int i = 0; i < t; i++) {
+          dst[off + i] = v.getShort(start + i);
+        }
+        break;
+      case BYTE:
+        for (int i = 0; i < t; i++) {
+          dst[off + i] = v.getByte(start + i);
+        }
+        break;
+      default:
+        DecimalType dt = (DecimalType) v.dataType();
+        for (int i = 0; i < t; i++) {
+          dst[off + i] = v.isNullAt(start + i) ? 0.0
+              : v.getDecimal(start + i, dt.precision(), dt.scale()).toDouble();
+        }
+        break;
     }
-
-    /** Marks the null, NaN and infinite cells of a copied floating column (null cells hold an undefined value). */
-    private static void markFloating(ColumnVector v, int start, int t, double[] dst, int off, BlockFiller<?> filler,
-        int j) {
-      boolean nulls = v.hasNull();
+    if (v.hasNull()) {
       for (int i = 0; i < t; i++) {
-        double x = dst[off + i];
-        if ((nulls && v.isNullAt(start + i)) || x - x != 0.0) {
+        if (v.isNullAt(start + i)) {
           filler.markMissing(i, j);
         }
+      }
+    }
+  }
+
+  /**
+   * Copies a double or float column and reports whether a copied value is NaN or infinite, in the same sweep: x * 0
+   * is 0 for a finite x and NaN otherwise, summed in four chains (no branch per value, no wait on one adder).
+   */
+  private static boolean copyFloating(ColumnVector v, int kind, int start, int t, double[] dst, int off) {
+    double z0 = 0;
+    double z1 = 0;
+    double z2 = 0;
+    double z3 = 0;
+    int i = 0;
+    if (kind == DOUBLE) {
+      for (; i + 3 < t; i += 4) {
+        double x0 = v.getDouble(start + i);
+        double x1 = v.getDouble(start + i + 1);
+        double x2 = v.getDouble(start + i + 2);
+        double x3 = v.getDouble(start + i + 3);
+        dst[off + i] = x0;
+        dst[off + i + 1] = x1;
+        dst[off + i + 2] = x2;
+        dst[off + i + 3] = x3;
+        z0 += x0 * 0.0;
+        z1 += x1 * 0.0;
+        z2 += x2 * 0.0;
+        z3 += x3 * 0.0;
+      }
+    }
+    for (; i < t; i++) {
+      double x = kind == DOUBLE ? v.getDouble(start + i) : v.getFloat(start + i);
+      dst[off + i] = x;
+      z0 += x * 0.0;
+    }
+    return (z0 + z1) + (z2 + z3) != 0.0;
+  }
+
+  /** Marks the null, NaN and infinite cells of a copied floating column (null cells hold an undefined value). */
+  private static void markFloating(ColumnVector v, int start, int t, double[] dst, int off, BlockSink filler,
+      int j) {
+    boolean nulls = v.hasNull();
+    for (int i = 0; i < t; i++) {
+      double x = dst[off + i];
+      if ((nulls && v.isNullAt(start + i)) || x - x != 0.0) {
+        filler.markMissing(i, j);
       }
     }
   }

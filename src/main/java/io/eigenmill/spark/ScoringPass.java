@@ -1,19 +1,20 @@
 package io.eigenmill.spark;
 
+import io.eigenmill.jobs.PcaModel;
+import io.eigenmill.math.ControlLimits;
 import io.eigenmill.math.Scorer;
 import io.eigenmill.settings.Choices.MissingPolicy;
+import io.eigenmill.settings.JobSettings;
 import java.io.Serializable;
 import java.util.ArrayList;
-import java.util.Iterator;
 import java.util.List;
-import java.util.NoSuchElementException;
-import org.apache.spark.api.java.function.MapPartitionsFunction;
+import org.apache.spark.api.java.JavaRDD;
 import org.apache.spark.sql.Column;
 import org.apache.spark.sql.Dataset;
-import org.apache.spark.sql.Encoders;
 import org.apache.spark.sql.Row;
-import org.apache.spark.sql.RowFactory;
+import org.apache.spark.sql.catalyst.InternalRow;
 import org.apache.spark.sql.functions;
+import org.apache.spark.sql.types.DataType;
 import org.apache.spark.sql.types.DataTypes;
 import org.apache.spark.sql.types.StructField;
 import org.apache.spark.sql.types.StructType;
@@ -24,277 +25,217 @@ import org.apache.spark.util.LongAccumulator;
  * emits per row the pass-through columns (keys, partition columns), the scores {@code pc_1..pc_k}, {@code t2},
  * {@code q} and the flags {@code flag_t2}, {@code flag_q} against the control limits; or, in reconstruction mode, the
  * pass-through columns and each feature reconstructed from k components in original units. Counts, the most severe
- * rows and per-feature errors are gathered in accumulators during the same pass (the write), so there is no extra
- * pass over the input.
+ * rows, per-feature errors, the monitoring series and the report's sample are gathered in accumulators during the
+ * same pass (the write), so nothing reads the input or the scores again.
+ *
+ * <p>Two readers feed the same block code ({@link ScoreBlocks}): when the selection of pass-through and feature
+ * columns is a plain Parquet scan served as columnar batches ({@link ColumnarScan}), partitions read the batches
+ * directly; otherwise (CSV, a derived table, a type the vectorised reader lacks) they read the selection's rows, with
+ * the features cast to double. Either way the pass emits Spark's internal rows: pass-through values are handed on
+ * in their internal form (UTF8String, microseconds, days), never converted to Java objects.
  */
 public final class ScoringPass {
+  /** Points of the monitoring series: time buckets (at most), or sampled rows when no key is a time. */
+  public static final int SERIES_POINTS = 600;
+  /** Seed of the rank of the score-map sample. */
+  static final long SAMPLE_SEED = 23;
+  /** Seed of the rank of the series sample (tables without a time key). */
+  static final long SERIES_SEED = 17;
+
   private ScoringPass() {}
 
-  /** What the pass needs on the executors. */
-  public record Spec(Scorer scorer, int passThrough, List<String> features, int blockRows, MissingPolicy missing,
-      double[] imputeValues, double t2Limit, double qLimit, boolean reconstruct) implements Serializable {}
+  /** The control limits of a pass and how they were computed, in words. */
+  public record Limits(double t2, String t2Rule, double q, String qRule) implements Serializable {
 
-  /** Driver-side accumulators of one pass. */
-  public record Counters(LongAccumulator scored, LongAccumulator dropped, LongAccumulator flaggedT2,
-      LongAccumulator flaggedQ, LongAccumulator flaggedBoth, TopRows top, FeatureErrors errors)
-      implements Serializable {
+    /**
+     * T2 (beta for the fitted rows, F for new rows) and Q (Jackson and Mudholkar) limits of {@code model} at
+     * {@code confidence}.
+     */
+    public static Limits of(PcaModel model, double confidence, boolean fittedRows) {
+      int k = model.k();
+      double t2 = fittedRows ? ControlLimits.t2Fitted(k, model.rows(), confidence)
+          : ControlLimits.t2New(k, model.rows(), confidence);
+      String t2Rule = fittedRows
+          ? "fitted rows: (n-1)^2/n Beta(k/2, (n-k-1)/2) at " + confidence + " (Tracy, Young and Mason 1992)"
+          : "new rows: k(n-1)(n+1)/(n(n-k)) F(k, n-k) at " + confidence;
+      ControlLimits.Thetas thetas = ControlLimits.thetas(model.eigenvalues(), k, model.eigenvaluesComplete(),
+          model.d(), model.totalVariance());
+      double q = ControlLimits.q(thetas, confidence);
+      String qRule = "Jackson and Mudholkar (1979) at " + confidence + (thetas.exact()
+          ? ", from all " + (model.eigenvalues().length - k) + " discarded eigenvalues"
+          : ", discarded eigenvalues beyond the " + model.eigenvalues().length + " computed estimated from the trace"
+              + " (theta1 exact; theta2, theta3 assume an even spread)");
+      if (!(q > 0)) {
+        qRule = "no discarded variance (k = d): Q is zero for every row and flags nothing";
+      }
+      return new Limits(t2, t2Rule, q, qRule);
+    }
 
-    public static Counters register(org.apache.spark.SparkContext sc, String stage, int d, int topRows) {
-      TopRows top = new TopRows(topRows);
-      sc.register(top, "eigenmill top rows (" + stage + ")");
-      FeatureErrors errors = new FeatureErrors(d);
-      sc.register(errors, "eigenmill feature errors (" + stage + ")");
-      return new Counters(sc.longAccumulator(stage + " scored"), sc.longAccumulator(stage + " dropped"),
-          sc.longAccumulator(stage + " flagged T2"), sc.longAccumulator(stage + " flagged Q"),
-          sc.longAccumulator(stage + " flagged both"), top, errors);
+    /** No limits (reconstruction): nothing is flagged. */
+    public static Limits none() {
+      return new Limits(Double.MAX_VALUE, "none", 0, "none");
     }
   }
 
   /**
-   * The scored table (lazy): {@code passThrough} columns of {@code table} first, then the scores. Nothing runs
-   * until it is written.
+   * What the pass needs on the executors.
+   *
+   * @param sampleSize rows of the report's score sample ({@code output.report-sample}); 0 for none
    */
-  public static Dataset<Row> apply(Dataset<Row> table, List<String> passThrough, Spec spec, Counters counters) {
-    List<Column> cols = new ArrayList<>();
+  public record Spec(Scorer scorer, List<String> features, int blockRows, MissingPolicy missing,
+      double[] imputeValues, double t2Limit, double qLimit, boolean reconstruct, int sampleSize)
+      implements Serializable {}
+
+  /**
+   * The pass of {@code model} under {@code settings} (block size, missing values, report sample) against
+   * {@code limits}: the one way the jobs and the benchmark build it. Missing values are imputed, under
+   * {@code impute-mean}, with the model's means.
+   */
+  public static Spec spec(PcaModel model, JobSettings settings, Limits limits, boolean reconstruct) {
+    Scorer scorer = new Scorer(model.means(), model.scales(), model.loadings(), model.eigenvalues(), model.k());
+    return new Spec(scorer, model.features(), settings.reduce().blockRows(), settings.prepare().missing(),
+        model.means(), limits.t2(), limits.q(), reconstruct, reconstruct ? 0 : settings.output().reportSample());
+  }
+
+  /** A row of the score sample: key values (Spark's internal form) and the first scores. */
+  public record SampledRow(Object[] keys, double[] scores) implements Serializable {}
+
+  /** Driver-side accumulators of one pass. */
+  public record Counters(LongAccumulator scored, LongAccumulator dropped, LongAccumulator flaggedT2,
+      LongAccumulator flaggedQ, LongAccumulator flaggedBoth, TopRows top, FeatureErrors errors, SeriesMaxima series,
+      RowSample<double[]> seriesSample, RowSample<SampledRow> sample) implements Serializable {
+
+    public static Counters register(org.apache.spark.SparkContext sc, String stage, Spec spec, int topRows) {
+      TopRows top = new TopRows(topRows);
+      sc.register(top, "eigenmill top rows (" + stage + ")");
+      FeatureErrors errors = new FeatureErrors(spec.scorer().dimension());
+      sc.register(errors, "eigenmill feature errors (" + stage + ")");
+      SeriesMaxima series = new SeriesMaxima(2 * SERIES_POINTS);
+      sc.register(series, "eigenmill series (" + stage + ")");
+      RowSample<double[]> seriesSample = new RowSample<>(SERIES_POINTS);
+      sc.register(seriesSample, "eigenmill series sample (" + stage + ")");
+      RowSample<SampledRow> sample = new RowSample<>(spec.sampleSize());
+      sc.register(sample, "eigenmill score sample (" + stage + ")");
+      return new Counters(sc.longAccumulator(stage + " scored"), sc.longAccumulator(stage + " dropped"),
+          sc.longAccumulator(stage + " flagged T2"), sc.longAccumulator(stage + " flagged Q"),
+          sc.longAccumulator(stage + " flagged both"), top, errors, series, seriesSample, sample);
+    }
+  }
+
+  /**
+   * Where the pass-through columns are and what the pass gathers besides the scores.
+   *
+   * @param keys the first {@code keys} pass-through columns are the table's keys (hashed for the samples)
+   * @param timeColumn the pass-through column along which the series runs (a timestamp or a date), or -1
+   */
+  record Layout(int passThrough, int keys, DataType[] types, int timeColumn) implements Serializable {
+    boolean timeInDays() {
+      return timeColumn >= 0 && types[timeColumn].equals(DataTypes.DateType);
+    }
+  }
+
+  /**
+   * The scored table (lazy: nothing runs until it is written, once) and what the report needs to read the
+   * accumulators.
+   *
+   * @param columnar true when partitions read Parquet's columnar batches, false for the row reader
+   * @param timeColumn the pass-through column the series runs along, or null (then the series is a row sample)
+   * @param keySchema the key columns (names and types) of the sampled rows
+   */
+  public record Scored(Dataset<Row> rows, boolean columnar, String timeColumn, StructType keySchema) {
+    public String readPath() {
+      return columnar ? "columnar Parquet batches" : "rows (no columnar scan for this input)";
+    }
+  }
+
+  /**
+   * Scores {@code table}: pass-through columns first ({@link #passThrough}: {@code keys}, then partition columns
+   * not among them), then the scores (or the reconstruction).
+   */
+  public static Scored apply(Dataset<Row> table, List<String> keys, List<String> partitionColumns, Spec spec,
+      Counters counters) {
+    List<String> passThrough = passThrough(table.schema(), keys, partitionColumns);
+    List<Column> raw = new ArrayList<>();
+    List<Column> cast = new ArrayList<>();
     for (String c : passThrough) {
-      cols.add(functions.col(c));
+      raw.add(functions.col(quoted(c)));
+      cast.add(functions.col(quoted(c)));
     }
     for (String f : spec.features()) {
-      cols.add(functions.col(f).cast("double"));
+      raw.add(functions.col(quoted(f)));
+      cast.add(functions.col(quoted(f)).cast("double"));
     }
-    Dataset<Row> input = table.select(cols.toArray(new Column[0]));
+    Dataset<Row> selection = table.select(raw.toArray(new Column[0]));
+    int p = passThrough.size();
+    DataType[] types = new DataType[p];
     StructType out = new StructType();
-    for (int i = 0; i < passThrough.size(); i++) {
-      out = out.add(input.schema().fields()[i]);
+    StructType keySchema = new StructType();
+    int time = -1;
+    for (int c = 0; c < p; c++) {
+      StructField field = selection.schema().fields()[c];
+      types[c] = field.dataType();
+      out = out.add(field);
+      if (c < keys.size()) {
+        keySchema = keySchema.add(field);
+      }
+      if (time < 0 && isTime(field.dataType())) {
+        time = c;
+      }
     }
+    out = scoreColumns(out, spec);
+    Layout layout = new Layout(p, keys.size(), types, spec.reconstruct() ? -1 : time);
+    // the names as the selection resolved them (the scan's attributes carry the table's spelling)
+    List<String> names = List.of(selection.schema().fieldNames());
+    ColumnarScan scan = ColumnarScan.of(selection);
+    int[] passOrdinals = scan == null ? null : scan.ordinals(names.subList(0, p));
+    int[] featureOrdinals = scan == null ? null : scan.ordinals(names.subList(p, names.size()));
+    int[] kinds = featureOrdinals == null ? null : scan.kinds(featureOrdinals);
+    boolean columnar = passOrdinals != null && kinds != null && allKnown(kinds);
+    JavaRDD<InternalRow> rows;
+    if (columnar) {
+      rows = scan.batches().mapPartitions(new ScoreBlocks.ColumnarScoring(spec, layout, counters, passOrdinals,
+          featureOrdinals, kinds));
+    } else {
+      rows = table.select(cast.toArray(new Column[0])).queryExecution().toRdd().toJavaRDD()
+          .mapPartitions(new ScoreBlocks.RowScoring(spec, layout, counters));
+    }
+    // internalCreateDataFrame is private[sql] in Scala, hence public in the bytecode and callable from Java: it
+    // wraps the internal rows as they are, where a public constructor would need Rows and an encoder
+    Dataset<Row> scored = table.sparkSession().internalCreateDataFrame(rows.rdd(), out, false);
+    return new Scored(scored, columnar, time < 0 || spec.reconstruct() ? null : passThrough.get(time), keySchema);
+  }
+
+  private static StructType scoreColumns(StructType out, Spec spec) {
     if (spec.reconstruct()) {
       for (String f : spec.features()) {
         out = out.add(f, DataTypes.DoubleType, true);
       }
-    } else {
-      for (int c = 1; c <= spec.scorer().components(); c++) {
-        out = out.add("pc_" + c, DataTypes.DoubleType, false);
-      }
-      out = out.add("t2", DataTypes.DoubleType, false).add("q", DataTypes.DoubleType, false)
-          .add("flag_t2", DataTypes.BooleanType, false).add("flag_q", DataTypes.BooleanType, false);
+      return out;
     }
-    return input.mapPartitions(new ScoreRows(spec, counters), Encoders.row(out));
+    for (int c = 1; c <= spec.scorer().components(); c++) {
+      out = out.add("pc_" + c, DataTypes.DoubleType, false);
+    }
+    return out.add("t2", DataTypes.DoubleType, false).add("q", DataTypes.DoubleType, false)
+        .add("flag_t2", DataTypes.BooleanType, false).add("flag_q", DataTypes.BooleanType, false);
   }
 
-  static final class ScoreRows implements MapPartitionsFunction<Row, Row> {
-    private static final long serialVersionUID = 1L;
-    private final Spec spec;
-    private final Counters counters;
-
-    ScoreRows(Spec spec, Counters counters) {
-      this.spec = spec;
-      this.counters = counters;
-    }
-
-    @Override
-    public Iterator<Row> call(Iterator<Row> rows) {
-      return new BlockIterator(rows, spec, counters);
-    }
-  }
-
-  /** Reads a block, scores it, hands out its rows; repeats. One set of block arrays per partition. */
-  static final class BlockIterator implements Iterator<Row> {
-    private final Iterator<Row> in;
-    private final Spec spec;
-    private final Counters counters;
-    private final Scorer scorer;
-    private final int d;
-    private final int k;
-    private final int m;
-    private final int p;
-    private final Row[] held;
-    private final double[] x;
-    private final double[] scores;
-    private final double[] t2;
-    private final double[] q;
-    private final double[] sse;
-    private final double[] maxAbs;
-    private final double[] ssd;
-    private long rowsScored;
-    private int count;
-    private int pos;
-    private boolean finished;
-
-    BlockIterator(Iterator<Row> in, Spec spec, Counters counters) {
-      this.in = in;
-      this.spec = spec;
-      this.counters = counters;
-      this.scorer = spec.scorer();
-      this.d = scorer.dimension();
-      this.k = scorer.components();
-      this.m = spec.blockRows();
-      this.p = spec.passThrough();
-      this.held = new Row[m];
-      this.x = new double[m * d];
-      this.scores = new double[Math.max(1, m * k)];
-      this.t2 = new double[m];
-      this.q = new double[m];
-      this.sse = new double[d];
-      this.maxAbs = new double[d];
-      this.ssd = new double[d];
-    }
-
-    @Override
-    public boolean hasNext() {
-      if (pos < count) {
-        return true;
-      }
-      fill();
-      if (count == 0) {
-        finish();
+  private static boolean allKnown(int[] kinds) {
+    for (int k : kinds) {
+      if (k < 0) {
         return false;
       }
-      return true;
     }
+    return true;
+  }
 
-    @Override
-    public Row next() {
-      if (!hasNext()) {
-        throw new NoSuchElementException();
-      }
-      int i = pos++;
-      Row src = held[i];
-      held[i] = null;
-      Object[] values = new Object[p + (spec.reconstruct() ? d : k + 4)];
-      for (int c = 0; c < p; c++) {
-        values[c] = src.get(c);
-      }
-      if (spec.reconstruct()) {
-        for (int j = 0; j < d; j++) {
-          values[p + j] = scorer.reconstructed(x, m, i, j, count);
-        }
-      } else {
-        for (int c = 0; c < k; c++) {
-          values[p + c] = scores[c * count + i];
-        }
-        values[p + k] = t2[i];
-        values[p + k + 1] = q[i];
-        values[p + k + 2] = t2[i] > spec.t2Limit();
-        values[p + k + 3] = spec.qLimit() > 0 && q[i] > spec.qLimit();
-      }
-      return RowFactory.create(values);
-    }
+  /** Timestamps (with or without a time zone) and dates: the types a series can run along. */
+  static boolean isTime(DataType type) {
+    return type.equals(DataTypes.TimestampType) || type.equals(DataTypes.DateType)
+        || type.typeName().startsWith("timestamp");
+  }
 
-    private void fill() {
-      count = 0;
-      pos = 0;
-      long dropped = 0;
-      while (count < m && in.hasNext()) {
-        Row row = in.next();
-        if (readRow(row, count)) {
-          held[count++] = row;
-        } else {
-          dropped++;
-        }
-      }
-      counters.dropped().add(dropped);
-      if (count > 0) {
-        scorer.score(x, count, m, scores, t2, q);
-        rowsScored += count;
-        if (spec.reconstruct()) {
-          accumulateErrors();
-        } else {
-          flagAndCollect();
-        }
-      }
-    }
-
-    /** Copies the features of {@code row} into column {@code i} of the block; false when the row is dropped. */
-    private boolean readRow(Row row, int i) {
-      for (int j = 0; j < d; j++) {
-        int c = p + j;
-        double v = row.isNullAt(c) ? Double.NaN : row.getDouble(c);
-        if (v - v != 0.0) {
-          if (spec.missing() != MissingPolicy.IMPUTE_MEAN) {
-            return false;
-          }
-          v = spec.imputeValues()[j];
-        }
-        x[j * m + i] = v;
-      }
-      return true;
-    }
-
-    private void flagAndCollect() {
-      long f2 = 0;
-      long fq = 0;
-      long both = 0;
-      double qLimit = spec.qLimit();
-      for (int i = 0; i < count; i++) {
-        boolean a = t2[i] > spec.t2Limit();
-        boolean b = qLimit > 0 && q[i] > qLimit;
-        f2 += a ? 1 : 0;
-        fq += b ? 1 : 0;
-        both += a && b ? 1 : 0;
-        double severity = Math.max(t2[i] / spec.t2Limit(), qLimit > 0 ? q[i] / qLimit : 0.0);
-        if (severity > counters.top().threshold()) {
-          counters.top().add(candidate(i, severity));
-        }
-      }
-      counters.flaggedT2().add(f2);
-      counters.flaggedQ().add(fq);
-      counters.flaggedBoth().add(both);
-    }
-
-    private TopRows.Candidate candidate(int i, double severity) {
-      List<String> keys = new ArrayList<>(p);
-      for (int c = 0; c < p; c++) {
-        keys.add(String.valueOf(held[i].get(c)));
-      }
-      int top = Math.min(5, d);
-      int[] idx = new int[top];
-      double[] val = new double[top];
-      java.util.Arrays.fill(val, -1);
-      for (int j = 0; j < d; j++) {
-        double r = scorer.residual(i, j, count);
-        double v = r * r;
-        if (v > val[top - 1]) {
-          int at = top - 1;
-          while (at > 0 && val[at - 1] < v) {
-            val[at] = val[at - 1];
-            idx[at] = idx[at - 1];
-            at--;
-          }
-          val[at] = v;
-          idx[at] = j;
-        }
-      }
-      return new TopRows.Candidate(keys, severity, t2[i], q[i], idx, val);
-    }
-
-    private void accumulateErrors() {
-      for (int j = 0; j < d; j++) {
-        for (int i = 0; i < count; i++) {
-          double orig = x[j * m + i];
-          double err = orig - scorer.reconstructed(x, m, i, j, count);
-          sse[j] += err * err;
-          maxAbs[j] = Math.max(maxAbs[j], Math.abs(err));
-        }
-      }
-      for (int j = 0; j < d; j++) {
-        double mu = scorer.mean(j);
-        for (int i = 0; i < count; i++) {
-          double dev = x[j * m + i] - mu;
-          ssd[j] += dev * dev;
-        }
-      }
-    }
-
-    private void finish() {
-      if (finished) {
-        return;
-      }
-      finished = true;
-      counters.scored().add(rowsScored);
-      if (spec.reconstruct()) {
-        counters.errors().addSums(rowsScored, sse, maxAbs, ssd);
-      }
-    }
+  private static String quoted(String column) {
+    return "`" + column.replace("`", "``") + "`";
   }
 
   /** The pass-through columns present in {@code schema}, keys first, then partition columns not among the keys. */

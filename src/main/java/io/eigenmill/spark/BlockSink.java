@@ -1,0 +1,18 @@
+package io.eigenmill.spark;
+
+/**
+ * Where a columnar reader copies feature values: a column-major block of doubles (leading dimension {@link #ld()})
+ * whose next slice of rows starts at row {@link #base()}. The reader writes column j of the slice at
+ * {@code block()[j * ld() + base() + i]} and reports each missing cell (null, NaN or infinite) once; what a missing
+ * cell does (drop the row, keep NaN, impute a value) is the sink's business.
+ */
+interface BlockSink {
+  double[] block();
+
+  int ld();
+
+  int base();
+
+  /** Cell (row {@code base() + i}, column j) is missing. */
+  void markMissing(int i, int j);
+}
