@@ -7,14 +7,17 @@ package io.eigenmill.math;
  * <p>Method: with the centroids of all runs as the columns of one {@code d x K} matrix C, one BLAS level-3 call
  * {@code P = -2 X C} ({@code dgemm}) gives every cross term; the nearest centroid of row i within a run minimises
  * {@code ||c_j||^2 - 2 x_i.c_j} over that run's columns (the row's own {@code ||x_i||^2} does not change the order).
- * The expansion loses accuracy when distances are small against the norms, so it is used only to <em>choose</em>
- * the centroid: the squared distances returned are recomputed exactly as sums of squared differences, and callers
- * pass rows shifted by the data mean (so the norms measure the spread of the data, not its offset). A near-tie that
+ * The expansion loses accuracy when distances are small against the norms: callers pass rows shifted by the data
+ * mean (so the norms measure the spread of the data, not its offset); the nearest-only search (Lloyd passes,
+ * k-means|| rounds) reads the squared distance off the expansion, with an absolute error of order u times the
+ * squared norms (see {@link #nearestOnly}), and the search with the second-nearest (assignments, silhouette)
+ * recomputes both distances exactly as sums of squared differences. A near-tie that
  * rounding resolves the other way changes a row's cluster but no reported distance by more than the tie's width.
  * Ties go to the lower centroid index.
  *
- * <p>Cost per chunk of r rows: 2 r d K flops in dgemm, r K comparisons, and 2 r d R flops (R runs) for the exact
- * distances; memory r K doubles for P, allocated once. Not thread-safe; one instance per partition.
+ * <p>Cost per chunk of r rows: 2 r d K flops in dgemm, r K comparisons, and 2 r d flops for the rows' norms (or
+ * 4 r d R flops, R runs, for the exact distances of the second-nearest search); memory r K doubles for P, allocated
+ * once. Not thread-safe; one instance per partition.
  */
 public final class NearestSearch {
   /** Upper bound on the doubles of the product matrix of one chunk (2 MiB). */
@@ -98,60 +101,63 @@ public final class NearestSearch {
     if (rows == 0) {
       return;
     }
-    Linalg.blas().dgemm("N", "N", rows, total, d, -2.0, x, xoff, ldx, centroids, 0, d, 0.0, product, 0, rows);
-    for (int r = 0; r < runs; r++) {
-      int base = r * chunk;
-      if (second) {
+    // P^T = -2 C^T X^T, row-major by row of x: the K scores of a row are contiguous
+    Linalg.blas().dgemm("T", "T", total, rows, d, -2.0, centroids, 0, d, x, xoff, ldx, 0.0, product, 0, total);
+    if (second) {
+      for (int r = 0; r < runs; r++) {
         searchRun(r, rows);
+        int base = r * chunk;
         for (int i = 0; i < rows; i++) {
+          distance2[base + i] = squaredDistance(x, xoff + i, ldx, centroids, nearest[base + i] * d, d);
           int j = runnerUp[base + i];
           secondDistance2[base + i] = j < 0 ? Double.NaN
               : squaredDistance(x, xoff + i, ldx, centroids, j * d, d);
         }
-      } else {
-        nearestOnly(r, rows);
       }
-      exactDistances(x, xoff, rows, ldx, base);
+      return;
+    }
+    rowNorms(x, xoff, rows, ldx);
+    for (int r = 0; r < runs; r++) {
+      nearestOnly(r, rows);
+    }
+  }
+
+  /** ||x_i||^2 of the chunk's rows, coordinate by coordinate (rows read contiguously). */
+  private void rowNorms(double[] x, int xoff, int rows, int ldx) {
+    java.util.Arrays.fill(secondScore, 0, rows, 0.0);
+    for (int l = 0; l < d; l++) {
+      int xl = xoff + l * ldx;
+      for (int i = 0; i < rows; i++) {
+        double v = x[xl + i];
+        secondScore[i] += v * v;
+      }
     }
   }
 
   /**
-   * The nearest centroid of each row within run r, without branches on the data (a select per comparison), so
-   * that the loop over rows neither mispredicts nor stalls; ties keep the lower index as in {@link #searchRun}.
+   * The nearest centroid of each row within run r, the running minimum held in registers (the row's scores are
+   * contiguous); ties keep the lower index as in {@link #searchRun}. The squared distance is read off the expansion,
+   * ||x||^2 + ||c||^2 - 2 x.c, clamped at 0: its rounding error is at most about (d + 2) u (||x|| + ||c||)^2
+   * (Higham 2002, §3.1, for the dot product and the two sums), an absolute error of the size of the rows' spread times
+   * u, since rows and centroids are shifted by the data mean. Summed over the rows, the within-SS is then off by at
+   * most about 4 (d + 2) u times the total sum of squares. The second-nearest search recomputes distances exactly.
    */
   private void nearestOnly(int r, int rows) {
     int base = r * chunk;
     int first = offsets[r];
-    double norm0 = norms[first];
-    int col0 = first * rows;
+    int end = offsets[r + 1];
     for (int i = 0; i < rows; i++) {
-      bestScore[i] = product[col0 + i] + norm0;
-      nearest[base + i] = first;
-    }
-    for (int j = first + 1; j < offsets[r + 1]; j++) {
-      int col = j * rows;
-      double norm = norms[j];
-      for (int i = 0; i < rows; i++) {
-        double s = product[col + i] + norm;
-        boolean better = s < bestScore[i];
-        bestScore[i] = better ? s : bestScore[i];
-        nearest[base + i] = better ? j : nearest[base + i];
+      int row = i * total;
+      double best = product[row + first] + norms[first];
+      int at = first;
+      for (int j = first + 1; j < end; j++) {
+        double s = product[row + j] + norms[j];
+        boolean better = s < best;
+        best = better ? s : best;
+        at = better ? j : at;
       }
-    }
-  }
-
-  /**
-   * Exact squared distances of the rows to their nearest centroids of one run, coordinate by coordinate so that
-   * the rows are read contiguously (the centroids are few and stay in cache).
-   */
-  private void exactDistances(double[] x, int xoff, int rows, int ldx, int base) {
-    java.util.Arrays.fill(distance2, base, base + rows, 0.0);
-    for (int l = 0; l < d; l++) {
-      int xl = xoff + l * ldx;
-      for (int i = 0; i < rows; i++) {
-        double t = x[xl + i] - centroids[nearest[base + i] * d + l];
-        distance2[base + i] += t * t;
-      }
+      nearest[base + i] = at;
+      distance2[base + i] = Math.max(0.0, secondScore[i] + best);
     }
   }
 
@@ -162,23 +168,18 @@ public final class NearestSearch {
       bestScore[i] = Double.POSITIVE_INFINITY;
       secondScore[i] = Double.POSITIVE_INFINITY;
       nearest[base + i] = first;
-      if (second) {
-        runnerUp[base + i] = -1;
-      }
+      runnerUp[base + i] = -1;
     }
     for (int j = first; j < offsets[r + 1]; j++) {
-      int col = j * rows;
       double norm = norms[j];
       for (int i = 0; i < rows; i++) {
-        double s = product[col + i] + norm;
+        double s = product[i * total + j] + norm;
         if (s < bestScore[i]) {
-          if (second) {
-            secondScore[i] = bestScore[i];
-            runnerUp[base + i] = bestScore[i] == Double.POSITIVE_INFINITY ? -1 : nearest[base + i];
-          }
+          secondScore[i] = bestScore[i];
+          runnerUp[base + i] = bestScore[i] == Double.POSITIVE_INFINITY ? -1 : nearest[base + i];
           bestScore[i] = s;
           nearest[base + i] = j;
-        } else if (second && s < secondScore[i]) {
+        } else if (s < secondScore[i]) {
           secondScore[i] = s;
           runnerUp[base + i] = j;
         }
@@ -191,7 +192,10 @@ public final class NearestSearch {
     return nearest[r * chunk + i];
   }
 
-  /** Exact squared distance of row i to its nearest centroid of run r. */
+  /**
+   * Squared distance of row i to its nearest centroid of run r: exact with the second-nearest search, from the
+   * expansion otherwise (see {@link #nearestOnly}).
+   */
   public double distance2(int r, int i) {
     return distance2[r * chunk + i];
   }
