@@ -19,7 +19,7 @@ import java.util.regex.Pattern;
 /**
  * The results file: markdown with one section per kind of run (main, scaling, wide) between marker comments. A run
  * replaces its own sections and keeps the others, so that the main run, the scaling run and the wide run (which
- * needs its own JVM) can all land in one file. Also the shared formatting helpers.
+ * needs its own JVM) can all land in one file; text after the last section (notes on the figures) is kept too. Also the shared formatting helpers.
  */
 final class Report {
   static final List<String> SECTIONS = List.of("main", "scaling", "wide");
@@ -34,15 +34,24 @@ final class Report {
 
   private Report() {}
 
-  /** Replaces (or adds) {@code section} of {@code file} with {@code body}, keeping the other sections. */
+  /**
+   * Replaces (or adds) {@code section} of {@code file} with {@code body}, keeping the other sections and the text
+   * written after the last section.
+   */
   static void writeSection(Path file, String section, String body) {
     Map<String, String> bodies = new LinkedHashMap<>();
+    String notes = "";
     try {
       if (Files.isRegularFile(file)) {
-        Matcher m = SECTION.matcher(Files.readString(file, StandardCharsets.UTF_8));
+        String text = Files.readString(file, StandardCharsets.UTF_8);
+        Matcher m = SECTION.matcher(text);
+        int end = -1;
         while (m.find()) {
           bodies.put(m.group(1), m.group(2));
+          end = m.end();
         }
+        // what people wrote after the last section (the analysis of the figures) stays
+        notes = end < 0 ? "" : text.substring(end).strip();
       }
       bodies.put(section, body.endsWith("\n") ? body : body + "\n");
       StringBuilder s = new StringBuilder(TITLE);
@@ -51,6 +60,9 @@ final class Report {
           s.append("\n<!-- bench:").append(name).append(" -->\n").append(bodies.get(name))
               .append("<!-- /bench:").append(name).append(" -->\n");
         }
+      }
+      if (!notes.isEmpty()) {
+        s.append('\n').append(notes).append('\n');
       }
       if (file.getParent() != null) {
         Files.createDirectories(file.getParent());

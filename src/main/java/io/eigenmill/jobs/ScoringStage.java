@@ -96,6 +96,23 @@ final class ScoringStage {
   }
 
   /**
+   * A bucket width in words: seconds, with hours or days beside them when that helps; for a date column whose
+   * buckets are narrower than a day (its values are whole days), "day".
+   */
+  static String bucketWords(long seconds, boolean days) {
+    if (days && seconds < 86_400) {
+      return "day";
+    }
+    if (seconds >= 86_400) {
+      return String.format(java.util.Locale.ROOT, "%d s, %.3g days", seconds, seconds / 86_400.0);
+    }
+    if (seconds >= 3_600) {
+      return String.format(java.util.Locale.ROOT, "%d s, %.3g hours", seconds, seconds / 3_600.0);
+    }
+    return seconds + " s";
+  }
+
+  /**
    * T2 and Q along time when a key is a timestamp or date: the maximum per bucket of a power-of-two number of
    * seconds, the narrowest for which at most {@value #SERIES_POINTS} buckets hold rows; else along a sample of
    * {@value #SERIES_POINTS} rows chosen by a seeded hash of their keys (in that hash's order).
@@ -113,8 +130,8 @@ final class ScoringStage {
       for (int i = 0; i < at.length; i++) {
         at[i] = points.starts()[i];
       }
-      return new MonitorResult.Series(time + " (maximum per " + points.width() + " s)", at, points.maxA(),
-          points.maxB());
+      return new MonitorResult.Series(time + " (maximum per " + bucketWords(points.width(), scored.timeInDays())
+          + ")", at, points.maxA(), points.maxB());
     }
     List<HashSample.Entry<double[]>> rows = counters.seriesSample().value().entries();
     double[] at = new double[rows.size()];

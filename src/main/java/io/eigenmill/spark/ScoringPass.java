@@ -140,9 +140,11 @@ public final class ScoringPass {
    *
    * @param columnar true when partitions read Parquet's columnar batches, false for the row reader
    * @param timeColumn the pass-through column the series runs along, or null (then the series is a row sample)
+   * @param timeInDays true when that column is a date (its values are whole days)
    * @param keySchema the key columns (names and types) of the sampled rows
    */
-  public record Scored(Dataset<Row> rows, boolean columnar, String timeColumn, StructType keySchema) {
+  public record Scored(Dataset<Row> rows, boolean columnar, String timeColumn, boolean timeInDays,
+      StructType keySchema) {
     public String readPath() {
       return columnar ? "columnar Parquet batches" : "rows (no columnar scan for this input)";
     }
@@ -202,7 +204,8 @@ public final class ScoringPass {
     // internalCreateDataFrame is private[sql] in Scala, hence public in the bytecode and callable from Java: it
     // wraps the internal rows as they are, where a public constructor would need Rows and an encoder
     Dataset<Row> scored = table.sparkSession().internalCreateDataFrame(rows.rdd(), out, false);
-    return new Scored(scored, columnar, time < 0 || spec.reconstruct() ? null : passThrough.get(time), keySchema);
+    return new Scored(scored, columnar, time < 0 || spec.reconstruct() ? null : passThrough.get(time),
+        layout.timeInDays(), keySchema);
   }
 
   private static StructType scoreColumns(StructType out, Spec spec) {
