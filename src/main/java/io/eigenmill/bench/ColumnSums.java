@@ -1,5 +1,11 @@
 package io.eigenmill.bench;
 
+import static io.eigenmill.spark.ValueKinds.DOUBLE;
+import static io.eigenmill.spark.ValueKinds.FLOAT;
+import static io.eigenmill.spark.ValueKinds.INT;
+import static io.eigenmill.spark.ValueKinds.LONG;
+import static io.eigenmill.spark.ValueKinds.SHORT;
+
 import io.eigenmill.spark.ValueKinds;
 import java.util.Collections;
 import java.util.Iterator;
@@ -14,19 +20,13 @@ import org.apache.spark.sql.vectorized.ColumnarBatch;
  */
 final class ColumnSums implements FlatMapFunction<Iterator<ColumnarBatch>, double[]> {
   private static final long serialVersionUID = 1L;
-  static final int DOUBLE = ValueKinds.DOUBLE;
-  static final int FLOAT = ValueKinds.FLOAT;
-  static final int INT = ValueKinds.INT;
-  static final int LONG = ValueKinds.LONG;
-  static final int SHORT = ValueKinds.SHORT;
-  static final int BYTE = ValueKinds.BYTE;
 
   private final int[] ordinals;
   private final int[] kinds;
 
   /**
    * @param ordinals each feature's column position in a batch
-   * @param kinds each feature's type, one of the constants of this class
+   * @param kinds each feature's type, one of the codes of {@link ValueKinds}
    */
   ColumnSums(int[] ordinals, int[] kinds) {
     this.ordinals = ordinals.clone();

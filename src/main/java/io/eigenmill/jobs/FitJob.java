@@ -77,7 +77,7 @@ public final class FitJob {
       imputed = stats.counts().totalMissingCells();
       clock.lap("column-means");
     }
-    ReadMode mode = impute == null ? ReadMode.DROP : ReadMode.MARK;
+    ReadMode mode = modeFor(impute);
     BlockPrep imputation = impute == null ? BlockPrep.identity() : BlockPrep.imputeOnly(impute);
     // TSQR: one pass gives count, means and the R factor of the centred rows; the others start with the moments
     RFactor rFactor = null;

@@ -1,5 +1,12 @@
 package io.eigenmill.spark;
 
+import static io.eigenmill.spark.ValueKinds.BYTE;
+import static io.eigenmill.spark.ValueKinds.DOUBLE;
+import static io.eigenmill.spark.ValueKinds.FLOAT;
+import static io.eigenmill.spark.ValueKinds.INT;
+import static io.eigenmill.spark.ValueKinds.LONG;
+import static io.eigenmill.spark.ValueKinds.SHORT;
+
 import io.eigenmill.math.BlockPrep;
 import java.io.Serializable;
 import java.util.Iterator;
@@ -7,7 +14,6 @@ import java.util.List;
 import org.apache.spark.api.java.function.FlatMapFunction;
 import org.apache.spark.api.java.function.Function2;
 import org.apache.spark.sql.Row;
-import org.apache.spark.sql.types.DataType;
 import org.apache.spark.sql.types.DecimalType;
 import org.apache.spark.sql.vectorized.ColumnVector;
 import org.apache.spark.sql.vectorized.ColumnarBatch;
@@ -20,18 +26,6 @@ import org.apache.spark.util.LongAccumulator;
  */
 final class PartitionPasses {
   private PartitionPasses() {}
-
-  static final int DOUBLE = ValueKinds.DOUBLE;
-  static final int FLOAT = ValueKinds.FLOAT;
-  static final int INT = ValueKinds.INT;
-  static final int LONG = ValueKinds.LONG;
-  static final int SHORT = ValueKinds.SHORT;
-  static final int BYTE = ValueKinds.BYTE;
-
-  /** The reader's code for a numeric Spark type, or -1 when the type is not numeric. */
-  static int kindOf(DataType type) {
-    return ValueKinds.kindOf(type);
-  }
 
   /** Settings shared by both readers. */
   record PassSpec<A extends Serializable>(int d, int blockRows, ReadMode mode, BlockPrep prep,
