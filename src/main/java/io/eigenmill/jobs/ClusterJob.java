@@ -84,7 +84,10 @@ public final class ClusterJob {
     List<String> keep = byEntity ? List.of(settings.entity()) : keyColumns;
     int d = dims.size();
     List<Run> runs = runs();
-    JavaRDD<PointBlock> blocks = PointBlocks.cache(source.select(identityAndPoints(byEntity, dims)), d,
+    // without an entity the identity is the hash of the coordinates: a columnar scan of them can serve the cache
+    Dataset<Row> coordinates = byEntity ? null
+        : source.select(dims.stream().map(c -> functions.col(NearestCentroid.quoted(c))).toArray(Column[]::new));
+    JavaRDD<PointBlock> blocks = PointBlocks.cache(source.select(identityAndPoints(byEntity, dims)), coordinates, d,
         BLOCK_ROWS);
     List<String> warnings = new ArrayList<>();
     try {

@@ -25,6 +25,8 @@ public final class LloydStats implements Serializable {
   private final double[] distanceSums;
   private final double[] withinSs;
   private final RankedPoints[] farthest;
+  /** Scratch of {@link #add}: all zero between calls; not part of the buffer's state. */
+  private transient double[] indicator;
 
   private LloydStats(int d, int[] offsets) {
     this.d = d;
@@ -66,14 +68,26 @@ public final class LloydStats implements Serializable {
           far.offer(-d2, ids[idOff + i], x, xoff + i, ldx);
         }
       }
-      // coordinate sums column by column: the rows are read contiguously
-      for (int l = 0; l < d; l++) {
-        int xl = xoff + l * ldx;
-        for (int i = 0; i < rows; i++) {
-          sums[search.nearest(r, i) * d + l] += x[xl + i];
-        }
-      }
       withinSs[r] += cost;
+    }
+    // coordinate sums of every centroid in one BLAS level-3 call: sums (d x K) += X^T H, with H the rows x K
+    // indicator of each row's nearest centroid in every run (a scatter loop instead waits on the previous row's
+    // store whenever consecutive rows share a centroid, as clustered data does)
+    int total = counts.length;
+    int ldh = search.chunk();
+    if (indicator == null || indicator.length < ldh * total) {
+      indicator = new double[ldh * total];
+    }
+    for (int r = 0; r < runs; r++) {
+      for (int i = 0; i < rows; i++) {
+        indicator[i + search.nearest(r, i) * ldh] = 1.0;
+      }
+    }
+    Linalg.blas().dgemm("T", "N", d, total, rows, 1.0, x, xoff, ldx, indicator, 0, ldh, 1.0, sums, 0, d);
+    for (int r = 0; r < runs; r++) {
+      for (int i = 0; i < rows; i++) {
+        indicator[i + search.nearest(r, i) * ldh] = 0.0;
+      }
     }
   }
 

@@ -34,6 +34,8 @@ public final class NearestSearch {
   private final double[] product;
   private final double[] bestScore;
   private final double[] secondScore;
+  private final double[] rowNorm;
+  private final long[] keys;
   private final int[] nearest;
   private final int[] runnerUp;
   private final double[] distance2;
@@ -65,6 +67,8 @@ public final class NearestSearch {
     this.product = new double[chunk * total];
     this.bestScore = new double[chunk];
     this.secondScore = new double[chunk];
+    this.rowNorm = new double[chunk];
+    this.keys = new long[chunk];
     this.nearest = new int[runs * chunk];
     this.runnerUp = new int[second ? runs * chunk : 0];
     this.distance2 = new double[runs * chunk];
@@ -101,8 +105,8 @@ public final class NearestSearch {
     if (rows == 0) {
       return;
     }
-    // P^T = -2 C^T X^T, row-major by row of x: the K scores of a row are contiguous
-    Linalg.blas().dgemm("T", "T", total, rows, d, -2.0, centroids, 0, d, x, xoff, ldx, 0.0, product, 0, total);
+    // P = -2 X C, column-major with leading dimension chunk: centroid j's scores of all rows are contiguous
+    Linalg.blas().dgemm("N", "N", rows, total, d, -2.0, x, xoff, ldx, centroids, 0, d, 0.0, product, 0, chunk);
     if (second) {
       for (int r = 0; r < runs; r++) {
         searchRun(r, rows);
@@ -124,41 +128,61 @@ public final class NearestSearch {
 
   /** ||x_i||^2 of the chunk's rows, coordinate by coordinate (rows read contiguously). */
   private void rowNorms(double[] x, int xoff, int rows, int ldx) {
-    java.util.Arrays.fill(secondScore, 0, rows, 0.0);
+    java.util.Arrays.fill(rowNorm, 0, rows, 0.0);
     for (int l = 0; l < d; l++) {
       int xl = xoff + l * ldx;
       for (int i = 0; i < rows; i++) {
         double v = x[xl + i];
-        secondScore[i] += v * v;
+        rowNorm[i] += v * v;
       }
     }
   }
 
   /**
-   * The nearest centroid of each row within run r, the running minimum held in registers (the row's scores are
-   * contiguous); ties keep the lower index as in {@link #searchRun}. The squared distance is read off the expansion,
-   * ||x||^2 + ||c||^2 - 2 x.c, clamped at 0: its rounding error is at most about (d + 2) u (||x|| + ||c||)^2
-   * (Higham 2002, §3.1, for the dot product and the two sums), an absolute error of the size of the rows' spread times
-   * u, since rows and centroids are shifted by the data mean. Summed over the rows, the within-SS is then off by at
-   * most about 4 (d + 2) u times the total sum of squares. The second-nearest search recomputes distances exactly.
+   * The nearest centroid of each row within run r, without a branch in the loop (the branch a compiler emits for a
+   * running minimum mispredicts on clustered data, where the nearest centroid changes from row to row). The squared
+   * distance ||x||^2 + (||c||^2 - 2 x.c) is read off the expansion, clamped at 0, and its bit pattern, which orders
+   * non-negative doubles like their values, becomes a key whose lowest {@code bits = ceil(log2(k))} bits are replaced
+   * by the centroid's place in the run; the smallest key wins. So distances that agree to within 2^bits units in the
+   * last place count as tied, and ties go to the lower index as in {@link #searchRun}. The distance kept is the
+   * chosen centroid's untruncated one. Its rounding error is at most about (d + 2) u (||x|| + ||c||)^2 (Higham 2002,
+   * §3.1, for the dot product and the two sums), an absolute error of the size of the rows' spread times u, since
+   * rows and centroids are shifted by the data mean. Summed over the rows, the within-SS is then off by at most about
+   * 4 (d + 2) u times the total sum of squares. The second-nearest search recomputes distances exactly.
    */
   private void nearestOnly(int r, int rows) {
-    int base = r * chunk;
     int first = offsets[r];
-    int end = offsets[r + 1];
-    for (int i = 0; i < rows; i++) {
-      int row = i * total;
-      double best = product[row + first] + norms[first];
-      int at = first;
-      for (int j = first + 1; j < end; j++) {
-        double s = product[row + j] + norms[j];
-        boolean better = s < best;
-        best = better ? s : best;
-        at = better ? j : at;
+    int count = offsets[r + 1] - first;
+    long tags = count <= 1 ? 0 : (Long.highestOneBit(count - 1L) << 1) - 1;
+    long high = ~tags;
+    java.util.Arrays.fill(keys, 0, rows, Long.MAX_VALUE);
+    // centroid by centroid, rows inner: long independent loops over contiguous scores
+    for (int t = 0; t < count; t++) {
+      int col = (first + t) * chunk;
+      double norm = norms[first + t];
+      for (int i = 0; i < rows; i++) {
+        keys[i] = min(keys[i], key(rowNorm[i] + (product[col + i] + norm), high, t));
       }
-      nearest[base + i] = at;
-      distance2[base + i] = Math.max(0.0, secondScore[i] + best);
     }
+    int base = r * chunk;
+    for (int i = 0; i < rows; i++) {
+      int at = first + (int) (keys[i] & tags);
+      nearest[base + i] = at;
+      distance2[base + i] = Math.max(0.0, rowNorm[i] + (product[at * chunk + i] + norms[at]));
+    }
+  }
+
+  /** The key of a squared distance: its bits (0 when negative) with the low bits replaced by the tag. */
+  private static long key(double distance2, long high, int tag) {
+    long bits = Double.doubleToRawLongBits(distance2);
+    bits &= ~(bits >> 63); // a negative (rounded) distance counts as 0
+    return (bits & high) | tag;
+  }
+
+  /** The smaller of two non-negative longs, without a branch (their difference cannot overflow). */
+  private static long min(long a, long b) {
+    long diff = a - b;
+    return b + (diff & (diff >> 63));
   }
 
   private void searchRun(int r, int rows) {
@@ -173,7 +197,7 @@ public final class NearestSearch {
     for (int j = first; j < offsets[r + 1]; j++) {
       double norm = norms[j];
       for (int i = 0; i < rows; i++) {
-        double s = product[i * total + j] + norm;
+        double s = product[j * chunk + i] + norm;
         if (s < bestScore[i]) {
           secondScore[i] = bestScore[i];
           runnerUp[base + i] = bestScore[i] == Double.POSITIVE_INFINITY ? -1 : nearest[base + i];

@@ -17,13 +17,16 @@ import org.apache.spark.sql.execution.InputAdapter;
 import org.apache.spark.sql.execution.ProjectExec;
 import org.apache.spark.sql.execution.SparkPlan;
 import org.apache.spark.sql.execution.WholeStageCodegenExec;
+import org.apache.spark.sql.execution.adaptive.AdaptiveSparkPlanExec;
+import org.apache.spark.sql.execution.columnar.InMemoryTableScanExec;
 import org.apache.spark.sql.types.DataType;
 import org.apache.spark.sql.vectorized.ColumnarBatch;
 import scala.collection.JavaConverters;
 
 /**
- * The Parquet scan under a plain selection of columns, when Spark's vectorised reader serves it as columnar
- * batches: readers then take the batches ({@code executeColumnar()}) and skip the row conversion.
+ * The Parquet scan (or the scan of a table cached in memory) under a plain selection of columns, when Spark's
+ * vectorised reader serves it as columnar batches: readers then take the batches ({@code executeColumnar()}) and
+ * skip the row conversion. A cached table serves batches only when all its columns are of primitive types.
  *
  * <p>Only a plan made of the scan and operators that merely pass or reorder its columns (whole-stage code
  * generation, the columnar-to-row transition, a projection of plain attributes) qualifies: reading the scan
@@ -57,7 +60,13 @@ final class ColumnarScan {
   static ColumnarScan of(Dataset<Row> selection) {
     SparkPlan node = selection.queryExecution().executedPlan();
     while (true) {
-      if (node instanceof FileSourceScanExec) {
+      if (node instanceof AdaptiveSparkPlanExec) {
+        // adaptive execution wraps plans over cached tables; without an exchange below (none of the nodes that
+        // qualify is one) its current plan is the one that runs
+        node = ((AdaptiveSparkPlanExec) node).executedPlan();
+        continue;
+      }
+      if (node instanceof FileSourceScanExec || node instanceof InMemoryTableScanExec) {
         return node.supportsColumnar() ? new ColumnarScan(selection.sparkSession(), node) : null;
       }
       boolean passes = node instanceof WholeStageCodegenExec || node instanceof InputAdapter

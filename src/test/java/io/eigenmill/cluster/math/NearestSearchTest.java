@@ -81,6 +81,77 @@ class NearestSearchTest {
     assertEquals(0.0, s.secondDistance2(0, 0), 0.0);
   }
 
+  /**
+   * The nearest-only search (Lloyd passes, k-means|| rounds) against brute force: runs of 1, 5 and 33 centroids
+   * (0, 3 and 6 tag bits in its keys). Its distance comes from the expansion ||x||^2 + ||c||^2 - 2 x.c, so it may
+   * differ from the direct sum by the bound in its javadoc, (d + 2) u (||x|| + ||c||)^2 (Higham 2002, section 3.1);
+   * the nearest centroid may differ only where the brute-force distances tie within that bound.
+   */
+  @Test
+  void nearestOnlyMatchesBruteForceWithinTheExpansionBound() {
+    SplittableRandom rnd = new SplittableRandom(23);
+    int[] offsets = {0, 1, 6, 39};
+    double[] c = new double[39 * D];
+    for (int i = 0; i < c.length; i++) {
+      c[i] = rnd.nextGaussian() * 3;
+    }
+    int rows = 300;
+    double[] x = new double[rows * D];
+    for (int i = 0; i < x.length; i++) {
+      x[i] = rnd.nextGaussian() * 4;
+    }
+    NearestSearch s = new NearestSearch(D, c, offsets, 512, false);
+    s.search(x, 0, rows, rows);
+    double u = Math.ulp(1.0) / 2;
+    int misses = 0;
+    for (int r = 0; r < 3; r++) {
+      for (int i = 0; i < rows; i++) {
+        int best = -1;
+        double b1 = Double.POSITIVE_INFINITY;
+        double xn = 0;
+        for (int l = 0; l < D; l++) {
+          xn += x[i + l * rows] * x[i + l * rows];
+        }
+        double bound = 0;
+        double[] d2 = new double[offsets[r + 1] - offsets[r]];
+        for (int j = offsets[r]; j < offsets[r + 1]; j++) {
+          double cn = 0;
+          for (int l = 0; l < D; l++) {
+            double t = x[i + l * rows] - c[j * D + l];
+            d2[j - offsets[r]] += t * t;
+            cn += c[j * D + l] * c[j * D + l];
+          }
+          bound = Math.max(bound, (D + 2) * u * Math.pow(Math.sqrt(xn) + Math.sqrt(cn), 2));
+          if (d2[j - offsets[r]] < b1) {
+            b1 = d2[j - offsets[r]];
+            best = j;
+          }
+        }
+        int got = s.nearest(r, i);
+        assertTrue(d2[got - offsets[r]] <= b1 + 2 * bound, "row " + i + " run " + r + ": centroid " + got
+            + " is not nearest within the bound");
+        assertEquals(d2[got - offsets[r]], s.distance2(r, i), bound, "distance of row " + i + " run " + r);
+        if (got != best) {
+          misses++;
+        }
+      }
+    }
+    assertEquals(0, misses, "random data has no near-ties: every nearest centroid is the brute-force one");
+  }
+
+  @Test
+  void nearestOnlyTiesGoToTheLowerIndex() {
+    // run 0: centroids 1 and 2 coincide (and tie for the row); run 1: one centroid
+    double[] c = {5, 5, 5, 1, 0, 0, 1, 0, 0, -1, 0, 0};
+    NearestSearch s = new NearestSearch(D, c, new int[] {0, 3, 4}, 16, false);
+    double[] x = {1, 0, 0};
+    s.search(x, 0, 1, 1);
+    assertEquals(1, s.nearest(0, 0), "the lower of two equal centroids");
+    assertEquals(0.0, s.distance2(0, 0), 0.0);
+    assertEquals(3, s.nearest(1, 0));
+    assertEquals(4.0, s.distance2(1, 0), 1e-15);
+  }
+
   @Test
   void chunkRowsKeepTheProductWithinBudget() {
     assertEquals(1024, NearestSearch.chunkRows(10, 1024));
