@@ -168,10 +168,18 @@ final class MainCases {
     ensureCachedScores();
     JobSettings.Cluster settings = BenchJobs.cluster(table, work.resolve("kmeans-output").toString());
     ClusterOutcome o = time(BenchCase.KMEANS, () -> new ClusterJob(spark, settings, cachedScores, List.of(),
-        Scores.columns(model.k()), model, "scores").execute(), x -> x.passes() + " passes over the cached points");
+        Scores.columns(model.k()), model, "scores").execute(), x -> x.passes() + " passes over the cached points ("
+        + stages(x.timings()) + ")");
     KMeansQuality before = kmeans;
     kmeans = new KMeansQuality(o.result().withinSs(), before == null ? Double.NaN : before.builtin(), o.passes(),
         before == null ? 0 : before.builtinIterations());
+  }
+
+  /** "summary 0.52 s, k-means 2.9 s, ..." from a job's seconds per stage. */
+  private static String stages(java.util.Map<String, Double> seconds) {
+    List<String> parts = new java.util.ArrayList<>();
+    seconds.forEach((stage, s) -> parts.add(stage + " " + String.format(java.util.Locale.ROOT, "%.2f s", s)));
+    return String.join(", ", parts);
   }
 
   private void builtinKMeans() {

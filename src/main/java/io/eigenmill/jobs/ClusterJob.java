@@ -93,7 +93,7 @@ public final class ClusterJob {
     try {
       ClusterProfiles profiles = new ClusterProfiles(model, space, pointColumns);
       PointSummary summary = ParallelKMeans.summarize(spark, blocks, d, profiles.needsCovariance(),
-          settings.silhouetteSample(), settings.seed(), runs);
+          settings.silhouetteSample(), settings.initSample(), settings.seed(), runs);
       clock.lap("summary");
       Moments moments = summary.moments();
       checkCounts(summary, byEntity, dims, warnings);
@@ -114,8 +114,11 @@ public final class ClusterJob {
       warnings.addAll(choice.notes(settings));
       ClusterResult result = profiles.result(choice, summary, space, settings.entity(), dims);
       Dataset<Row> assignments = NearestCentroid.assignments(source, keep, dims, result.centroids());
-      ClusterOutcome outcome = new ClusterOutcome(result, assignments, ClusterTables.centroids(spark, result),
-          ClusterTables.profiles(spark, result), ClusterTables.kSelection(spark, result, choice.bestSizes()),
+      Dataset<Row> centroids = ClusterTables.centroids(spark, result);
+      Dataset<Row> profileTable = ClusterTables.profiles(spark, result);
+      Dataset<Row> kSelection = ClusterTables.kSelection(spark, result, choice.bestSizes());
+      clock.lap("tables");
+      ClusterOutcome outcome = new ClusterOutcome(result, assignments, centroids, profileTable, kSelection,
           List.copyOf(warnings), clock.timings(), kmeans.passes() + 1);
       LOG.info("cluster: k = {} ({}), within-SS {}, {} passes", result.k(), result.selectionRule(),
           result.withinSs(), outcome.passes());

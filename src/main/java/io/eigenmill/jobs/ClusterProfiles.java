@@ -71,7 +71,7 @@ final class ClusterProfiles {
     }
     return new ClusterResult(space, entity, k, choice.rule(), f.withinSs(), choice.chosenSilhouette(), sizes,
         choice.scores(), List.copyOf(dims), centroids, List.copyOf(features), original, profiles,
-        choice.sampleSize());
+        choice.sampleSize(), summary.initSampleSize());
   }
 
   private List<ClusterResult.FeatureShift> distinguishing(double[] cluster, double[] overall, double[] sd) {

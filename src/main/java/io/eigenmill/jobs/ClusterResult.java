@@ -25,7 +25,8 @@ public record ClusterResult(
     List<String> features,
     double[][] centroidsOriginal,
     List<Profile> profiles,
-    int silhouetteSample) {
+    int silhouetteSample,
+    int initSample) {
 
   public record KScore(int k, double withinSs, double silhouette, double calinskiHarabasz, double daviesBouldin) {}
 

@@ -141,6 +141,7 @@ public final class SummaryJson {
     m.put("within_ss", r.withinSs());
     m.put("silhouette", r.silhouette());
     m.put("silhouette_sample", r.silhouetteSample());
+    m.put("init_sample", r.initSample());
     m.put("sizes", r.sizes());
     List<Map<String, Object>> sel = new java.util.ArrayList<>();
     for (ClusterResult.KScore k : r.selection()) {

@@ -13,17 +13,21 @@ import java.util.Arrays;
  * re-seed empty clusters.
  *
  * <p>A binary max-heap of slot indices: the worst kept entry is at the root, so a rejected offer costs one
- * comparison; an accepted one O(log capacity + d). Memory: capacity x (d + 2) words, allocated once.
+ * comparison; an accepted one O(log capacity + d). Memory: at most capacity x (d + 2) words, grown by doubling as
+ * entries arrive (a large selection over a small partition stays small, and so does its serialized form).
  */
 public final class RankedPoints implements Serializable {
   private static final long serialVersionUID = 1L;
 
   private final int capacity;
   private final int d;
-  private final double[] rank;
-  private final long[] tie;
-  private final double[] values;
-  private final int[] heap;
+  /** Slots allocated before the first growth. */
+  private static final int FIRST_SLOTS = 16;
+
+  private double[] rank;
+  private long[] tie;
+  private double[] values;
+  private int[] heap;
   private int size;
 
   public RankedPoints(int capacity, int d) {
@@ -32,10 +36,23 @@ public final class RankedPoints implements Serializable {
     }
     this.capacity = capacity;
     this.d = d;
-    this.rank = new double[capacity];
-    this.tie = new long[capacity];
-    this.values = new double[capacity * d];
-    this.heap = new int[capacity];
+    int slots = Math.min(capacity, FIRST_SLOTS);
+    this.rank = new double[slots];
+    this.tie = new long[slots];
+    this.values = new double[slots * d];
+    this.heap = new int[slots];
+  }
+
+  /** Room for one more entry below capacity: doubles the slots (up to capacity) when they are all used. */
+  private void ensureSlot() {
+    if (size < rank.length) {
+      return;
+    }
+    int slots = (int) Math.min(capacity, 2L * rank.length);
+    rank = Arrays.copyOf(rank, slots);
+    tie = Arrays.copyOf(tie, slots);
+    values = Arrays.copyOf(values, slots * d);
+    heap = Arrays.copyOf(heap, slots);
   }
 
   public int size() {
@@ -75,6 +92,7 @@ public final class RankedPoints implements Serializable {
     }
     int slot;
     if (size < capacity) {
+      ensureSlot();
       slot = size;
       heap[size] = slot;
       store(slot, r, t, src, off, stride);

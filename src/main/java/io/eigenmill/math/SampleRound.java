@@ -83,6 +83,15 @@ public final class SampleRound implements Serializable {
     return out;
   }
 
+  /** The kept row of run r with the largest key (a list of one row), or an empty list when no row was kept. */
+  public PointList largest(int r) {
+    PointList out = new PointList(top[r].dimension());
+    if (top[r].size() > 0) {
+      out.add(top[r].identities()[0], top[r].points(), 0, 1);
+    }
+    return out;
+  }
+
   /** True when run r's selection is full and all of it qualifies: rows beyond it may qualify too. */
   public boolean overflowed(int r, double threshold) {
     RankedPoints kept = top[r];

@@ -18,6 +18,8 @@ public final class SeedStream {
   public static final int PLUS_PLUS = 3;
   /** Purpose: the sample on which the silhouette is computed. */
   public static final int SILHOUETTE = 4;
+  /** Purpose: the sample on which k-means|| chooses the starting centroids. */
+  public static final int INIT_SAMPLE = 5;
 
   private static final long GOLDEN = 0x9e3779b97f4a7c15L;
 

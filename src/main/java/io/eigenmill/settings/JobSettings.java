@@ -68,6 +68,7 @@ public record JobSettings(
       int maxIterations,
       double tolerance,
       int silhouetteSample,
+      int initSample,
       long seed,
       String entity,
       boolean entitySpread) implements Serializable {}

@@ -39,12 +39,12 @@ final class ClusterPasses {
 
   /** The first pass: moments, skipped rows, silhouette sample and each run's first centre. */
   static PointSummary summarize(SparkSession spark, JavaRDD<PointBlock> blocks, int d, boolean gram,
-      int sampleSize, long sampleStream, long[] firstStreams) {
+      int sampleSize, long sampleStream, int initSize, long initStream, long[] firstStreams) {
     try (Progress progress = Progress.start(spark, "cluster/summary", null)) {
       JavaRDD<PointSummary> partials = blocks.mapPartitions(
-          new SummaryPass(d, gram, sampleSize, sampleStream, firstStreams));
+          new SummaryPass(d, gram, sampleSize, sampleStream, initSize, initStream, firstStreams));
       if (partials.getNumPartitions() == 0) {
-        return new PointSummary(d, gram, sampleSize, firstStreams.length);
+        return new PointSummary(d, gram, sampleSize, initSize, firstStreams.length);
       }
       PointSummary s = OrderedMerge.merge(partials, new MergeSummaries());
       progress.done(s.moments.count() + s.skipped);
@@ -73,19 +73,24 @@ final class ClusterPasses {
     private final boolean gram;
     private final int sampleSize;
     private final long sampleStream;
+    private final int initSize;
+    private final long initStream;
     private final long[] firstStreams;
 
-    SummaryPass(int d, boolean gram, int sampleSize, long sampleStream, long[] firstStreams) {
+    SummaryPass(int d, boolean gram, int sampleSize, long sampleStream, int initSize, long initStream,
+        long[] firstStreams) {
       this.d = d;
       this.gram = gram;
       this.sampleSize = sampleSize;
       this.sampleStream = sampleStream;
+      this.initSize = initSize;
+      this.initStream = initStream;
       this.firstStreams = firstStreams;
     }
 
     @Override
     public Iterator<PointSummary> call(Iterator<PointBlock> blocks) {
-      PointSummary s = new PointSummary(d, gram, sampleSize, firstStreams.length);
+      PointSummary s = new PointSummary(d, gram, sampleSize, initSize, firstStreams.length);
       double[] scratch = new double[0];
       while (blocks.hasNext()) {
         PointBlock b = blocks.next();
@@ -101,6 +106,12 @@ final class ClusterPasses {
         for (int i = 0; i < b.rows; i++) {
           long id = b.ids[i];
           s.sample.offer(SeedStream.unit(sampleStream, id), id, b.values, i, b.rows);
+          if (s.initSample != null) {
+            double u = SeedStream.unit(initStream, id);
+            if (s.initSample.wouldKeep(u, id)) {
+              s.initSample.offer(u, id, b.values, i, b.rows);
+            }
+          }
           for (int r = 0; r < firstStreams.length; r++) {
             double u = SeedStream.unit(firstStreams[r], id);
             if (s.firsts[r].wouldKeep(u, id)) {
@@ -134,36 +145,43 @@ final class ClusterPasses {
 
     @Override
     public Iterator<B> call(Iterator<PointBlock> blocks) {
-      CentroidTable t = table.value();
-      B buffer = consumer.zero(t);
-      NearestSearch search = null;
-      double[] x = null;
-      while (blocks.hasNext()) {
-        PointBlock b = blocks.next();
-        if (b.rows == 0) {
-          continue;
-        }
-        if (search == null) {
-          search = t.search(CHUNK_ROWS, false);
-          x = new double[search.chunk() * t.d];
-        }
-        int chunk = search.chunk();
-        for (int from = 0; from < b.rows; from += chunk) {
-          int m = Math.min(chunk, b.rows - from);
-          for (int l = 0; l < t.d; l++) {
-            double s = t.shift[l];
-            int src = from + l * b.rows;
-            int dst = l * chunk;
-            for (int i = 0; i < m; i++) {
-              x[dst + i] = b.values[src + i] - s;
-            }
-          }
-          search.search(x, 0, m, chunk);
-          consumer.add(buffer, search, x, m, chunk, b.ids, from);
-        }
-      }
-      return List.of(buffer).iterator();
+      return List.of(fold(table.value(), consumer, blocks)).iterator();
     }
+  }
+
+  /**
+   * One search of {@code consumer} against {@code t} over {@code blocks}: the body of a pass's task, and the whole
+   * of a pass over points held on the driver (the k-means|| initialisation sample).
+   */
+  static <B extends Serializable> B fold(CentroidTable t, Consumer<B> consumer, Iterator<PointBlock> blocks) {
+    B buffer = consumer.zero(t);
+    NearestSearch search = null;
+    double[] x = null;
+    while (blocks.hasNext()) {
+      PointBlock b = blocks.next();
+      if (b.rows == 0) {
+        continue;
+      }
+      if (search == null) {
+        search = t.search(CHUNK_ROWS, false);
+        x = new double[search.chunk() * t.d];
+      }
+      int chunk = search.chunk();
+      for (int from = 0; from < b.rows; from += chunk) {
+        int m = Math.min(chunk, b.rows - from);
+        for (int l = 0; l < t.d; l++) {
+          double s = t.shift[l];
+          int src = from + l * b.rows;
+          int dst = l * chunk;
+          for (int i = 0; i < m; i++) {
+            x[dst + i] = b.values[src + i] - s;
+          }
+        }
+        search.search(x, 0, m, chunk);
+        consumer.add(buffer, search, x, m, chunk, b.ids, from);
+      }
+    }
+    return buffer;
   }
 
   static final class MergeBuffers<B extends Serializable> implements Function2<B, B, B> {

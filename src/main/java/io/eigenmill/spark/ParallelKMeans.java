@@ -22,11 +22,22 @@ import org.slf4j.LoggerFactory;
  * number in its stream); each of {@link #ROUNDS} rounds adds every row x with probability
  * min(1, l d^2(x, C) / phi), l = 2k, phi = sum d^2(x, C), in one pass ({@link SampleRound}; the paper shows a few
  * rounds suffice in practice). A run keeps sampling for up to {@link #MAX_EXTRA_ROUNDS} more rounds while it has
- * fewer than k distinct candidates; when phi = 0 every row coincides with a candidate, so the candidates are all the
- * distinct points and fewer than k of them is an error ({@link TooFewDistinctPoints}). A last pass counts the rows
- * nearest to each candidate; on the driver, weighted k-means++ and weighted Lloyd iterations on the candidates give
- * the k starting centroids ({@link KMeansSeeding}). Every random decision is a function of (seed, k, restart,
- * round) and the row's identity, never of the partition: the candidates do not depend on the partitioning.
+ * fewer than k distinct candidates (a round that samples nothing then takes the row of largest key: equal rows share
+ * their identity, hence their unit number, so heavily duplicated rows can leave a round empty); when phi = 0 every
+ * row coincides with a candidate, so the candidates are all the distinct points and fewer than k of them is an error
+ * ({@link TooFewDistinctPoints}). A last pass counts the rows nearest to each candidate; on the driver, weighted
+ * k-means++ and weighted Lloyd iterations on the candidates give the k starting centroids ({@link KMeansSeeding}).
+ * Every random decision is a function of (seed, k, restart, round) and the row's identity, never of the partition:
+ * the candidates do not depend on the partitioning.
+ *
+ * <p><b>Where the initialisation runs.</b> By default ({@code cluster.init-sample} rows, at most
+ * {@link #INIT_SAMPLE_VALUES} / d) the rounds and the weights run on the driver over a seeded sample of the rows
+ * (bottom-s of a unit number of each row's identity, gathered by the summary pass): no pass over the data, and the
+ * candidate weights are counts over the sample, i.e. the full counts scaled by about s / n, which weighted k-means++
+ * and the weighted Lloyd iterations do not see. A table of at most s rows is sampled whole, which is the same
+ * computation as over the cache. The Lloyd iterations always run over every row. When the sample turns out to hold
+ * fewer than k distinct points (duplicates crowd it) while the rows have more, the initialisation runs again over
+ * all rows. With {@code cluster.init-sample = 0} it always runs over all rows.
  *
  * <p><b>Lloyd iterations</b>: one pass per iteration for all runs still moving; each run's new centroids are the
  * means of their rows. A run stops when no centroid moved more than {@code tolerance} times the data's RMS radius
@@ -37,8 +48,9 @@ import org.slf4j.LoggerFactory;
  * deterministically with the row farthest from its centroid (the next farthest for a second empty cluster, ties by
  * identity), counted in {@link Fitted#reseeds}, and the run is not considered converged in that iteration.
  *
- * <p>Passes: 1 summary (done by the caller) + {@link #ROUNDS} rounds + 1 (weights) + Lloyd iterations (the slowest run's count);
- * a round whose kept rows overflow costs one more pass (rare: see {@link #KEPT_PER_OVERSAMPLE}). Centroids travel as
+ * <p>Passes: 1 summary (done by the caller) + Lloyd iterations (the slowest run's count), plus {@link #ROUNDS}
+ * rounds + 1 (weights) when the initialisation runs over all rows, where a round whose kept rows overflow costs one
+ * more pass (rare: see {@link #KEPT_PER_OVERSAMPLE}). Centroids travel as
  * broadcasts; all arithmetic is in coordinates shifted by the data mean.
  */
 public final class ParallelKMeans {
@@ -62,6 +74,11 @@ public final class ParallelKMeans {
   static final int KEPT_EXTRA = 16;
   /** Cap on the weighted Lloyd iterations over the candidates, on the driver. */
   public static final int LOCAL_ITERATIONS = 100;
+  /**
+   * Values (rows x d) of the initialisation sample at most: 2^21 doubles, 16 MiB, so that the summary's partials
+   * and the driver's copy stay small at any d.
+   */
+  public static final int INIT_SAMPLE_VALUES = 1 << 21;
 
   /** One k-means run: the number of clusters and the restart number (0-based). */
   public record Run(int k, int restart) implements Serializable {}
@@ -107,6 +124,8 @@ public final class ParallelKMeans {
   private final int maxIterations;
   private final double tolerance;
   private int passes;
+  /** While the initialisation runs on the driver's sample: its blocks; otherwise null (passes over the cache). */
+  private List<PointBlock> local;
 
   /**
    * @param shift the data mean: every computation runs on rows minus this vector
@@ -135,10 +154,44 @@ public final class ParallelKMeans {
    * @throws TooFewDistinctPoints when a run's k exceeds the number of distinct points
    */
   public List<Fitted> fit(List<Run> runs, PointSummary summary, double radius) {
-    PointList[] candidates = initialCandidates(runs, summary);
-    oversample(runs, candidates);
-    double[][] starts = reduceCandidates(runs, candidates);
+    List<PointBlock> sample = summary.initBlocks(ClusterPasses.CHUNK_ROWS);
+    double[][] starts = null;
+    if (sample != null) {
+      long t0 = System.nanoTime();
+      try {
+        starts = initialise(runs, summary, sample);
+        LOG.info("k-means||: {} runs initialised on a sample of {} rows on the driver in {} ms", runs.size(),
+            summary.initSampleSize(), (System.nanoTime() - t0) / 1_000_000);
+      } catch (TooFewDistinctPoints e) {
+        if (summary.initSampleSize() >= summary.moments().count()) {
+          throw e; // the sample is every row
+        }
+        // duplicates can crowd the sample: the rows as a whole may still have k distinct points
+        LOG.info("k-means||: the sample of {} rows has fewer than k = {} distinct points; initialising over all"
+            + " rows", summary.initSampleSize(), e.k());
+      }
+    }
+    if (starts == null) {
+      starts = initialise(runs, summary, null);
+    }
     return lloyd(runs, starts, radius);
+  }
+
+  /** k-means|| and the weighted reduction: over {@code sample} on the driver, or over the cache when it is null. */
+  private double[][] initialise(List<Run> runs, PointSummary summary, List<PointBlock> sample) {
+    local = sample;
+    try {
+      PointList[] candidates = initialCandidates(runs, summary);
+      oversample(runs, candidates);
+      return reduceCandidates(runs, candidates);
+    } finally {
+      local = null;
+    }
+  }
+
+  /** Rows of the initialisation sample for a request of {@code requested} rows (0: none) at dimension d. */
+  public static int initSampleRows(int requested, int d) {
+    return requested <= 0 ? 0 : Math.max(1, Math.min(requested, INIT_SAMPLE_VALUES / Math.max(1, d)));
   }
 
   /**
@@ -147,9 +200,11 @@ public final class ParallelKMeans {
    * number of each point's identity in the stream (seed, silhouette)) and the first centre of each run.
    */
   public static PointSummary summarize(SparkSession spark, JavaRDD<PointBlock> blocks, int d, boolean gram,
-      int sampleSize, long seed, List<Run> runs) {
+      int sampleSize, int initSample, long seed, List<Run> runs) {
     long sampleStream = SeedStream.stream(seed, SeedStream.SILHOUETTE, 0, 0, 0);
-    return ClusterPasses.summarize(spark, blocks, d, gram, sampleSize, sampleStream, firstStreams(seed, runs));
+    long initStream = SeedStream.stream(seed, SeedStream.INIT_SAMPLE, 0, 0, 0);
+    return ClusterPasses.summarize(spark, blocks, d, gram, sampleSize, sampleStream, initSampleRows(initSample, d),
+        initStream, firstStreams(seed, runs));
   }
 
   /** The stream of each run's first centre. */
@@ -206,6 +261,11 @@ public final class ParallelKMeans {
         }
         thresholds[a] = phi / (2.0 * runs.get(r).k());
         got[a] = sampled.selected(a, thresholds[a]);
+        if (got[a].size() == 0 && candidates[r].size() < runs.get(r).k()) {
+          // equal rows share their identity and so their unit number: on heavily duplicated rows a round can
+          // sample nothing; a run short of k candidates then takes its row of largest key
+          got[a] = sampled.largest(a);
+        }
         if (sampled.overflowed(a, thresholds[a])) {
           overflowed.add(a);
         }
@@ -357,9 +417,14 @@ public final class ParallelKMeans {
   }
 
   private <B extends Serializable> B pass(String stage, CentroidTable table, ClusterPasses.Consumer<B> consumer) {
-    passes++;
     long t0 = System.nanoTime();
-    B b = ClusterPasses.search(spark, stage, blocks, table, consumer);
+    B b;
+    if (local != null) {
+      b = ClusterPasses.fold(table, consumer, local.iterator());
+    } else {
+      passes++;
+      b = ClusterPasses.search(spark, stage, blocks, table, consumer);
+    }
     LOG.debug("{}: {} ms, {} centroids", stage, (System.nanoTime() - t0) / 1000000, table.total());
     return b;
   }

@@ -42,7 +42,8 @@ class ClusterJobTest extends SparkSuite {
   static final double[][] CENTRES = {{0, 0, 0}, {6, 0, 0}, {0, 6, 3}};
 
   static JobSettings.Cluster settings(OptionalInt k, int kMax, KSelection by, int sample) {
-    return new JobSettings.Cluster(true, ClusterSpace.SCORES, k, 2, kMax, by, 3, 50, 1e-6, sample, 11, "", false);
+    return new JobSettings.Cluster(true, ClusterSpace.SCORES, k, 2, kMax, by, 3, 50, 1e-6, sample, 100_000, 11, "",
+        false);
   }
 
   static ClusterOutcome run(Dataset<Row> points, JobSettings.Cluster s, int d) {
@@ -126,7 +127,7 @@ class ClusterJobTest extends SparkSuite {
     assertTrue(rows.getMessage().contains("cluster.k = 5") && rows.getMessage().contains("only 3 points"),
         rows.getMessage());
     JobSettings.Cluster fromOne = new JobSettings.Cluster(true, ClusterSpace.SCORES, OptionalInt.empty(), 1, 3,
-        KSelection.SILHOUETTE, 3, 50, 1e-6, 100, 11, "", false);
+        KSelection.SILHOUETTE, 3, 50, 1e-6, 100, 100_000, 11, "", false);
     InvalidJobException range = assertThrows(InvalidJobException.class, () -> run(three, fromOne, 2));
     assertTrue(range.getMessage().contains("cluster.k-range = 1..3"), range.getMessage());
     InvalidJobException empty = assertThrows(InvalidJobException.class,
@@ -174,7 +175,7 @@ class ClusterJobTest extends SparkSuite {
   void entitiesWithSpreadInOriginalUnitsAndTablesRoundTrip() throws Exception {
     EntityData fleet = new EntityData();
     JobSettings.Cluster s = new JobSettings.Cluster(true, ClusterSpace.SCORES, OptionalInt.of(3), 2, 8,
-        KSelection.SILHOUETTE, 3, 50, 1e-6, 100, 11, "host", true);
+        KSelection.SILHOUETTE, 3, 50, 1e-6, 100, 100_000, 11, "host", true);
     ClusterOutcome o = new ClusterJob(spark, s, fleet.frame(spark), List.of("host", "t"), List.of("pc_1", "pc_2"),
         fleet.model, "scores").execute();
     ClusterResult r = o.result();

@@ -102,7 +102,7 @@ final class ReferenceData {
 
   static JobSettings.Cluster settings(OptionalInt k, int kMin, int kMax, int restarts, int sample) {
     return new JobSettings.Cluster(true, ClusterSpace.FEATURES, k, kMin, kMax, KSelection.SILHOUETTE, restarts, 100,
-        1.0e-6, sample, 7, "", false);
+        1.0e-6, sample, 100_000, 7, "", false);
   }
 
   /**

@@ -276,7 +276,7 @@ final class FleetFixture {
       dims.add("PC" + (c + 1));
     }
     return new ClusterResult("scores", "", 3, "largest silhouette over k = 2..8", within, 0.41, sizes, selection,
-        dims, centroids, List.of(FEATURES), original, profiles, N);
+        dims, centroids, List.of(FEATURES), original, profiles, N, N);
   }
 
   ReconstructionResult reconstruction() {
