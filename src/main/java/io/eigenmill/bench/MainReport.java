@@ -85,7 +85,8 @@ final class MainReport {
     List<List<String>> rows = new ArrayList<>();
     if (!Double.isNaN(q.ours())) {
       rows.add(List.of("ours (kmeans)", String.format(Locale.ROOT, "%.8g", q.ours()),
-          q.ourPasses() + " passes (summary, k-means|| rounds, weights, Lloyd)"));
+          q.ourPasses() + " passes (summary, Lloyd; k-means|| on the driver's sample of cluster.init-sample"
+              + " rows)"));
     }
     if (!Double.isNaN(q.builtin())) {
       rows.add(List.of("engine (builtin-kmeans)", String.format(Locale.ROOT, "%.8g", q.builtin()),

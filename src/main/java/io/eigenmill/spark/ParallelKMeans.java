@@ -33,8 +33,8 @@ import org.slf4j.LoggerFactory;
  * <p><b>Where the initialisation runs.</b> By default ({@code cluster.init-sample} rows, at most
  * {@link #INIT_SAMPLE_VALUES} / d) the rounds and the weights run on the driver over a seeded sample of the rows
  * (bottom-s of a unit number of each row's identity, gathered by the summary pass): no pass over the data, and the
- * candidate weights are counts over the sample, i.e. the full counts scaled by about s / n, which weighted k-means++
- * and the weighted Lloyd iterations do not see. A table of at most s rows is sampled whole, which is the same
+ * candidate weights are counts over the sample, i.e. estimates of the full counts scaled by about s / n, a factor
+ * to which weighted k-means++ and the weighted Lloyd iterations are invariant. A table of at most s rows is sampled whole, which is the same
  * computation as over the cache. The Lloyd iterations always run over every row. When the sample turns out to hold
  * fewer than k distinct points (duplicates crowd it) while the rows have more, the initialisation runs again over
  * all rows. With {@code cluster.init-sample = 0} it always runs over all rows.
@@ -197,7 +197,8 @@ public final class ParallelKMeans {
   /**
    * The first pass over the cached points (it also fills the cache): moments (with the full co-moment matrix when
    * {@code gram}), skipped rows, the silhouette sample of up to {@code sampleSize} points (bottom-s by the unit
-   * number of each point's identity in the stream (seed, silhouette)) and the first centre of each run.
+   * number of each point's identity in the stream (seed, silhouette)), the initialisation sample of
+   * {@link #initSampleRows} rows (the same rule in the stream (seed, init sample)) and the first centre of each run.
    */
   public static PointSummary summarize(SparkSession spark, JavaRDD<PointBlock> blocks, int d, boolean gram,
       int sampleSize, int initSample, long seed, List<Run> runs) {
