@@ -37,10 +37,11 @@ import org.slf4j.LoggerFactory;
  * named {@code <column>_sd}; rows with a null or NaN coordinate are left out of the means. Rows (or entities) with a
  * null, NaN or infinite coordinate are left out of the clustering and counted in a warning.
  *
- * <p>Passes: the points are read once into an executor cache of column-major blocks; then 1 summary pass,
- * 5 k-means|| rounds (one pass each), 1 weights pass and one pass per Lloyd iteration, each serving every restart of
- * every k at once; the silhouette is computed on the driver on a seeded sample; writing the assignments reads the points once
- * more. Results do not depend on the partitioning beyond rounding: random decisions are keyed by each point's
+ * <p>Passes: the points are read once into an executor cache of column-major blocks; then 1 summary pass and one
+ * pass per Lloyd iteration, each serving every restart of every k at once; k-means|| runs on the driver over the
+ * summary's seeded sample (or, with {@code cluster.init-sample = 0}, as 2 rounds and a weights pass over the cache;
+ * see {@link ParallelKMeans}); the silhouette is computed on the driver on a seeded sample; writing the assignments
+ * reads the points once more. Results do not depend on the partitioning beyond rounding: random decisions are keyed by each point's
  * identity (a hash of its coordinates, or of its entity key), not by its position.
  */
 public final class ClusterJob {

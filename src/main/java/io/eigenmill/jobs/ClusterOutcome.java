@@ -23,7 +23,8 @@ import org.apache.spark.sql.Row;
  * @param warnings things the user may want to act on (skipped rows, runs stopped by the iteration cap, re-seeded
  *     empty clusters), each a sentence
  * @param timings seconds per stage, in order
- * @param passes passes over the cached points (the summary, k-means|| rounds, weights, Lloyd iterations)
+ * @param passes passes over the cached points (the summary and the Lloyd iterations; the k-means|| rounds and the
+ *     weights pass too when the initialisation ran over all rows)
  */
 public record ClusterOutcome(
     ClusterResult result,
