@@ -10,7 +10,7 @@ import java.util.Arrays;
  * {@link #base()}, mark missing cells, then {@link #commit} the slice. One block and one flag array per partition:
  * no allocation per row.
  */
-final class BlockFiller<A extends Serializable> implements BlockSink {
+final class BlockFiller<A extends Serializable> implements PartitionPasses.SliceSink {
   private final int d;
   private final int capacity;
   private final double[] block;
@@ -53,7 +53,8 @@ final class BlockFiller<A extends Serializable> implements BlockSink {
   }
 
   /** How many of {@code wanted} rows fit in the current block. */
-  int room(int wanted) {
+  @Override
+  public int room(int wanted) {
     return Math.min(wanted, capacity - fill);
   }
 
@@ -68,7 +69,8 @@ final class BlockFiller<A extends Serializable> implements BlockSink {
   }
 
   /** Accepts the {@code t} rows written at {@link #base()}. */
-  void commit(int t) {
+  @Override
+  public void commit(int t) {
     counts.rowsRead += t;
     int kept = t;
     if (anyBad) {

@@ -52,26 +52,42 @@ final class PartitionPasses {
     @Override
     public Iterator<PartialResult<A>> call(Iterator<ColumnarBatch> batches) {
       BlockFiller<A> filler = spec.filler();
-      ColumnVector[] vectors = new ColumnVector[ordinals.length];
-      while (batches.hasNext()) {
-        ColumnarBatch batch = batches.next();
-        for (int j = 0; j < ordinals.length; j++) {
-          vectors[j] = batch.column(ordinals[j]);
-        }
-        int rows = batch.numRows();
-        int start = 0;
-        while (start < rows) {
-          int t = filler.room(rows - start);
-          for (int j = 0; j < ordinals.length; j++) {
-            copyColumn(vectors[j], kinds[j], start, t, filler, j);
-          }
-          filler.commit(t);
-          start += t;
-        }
-      }
+      copyBatches(batches, ordinals, kinds, filler);
       PartialResult<A> result = filler.finish();
       spec.rowsRead().add(result.counts().rowsRead());
       return List.of(result).iterator();
+    }
+  }
+
+  /** A {@link BlockSink} filled in slices: {@link #room} rows fit now, {@link #commit} accepts the rows written. */
+  interface SliceSink extends BlockSink {
+    /** How many of {@code wanted} rows fit in the current slice. */
+    int room(int wanted);
+
+    /** Accepts the {@code t} rows written at {@link #base()}. */
+    void commit(int t);
+  }
+
+  /**
+   * Copies the columns at {@code ordinals} (value kinds {@code kinds}) of every batch into {@code sink}, one slice
+   * at a time, as doubles ({@link #copyColumn}).
+   */
+  static void copyBatches(Iterator<ColumnarBatch> batches, int[] ordinals, int[] kinds, SliceSink sink) {
+    ColumnVector[] vectors = new ColumnVector[ordinals.length];
+    while (batches.hasNext()) {
+      ColumnarBatch batch = batches.next();
+      for (int j = 0; j < ordinals.length; j++) {
+        vectors[j] = batch.column(ordinals[j]);
+      }
+      int rows = batch.numRows();
+      for (int start = 0; start < rows; ) {
+        int t = sink.room(rows - start);
+        for (int j = 0; j < ordinals.length; j++) {
+          copyColumn(vectors[j], kinds[j], start, t, sink, j);
+        }
+        sink.commit(t);
+        start += t;
+      }
     }
   }
 

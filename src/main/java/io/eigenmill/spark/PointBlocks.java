@@ -10,7 +10,6 @@ import org.apache.spark.sql.Dataset;
 import org.apache.spark.sql.Row;
 import org.apache.spark.sql.catalyst.InternalRow;
 import org.apache.spark.sql.catalyst.expressions.XXH64;
-import org.apache.spark.sql.vectorized.ColumnVector;
 import org.apache.spark.sql.vectorized.ColumnarBatch;
 import org.apache.spark.storage.StorageLevel;
 
@@ -96,29 +95,14 @@ public final class PointBlocks {
     @Override
     public Iterator<PointBlock> call(Iterator<ColumnarBatch> batches) {
       Collector sink = new Collector(d, capacity);
-      ColumnVector[] vectors = new ColumnVector[d];
-      while (batches.hasNext()) {
-        ColumnarBatch batch = batches.next();
-        for (int j = 0; j < d; j++) {
-          vectors[j] = batch.column(ordinals[j]);
-        }
-        int rows = batch.numRows();
-        for (int start = 0; start < rows; ) {
-          int t = sink.room(rows - start);
-          for (int j = 0; j < d; j++) {
-            PartitionPasses.copyColumn(vectors[j], kinds[j], start, t, sink, j);
-          }
-          sink.commit(t);
-          start += t;
-        }
-      }
+      PartitionPasses.copyBatches(batches, ordinals, kinds, sink);
       sink.emit();
       return sink.out.iterator();
     }
   }
 
   /** The block being filled by {@link BuildFromBatches}, and the blocks done. */
-  static final class Collector implements BlockSink {
+  static final class Collector implements PartitionPasses.SliceSink {
     private final int d;
     private final int capacity;
     private final double[] values;
@@ -158,12 +142,14 @@ public final class PointBlocks {
       anyBad = true;
     }
 
-    int room(int wanted) {
+    @Override
+    public int room(int wanted) {
       return Math.min(wanted, capacity - fill);
     }
 
     /** Keeps the complete rows of the {@code t} written at {@link #base()}, with their identities. */
-    void commit(int t) {
+    @Override
+    public void commit(int t) {
       int kept = t;
       if (anyBad) {
         kept = BlockFiller.compact(values, d, capacity, fill, t, bad, null);
