@@ -130,8 +130,8 @@ final class MainCases {
       throw new IllegalStateException("the planner resolved " + plan.d() + " features, the table has " + table.d());
     }
     FitResult r = time(c, () -> new FitJob(spark, plan).execute(TableLoader.load(spark, settings.input())),
-        f -> f.passes() + (f.passes() == 1 ? " pass, " : " passes, ") + (f.columnarRead() ? "columnar batches" : "Row path") + ", k = "
-            + f.model().k() + ", " + f.blas());
+        f -> f.passes() + (f.passes() == 1 ? " pass, " : " passes, ") + (f.columnarRead() ? "columnar batches"
+            : "Row path") + ", k = " + f.model().k() + ", " + f.blas() + " (" + stages(f.timings()) + ")");
     fits.put(method, r);
   }
 
