@@ -113,7 +113,8 @@ public final class ClusterJob {
       KChoice choice = KChoice.of(settings, fitted, summary, totalSs, d);
       clock.lap("quality");
       warnings.addAll(choice.notes(settings));
-      ClusterResult result = profiles.result(choice, summary, space, settings.entity(), dims);
+      ClusterResult result = profiles.result(choice, summary, space, settings.entity(), dims,
+          kmeans.initialisationSample());
       Dataset<Row> assignments = NearestCentroid.assignments(source, keep, dims, result.centroids());
       Dataset<Row> centroids = ClusterTables.centroids(spark, result);
       Dataset<Row> profileTable = ClusterTables.profiles(spark, result);

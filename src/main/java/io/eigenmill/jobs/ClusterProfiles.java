@@ -42,7 +42,9 @@ final class ClusterProfiles {
     return !map.diagonal();
   }
 
-  ClusterResult result(KChoice choice, PointSummary summary, String space, String entity, List<String> dims) {
+  /** @param initSample rows of the sample k-means|| ran on, 0 when it ran over all rows */
+  ClusterResult result(KChoice choice, PointSummary summary, String space, String entity, List<String> dims,
+      int initSample) {
     Fitted f = choice.chosen();
     int k = f.run().k();
     int d = dims.size();
@@ -71,7 +73,7 @@ final class ClusterProfiles {
     }
     return new ClusterResult(space, entity, k, choice.rule(), f.withinSs(), choice.chosenSilhouette(), sizes,
         choice.scores(), List.copyOf(dims), centroids, List.copyOf(features), original, profiles,
-        choice.sampleSize(), summary.initSampleSize());
+        choice.sampleSize(), initSample);
   }
 
   private List<ClusterResult.FeatureShift> distinguishing(double[] cluster, double[] overall, double[] sd) {

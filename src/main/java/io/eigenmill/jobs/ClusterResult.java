@@ -10,6 +10,8 @@ import java.util.List;
  * @param entity the entity column clustered instead of rows, or "" for rows
  * @param selection one entry per k tried (one entry when k was fixed)
  * @param silhouetteSample rows in the seeded sample the silhouette was computed on (exact, Euclidean)
+ * @param initSample rows in the seeded sample k-means|| chose the starting centroids on; 0 when it ran over all
+ *     rows
  */
 public record ClusterResult(
     String space,

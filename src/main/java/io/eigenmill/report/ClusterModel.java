@@ -45,7 +45,10 @@ public record ClusterModel(
         new Fact("How k was chosen", c.selectionRule()),
         new Fact("Within-cluster sum of squares", Fmt.num(c.withinSs())),
         new Fact("Silhouette", Fmt.num(c.silhouette(), 3) + " (exact, on a seeded sample of "
-            + Fmt.count(c.silhouetteSample()) + " " + (c.entity().isEmpty() ? "rows" : "entities") + ")"));
+            + Fmt.count(c.silhouetteSample()) + " " + (c.entity().isEmpty() ? "rows" : "entities") + ")"),
+        new Fact("Starting centroids", "k-means|| on " + (c.initSample() == 0 ? "all " + (c.entity().isEmpty()
+            ? "rows" : "entities") : "a seeded sample of " + Fmt.count(c.initSample()) + " " + (c.entity().isEmpty()
+            ? "rows" : "entities")) + ", then Lloyd iterations over all of them"));
     List<Selection> selection = new ArrayList<>();
     for (ClusterResult.KScore s : c.selection()) {
       selection.add(new Selection(s.k(), s.withinSs(), s.silhouette(), s.calinskiHarabasz(), s.daviesBouldin(),

@@ -31,10 +31,10 @@ import org.slf4j.LoggerFactory;
  * the candidates do not depend on the partitioning.
  *
  * <p><b>Where the initialisation runs.</b> By default ({@code cluster.init-sample} rows, at most
- * {@link #INIT_SAMPLE_VALUES} / d) the rounds and the weights run on the driver over a seeded sample of the rows (bottom-s
- * of a unit number of each row's identity, gathered by the summary pass): no pass over the data, and the candidate
- * weights are counts over the sample, i.e. estimates of the full counts scaled by about s / n, a factor to which
- * weighted k-means++ and the weighted Lloyd iterations are invariant. A table of at most s rows is sampled whole,
+ * {@link #INIT_SAMPLE_VALUES} / d) the rounds and the weights run on the driver over a seeded sample of the rows
+ * (bottom-s of a unit number of each row's identity, gathered by the summary pass): no pass over the data, and the
+ * candidate weights are counts over the sample, i.e. estimates of the full counts scaled by about s / n, a factor
+ * to which weighted k-means++ and the weighted Lloyd iterations are invariant. A table of at most s rows is sampled whole,
  * which is the same computation as over the cache. The Lloyd iterations always run over every row. When the sample
  * turns out to hold fewer than k distinct points (duplicates crowd it) while the rows have more, the initialisation
  * runs again over all rows. With {@code cluster.init-sample = 0} it always runs over all rows.
@@ -124,6 +124,8 @@ public final class ParallelKMeans {
   private final int maxIterations;
   private final double tolerance;
   private int passes;
+  /** Rows of the sample the last fit's initialisation ran on; 0 when it ran over all rows. */
+  private int initRows;
   /** While the initialisation runs on the driver's sample: its blocks; otherwise null (passes over the cache). */
   private List<PointBlock> local;
 
@@ -141,6 +143,11 @@ public final class ParallelKMeans {
     this.tolerance = tolerance;
   }
 
+  /** Rows of the sample the last {@link #fit}'s k-means|| ran on; 0 when it ran over all rows. */
+  public int initialisationSample() {
+    return initRows;
+  }
+
   /** Passes over the data run so far by this instance. */
   public int passes() {
     return passes;
@@ -156,10 +163,12 @@ public final class ParallelKMeans {
   public List<Fitted> fit(List<Run> runs, PointSummary summary, double radius) {
     List<PointBlock> sample = summary.initBlocks(ClusterPasses.CHUNK_ROWS);
     double[][] starts = null;
+    initRows = 0;
     if (sample != null) {
       long t0 = System.nanoTime();
       try {
         starts = initialise(runs, summary, sample);
+        initRows = summary.initSampleSize();
         LOG.info("k-means||: {} runs initialised on a sample of {} rows on the driver in {} ms", runs.size(),
             summary.initSampleSize(), (System.nanoTime() - t0) / 1_000_000);
       } catch (TooFewDistinctPoints e) {
