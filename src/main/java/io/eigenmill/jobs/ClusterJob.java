@@ -41,8 +41,8 @@ import org.slf4j.LoggerFactory;
  * pass per Lloyd iteration, each serving every restart of every k at once; k-means|| runs on the driver over the
  * summary's seeded sample (or, with {@code cluster.init-sample = 0}, as 2 rounds and a weights pass over the cache;
  * see {@link ParallelKMeans}); the silhouette is computed on the driver on a seeded sample; writing the assignments
- * reads the points once more. Results do not depend on the partitioning beyond rounding: random decisions are keyed by each point's
- * identity (a hash of its coordinates, or of its entity key), not by its position.
+ * reads the points once more. Results do not depend on the partitioning beyond rounding: random decisions are keyed
+ * by each point's identity (a hash of its coordinates, or of its entity key), not by its position.
  */
 public final class ClusterJob {
   private static final Logger LOG = LoggerFactory.getLogger(ClusterJob.class);

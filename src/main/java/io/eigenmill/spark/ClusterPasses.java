@@ -17,9 +17,10 @@ import org.apache.spark.sql.SparkSession;
 
 /**
  * The passes of clustering over the cached {@link PointBlock}s. Each pass is one Spark job: every partition folds
- * its blocks into one buffer, buffers merge in partition order ({@link OrderedMerge}, repeatable bit for bit). Executor code is explicit static
- * classes; centroids travel in a broadcast destroyed after the pass. Rows are shifted by the data mean into one
- * scratch chunk per partition and handed to {@link NearestSearch} (BLAS level 3); no object is made per row.
+ * its blocks into one buffer, buffers merge in partition order ({@link OrderedMerge}, repeatable bit for bit).
+ * Executor code is explicit static classes; centroids travel in a broadcast destroyed after the pass. Rows are
+ * shifted by the data mean into one scratch chunk per partition and handed to {@link NearestSearch} (BLAS level 3);
+ * no object is made per row.
  */
 final class ClusterPasses {
   /** Rows handed to one search call at most (fewer when there are many centroids: see NearestSearch). */

@@ -34,10 +34,10 @@ import org.slf4j.LoggerFactory;
  * {@link #INIT_SAMPLE_VALUES} / d) the rounds and the weights run on the driver over a seeded sample of the rows
  * (bottom-s of a unit number of each row's identity, gathered by the summary pass): no pass over the data, and the
  * candidate weights are counts over the sample, i.e. estimates of the full counts scaled by about s / n, a factor
- * to which weighted k-means++ and the weighted Lloyd iterations are invariant. A table of at most s rows is sampled whole,
- * which is the same computation as over the cache. The Lloyd iterations always run over every row. When the sample
- * turns out to hold fewer than k distinct points (duplicates crowd it) while the rows have more, the initialisation
- * runs again over all rows. With {@code cluster.init-sample = 0} it always runs over all rows.
+ * to which weighted k-means++ and the weighted Lloyd iterations are invariant. A table of at most s rows is sampled
+ * whole, which is the same computation as over the cache. The Lloyd iterations always run over every row. When the
+ * sample turns out to hold fewer than k distinct points (duplicates crowd it) while the rows have more, the
+ * initialisation runs again over all rows. With {@code cluster.init-sample = 0} it always runs over all rows.
  *
  * <p><b>Lloyd iterations</b>: one pass per iteration for all runs still moving; each run's new centroids are the
  * means of their rows. A run stops when no centroid moved more than {@code tolerance} times the data's RMS radius
