@@ -250,7 +250,7 @@ public final class SettingsReader {
         f.bool("cluster.entity-spread"));
     var output = new JobSettings.Output(f.required("output.path"),
         f.choice("output.mode", Choices.OutputMode.values()), f.bool("output.scores"),
-        f.bool("output.reconstruction"), f.intIn("output.report-sample", 0, 1_000_000));
+        f.bool("output.reconstruction"), f.intIn("output.report-sample", 0, 50_000));
     var spark = new JobSettings.SparkSection(f.string("spark.master"), f.sparkConf());
     return new JobSettings(name, source, input, features, prepare, reduce, monitor, apply, cluster, output, spark);
   }

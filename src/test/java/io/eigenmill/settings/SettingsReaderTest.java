@@ -70,6 +70,11 @@ class SettingsReaderTest {
         problems(MINIMAL + "monitor.confidence = 1.5\n"));
     assertEquals(List.of("job.conf:3: reduce.method = \"fast\": must be one of auto, covariance, tsqr, randomized"),
         problems(MINIMAL + "reduce.method = fast\n"));
+    // every sampled row is a point of the report's drawing
+    assertEquals(List.of("job.conf:3: output.report-sample = 1000000: must be an integer from 0 to 50000"),
+        problems(MINIMAL + "output.report-sample = 1000000\n"));
+    assertEquals(List.of("job.conf:3: cluster.init-sample = -1: must be an integer from 0 to 10000000"),
+        problems(MINIMAL + "cluster.init-sample = -1\n"));
   }
 
   @Test
