@@ -5,10 +5,9 @@ import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import io.eigenmill.spark.OutputCommit;
+import io.eigenmill.testing.CommandRun;
 import io.eigenmill.testing.SparkSuite;
-import java.io.ByteArrayOutputStream;
 import java.io.File;
-import java.io.PrintStream;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
@@ -48,16 +47,6 @@ class CommandLineTest extends SparkSuite {
     spark.createDataFrame(rows, schema).repartition(3).write().parquet(table.toString());
   }
 
-  private record Outcome(int code, String out, String err) {}
-
-  private static Outcome main(String... args) {
-    ByteArrayOutputStream out = new ByteArrayOutputStream();
-    ByteArrayOutputStream err = new ByteArrayOutputStream();
-    int code = Main.run(args, new PrintStream(out, true, StandardCharsets.UTF_8),
-        new PrintStream(err, true, StandardCharsets.UTF_8));
-    return new Outcome(code, out.toString(StandardCharsets.UTF_8), err.toString(StandardCharsets.UTF_8));
-  }
-
   private static Path job(String name, String body) throws Exception {
     Path f = dir.resolve(name + ".conf");
     Files.writeString(f, "input.path = \"" + table + "\"\n" + body);
@@ -68,7 +57,7 @@ class CommandLineTest extends SparkSuite {
   void planResolvesGlobsAndComputesNothing() throws Exception {
     Path f = job("plan-ok", "features.columns = [\"cpu_*\", \"fan?_rpm\", mem_used_pct]\nfeatures.keys = [host]\n"
         + "output.path = \"" + dir.resolve("never") + "\"\n");
-    Outcome o = main("plan", f.toString());
+    CommandRun o = CommandRun.of("plan", f.toString());
     assertEquals(0, o.code(), o.err());
     assertTrue(o.out().contains("features (4):    cpu_user_pct:double, cpu_system_pct:double, fan1_rpm:int,"
         + " mem_used_pct:double"), o.out());
@@ -80,7 +69,7 @@ class CommandLineTest extends SparkSuite {
   @Test
   void planRejectsANonNumericFeatureWithItsType() throws Exception {
     Path f = job("plan-string", "features.columns = [region, cpu_user_pct]\noutput.path = \"/tmp/x\"\n");
-    Outcome o = main("plan", f.toString());
+    CommandRun o = CommandRun.of("plan", f.toString());
     assertEquals(2, o.code());
     assertEquals("eigenmill: error: features.columns: column region has type string; feature columns must be"
         + " numeric (double, float, int, long, short, byte or decimal)\n", o.err());
@@ -90,7 +79,7 @@ class CommandLineTest extends SparkSuite {
   void planRejectsAMissingInputPath() throws Exception {
     Path f = dir.resolve("plan-missing.conf");
     Files.writeString(f, "input.path = \"" + dir.resolve("nothing-here") + "\"\noutput.path = \"/tmp/x\"\n");
-    Outcome o = main("plan", f.toString());
+    CommandRun o = CommandRun.of("plan", f.toString());
     assertEquals(2, o.code());
     assertEquals("eigenmill: error: input.path = " + dir.resolve("nothing-here") + ": no such file or folder\n",
         o.err());
@@ -100,18 +89,19 @@ class CommandLineTest extends SparkSuite {
   void runWritesAtomicallyAndRefusesAnExistingOutput() throws Exception {
     Path out = dir.resolve("run-out");
     Path f = job("run", "features.keys = [host, region]\noutput.scores = true\noutput.path = \"" + out + "\"\n");
-    Outcome first = main("run", f.toString());
+    CommandRun first = CommandRun.of("run", f.toString());
     assertEquals(0, first.code(), first.err());
     assertTrue(first.out().contains("fit: 400 rows (0 dropped), 6 features"), first.out());
     for (String part : List.of("summary.json", "model", "components", "spectrum", "scores",
         OutputCommit.MARKER)) {
       assertTrue(Files.exists(out.resolve(part)), part);
     }
-    Outcome again = main("run", f.toString());
+    CommandRun again = CommandRun.of("run", f.toString());
     assertEquals(2, again.code());
     assertEquals("eigenmill: error: output.path = " + out + ": already exists; set output.mode = overwrite to"
         + " replace it, or choose another path\n", again.err());
-    Outcome overwrite = main("run", f.toString(), "--set", "output.mode=overwrite", "--set", "reduce.components=2");
+    CommandRun overwrite = CommandRun.of("run", f.toString(), "--set", "output.mode=overwrite", "--set",
+        "reduce.components=2");
     assertEquals(0, overwrite.code(), overwrite.err());
     assertTrue(Files.readString(out.resolve("summary.json")).contains("\"components\" : 2"));
   }
@@ -125,7 +115,7 @@ class CommandLineTest extends SparkSuite {
     Path f = dir.resolve("fail.conf");
     Files.writeString(f, "input.path = \"" + withNulls + "\"\nprepare.missing = fail\noutput.path = \"" + out
         + "\"\n");
-    Outcome o = main("run", f.toString());
+    CommandRun o = CommandRun.of("run", f.toString());
     assertEquals(2, o.code());
     assertTrue(o.err().startsWith("eigenmill: error: prepare.missing = fail: the input has missing values"
         + " (null, NaN or infinite): cpu: "), o.err());
@@ -138,10 +128,10 @@ class CommandLineTest extends SparkSuite {
 
   @Test
   void usageErrorsExitWithTwo() {
-    assertEquals(2, main().code());
-    assertEquals(2, main("fit", "x.conf").code());
-    assertEquals(2, main("run").code());
-    Outcome o = main("run", "/nonexistent/job.conf");
+    assertEquals(2, CommandRun.of().code());
+    assertEquals(2, CommandRun.of("fit", "x.conf").code());
+    assertEquals(2, CommandRun.of("run").code());
+    CommandRun o = CommandRun.of("run", "/nonexistent/job.conf");
     assertEquals(2, o.code());
     assertEquals("eigenmill: error: job file /nonexistent/job.conf does not exist or is not a file\n", o.err());
   }

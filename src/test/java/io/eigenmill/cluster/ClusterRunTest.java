@@ -5,13 +5,11 @@ import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import com.fasterxml.jackson.databind.JsonNode;
-import io.eigenmill.cli.Main;
 import io.eigenmill.cli.Redaction;
 import io.eigenmill.spark.OutputCommit;
+import io.eigenmill.testing.CommandRun;
 import io.eigenmill.testing.SparkSuite;
-import java.io.ByteArrayOutputStream;
 import java.io.IOException;
-import java.io.PrintStream;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
@@ -46,10 +44,8 @@ class ClusterRunTest extends SparkSuite {
   private static List<String> secretSets;
   private static LoopbackCluster.Submission submitted;
   private static int clusterExit;
-  private static Outcome local;
+  private static CommandRun local;
   private static LoopbackCluster cluster;
-
-  record Outcome(int code, String out, String err) {}
 
   @BeforeAll
   static void runOnTheClusterAndLocally(LoopbackCluster c) throws Exception {
@@ -57,16 +53,7 @@ class ClusterRunTest extends SparkSuite {
     dir = Files.createTempDirectory("eigenmill-cluster-run-");
     Path table = dir.resolve("fleet");
     FleetTables.write(spark, table, ROWS, 8, 11);
-    job = dir.resolve("fleet-fit.conf");
-    Files.writeString(job, String.join("\n",
-        "input.path = \"" + table + "\"",
-        "features.keys = [host, region]",
-        "prepare.scaling = standardize",
-        "reduce.components = 4",
-        "output.scores = true",
-        // one input partition per file, on the cluster and locally alike
-        "spark.conf { \"spark.sql.files.openCostInBytes\" = 134217728, \"spark.sql.shuffle.partitions\" = 4 }",
-        ""));
+    job = FleetTables.fitJob(dir, table, "reduce.components = 4", "output.scores = true");
     clusterOut = dir.resolve("out-cluster");
     localOut = dir.resolve("out-local");
     secretKey = "sk-" + UUID.randomUUID();
@@ -76,8 +63,8 @@ class ClusterRunTest extends SparkSuite {
     submitted = c.submit("cluster-run", with(List.of(job.toString(), "--set",
         "output.path=\"" + clusterOut + "\""), secretSets));
     try {
-      local = main(with(List.of("run", job.toString(), "--env", c.repo().resolve("conf/local.conf").toString(),
-          "--set", "output.path=\"" + localOut + "\""), secretSets));
+      local = CommandRun.of(with(List.of("run", job.toString(), "--env",
+          c.repo().resolve("conf/local.conf").toString(), "--set", "output.path=\"" + localOut + "\""), secretSets));
       clusterExit = submitted.awaitExit(Duration.ofSeconds(300));
     } finally {
       submitted.close();
@@ -87,14 +74,6 @@ class ClusterRunTest extends SparkSuite {
   @AfterAll
   static void cleanUp() {
     LoopbackCluster.deleteTree(dir);
-  }
-
-  static Outcome main(List<String> args) {
-    ByteArrayOutputStream out = new ByteArrayOutputStream();
-    ByteArrayOutputStream err = new ByteArrayOutputStream();
-    int code = Main.run(args.toArray(String[]::new), new PrintStream(out, true, StandardCharsets.UTF_8),
-        new PrintStream(err, true, StandardCharsets.UTF_8));
-    return new Outcome(code, out.toString(StandardCharsets.UTF_8), err.toString(StandardCharsets.UTF_8));
   }
 
   private static List<String> with(List<String> first, List<String> more) {
@@ -155,8 +134,8 @@ class ClusterRunTest extends SparkSuite {
 
   @Test
   void thePlanShowsSecretKeysWithTheirValuesMasked() {
-    Outcome plan = main(with(List.of("plan", job.toString(), "--set", "output.path=\"" + dir.resolve("never")
-        + "\""), secretSets));
+    CommandRun plan = CommandRun.of(with(List.of("plan", job.toString(), "--set", "output.path=\""
+        + dir.resolve("never") + "\""), secretSets));
     assertEquals(0, plan.code(), plan.err());
     assertTrue(plan.out().contains("spark.hadoop.fs.s3a.secret.key = " + Redaction.MASK), plan.out());
     assertTrue(plan.out().contains("spark.hadoop.fs.s3a.access.key = " + Redaction.MASK), plan.out());

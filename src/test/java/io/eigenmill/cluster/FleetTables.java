@@ -1,5 +1,7 @@
 package io.eigenmill.cluster;
 
+import java.io.IOException;
+import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.List;
@@ -21,6 +23,23 @@ public final class FleetTables {
       "net_rx_gbps", "net_tx_gbps", "disk_read_mbps", "cache_hit_ratio", "temp_inlet_c", "fan1_rpm", "conns_active");
 
   private FleetTables() {}
+
+  /**
+   * Writes {@code dir}/fleet-fit.conf: a fit of the table at {@code table} on its metrics (keys host and region,
+   * standardized), one input partition per file (on a cluster and locally alike), plus {@code lines}.
+   */
+  public static Path fitJob(Path dir, Path table, String... lines) throws IOException {
+    List<String> all = new ArrayList<>(List.of(
+        "input.path = \"" + table + "\"",
+        "features.keys = [host, region]",
+        "prepare.scaling = standardize",
+        "spark.conf { \"spark.sql.files.openCostInBytes\" = 134217728, \"spark.sql.shuffle.partitions\" = 4 }"));
+    all.addAll(List.of(lines));
+    all.add("");
+    Path job = dir.resolve("fleet-fit.conf");
+    Files.writeString(job, String.join("\n", all));
+    return job;
+  }
 
   /** Writes {@code rows} rows in {@code files} Parquet files under {@code dir}. */
   public static void write(SparkSession spark, Path dir, int rows, int files, long seed) {

@@ -9,11 +9,9 @@ import io.eigenmill.cluster.FleetTables;
 import io.eigenmill.cluster.LoopbackCluster;
 import io.eigenmill.cluster.Summaries;
 import io.eigenmill.spark.InputFiles;
+import io.eigenmill.testing.CommandRun;
 import io.eigenmill.testing.SparkSuite;
-import java.io.ByteArrayOutputStream;
 import java.io.IOException;
-import java.io.PrintStream;
-import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.Arrays;
@@ -45,16 +43,6 @@ class CorruptInputTest extends SparkSuite {
   @AfterAll
   static void cleanUp() {
     LoopbackCluster.deleteTree(dir);
-  }
-
-  private record Outcome(int code, String out, String err) {}
-
-  private static Outcome main(String... args) {
-    ByteArrayOutputStream out = new ByteArrayOutputStream();
-    ByteArrayOutputStream err = new ByteArrayOutputStream();
-    int code = Main.run(args, new PrintStream(out, true, StandardCharsets.UTF_8),
-        new PrintStream(err, true, StandardCharsets.UTF_8));
-    return new Outcome(code, out.toString(StandardCharsets.UTF_8), err.toString(StandardCharsets.UTF_8));
   }
 
   private static Path copyOfTable(String name) throws IOException {
@@ -98,7 +86,7 @@ class CorruptInputTest extends SparkSuite {
     Path out = dir.resolve("out-broken");
     Path f = job("broken", input, out);
 
-    Outcome run = main("run", f.toString());
+    CommandRun run = CommandRun.of("run", f.toString());
     assertEquals(2, run.code(), "exit code 2 (bad input), as Main documents:\n" + run.err());
     String first = run.err().lines().findFirst().orElse("");
     assertTrue(first.startsWith("eigenmill: error: input.path = " + input + ": 2 of " + (FILES + 1)
@@ -113,7 +101,7 @@ class CorruptInputTest extends SparkSuite {
       assertTrue(siblings.noneMatch(p -> p.getFileName().toString().startsWith(".out-broken")),
           "no staging folder either");
     }
-    Outcome plan = main("plan", f.toString());
+    CommandRun plan = CommandRun.of("plan", f.toString());
     assertEquals(2, plan.code(), "plan checks the files too");
     assertEquals(run.err(), plan.err(), "plan reports the same problem");
   }
@@ -131,7 +119,7 @@ class CorruptInputTest extends SparkSuite {
     Path out = dir.resolve("out-skip");
     Path f = job("skip", input, out);
 
-    Outcome run = main("run", f.toString(), "--set", "input.corrupt-files = skip");
+    CommandRun run = CommandRun.of("run", f.toString(), "--set", "input.corrupt-files = skip");
     assertEquals(0, run.code(), run.err());
     assertTrue(run.out().contains("warning: input.corrupt-files = skip: 1 of " + FILES
         + " Parquet files skipped, they cannot be read: "), run.out());

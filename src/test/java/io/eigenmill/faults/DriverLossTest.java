@@ -49,16 +49,7 @@ class DriverLossTest extends SparkSuite {
     dir = Files.createTempDirectory("eigenmill-driver-loss-");
     Path table = dir.resolve("fleet");
     FleetTables.write(spark, table, ROWS, 24, 31);
-    job = dir.resolve("fleet-fit.conf");
-    Files.writeString(job, String.join("\n",
-        "input.path = \"" + table + "\"",
-        "features.keys = [host, region]",
-        "prepare.scaling = standardize",
-        "reduce.components = 3",
-        "output.scores = true",
-        "output.mode = overwrite",
-        "spark.conf { \"spark.sql.files.openCostInBytes\" = 134217728, \"spark.sql.shuffle.partitions\" = 4 }",
-        ""));
+    job = FleetTables.fitJob(dir, table, "reduce.components = 3", "output.scores = true", "output.mode = overwrite");
   }
 
   @AfterAll

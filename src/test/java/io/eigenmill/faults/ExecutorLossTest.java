@@ -50,15 +50,8 @@ class ExecutorLossTest extends SparkSuite {
     dir = Files.createTempDirectory("eigenmill-executor-loss-");
     Path table = dir.resolve("fleet");
     FleetTables.write(spark, table, ROWS, FILES, 23);
-    job = dir.resolve("fleet-fit.conf");
-    Files.writeString(job, String.join("\n",
-        "input.path = \"" + table + "\"",
-        "features.keys = [host, region]",
-        "prepare.scaling = standardize",
-        "reduce.components = 5",
-        // one partition per file: 60 small tasks, so the pass is still running when the executor dies
-        "spark.conf { \"spark.sql.files.openCostInBytes\" = 134217728, \"spark.sql.shuffle.partitions\" = 4 }",
-        ""));
+    // one partition per file: 60 small tasks, so the pass is still running when the executor dies
+    job = FleetTables.fitJob(dir, table, "reduce.components = 5");
   }
 
   @AfterAll
