@@ -5,6 +5,7 @@ import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertNotNull;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
+import io.eigenmill.cluster.LoopbackCluster;
 import io.eigenmill.testing.SparkSuite;
 import java.nio.file.Files;
 import java.nio.file.Path;
@@ -44,10 +45,8 @@ class ColumnarScanTest extends SparkSuite {
   }
 
   @AfterAll
-  static void clean() throws Exception {
-    try (var paths = Files.walk(dir)) {
-      paths.sorted(java.util.Comparator.reverseOrder()).forEach(p -> p.toFile().delete());
-    }
+  static void clean() {
+    LoopbackCluster.deleteTree(dir);
   }
 
   @Test

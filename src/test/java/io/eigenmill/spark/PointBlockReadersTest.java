@@ -6,6 +6,7 @@ import static org.junit.jupiter.api.Assertions.assertNotNull;
 import static org.junit.jupiter.api.Assertions.assertNull;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
+import io.eigenmill.cluster.LoopbackCluster;
 import io.eigenmill.testing.SparkSuite;
 import java.nio.file.Files;
 import java.nio.file.Path;
@@ -56,10 +57,8 @@ class PointBlockReadersTest extends SparkSuite {
   }
 
   @AfterAll
-  static void clean() throws Exception {
-    try (var paths = Files.walk(dir)) {
-      paths.sorted(java.util.Comparator.reverseOrder()).forEach(p -> p.toFile().delete());
-    }
+  static void clean() {
+    LoopbackCluster.deleteTree(dir);
   }
 
   @Test
