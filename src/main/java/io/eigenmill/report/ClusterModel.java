@@ -32,6 +32,15 @@ public record ClusterModel(
 
   public record ProfileView(int cluster, String title, List<Shift> shifts) {}
 
+  /** Where k-means|| ran: all the points clustered, or a seeded sample of them. */
+  static String startingCentroids(ClusterResult c) {
+    String what = c.entity().isEmpty() ? "rows" : "entities";
+    long clustered = java.util.Arrays.stream(c.sizes()).sum();
+    String on = c.initSample() == 0 || c.initSample() >= clustered ? "all " + Fmt.count(clustered) + " " + what
+        : "a seeded sample of " + Fmt.count(c.initSample()) + " of the " + Fmt.count(clustered) + " " + what;
+    return "k-means|| on " + on + ", then Lloyd iterations over all of them";
+  }
+
   static ClusterModel of(RunResult run) {
     ClusterResult c = run.clusters();
     if (c == null) {
@@ -46,9 +55,7 @@ public record ClusterModel(
         new Fact("Within-cluster sum of squares", Fmt.num(c.withinSs())),
         new Fact("Silhouette", Fmt.num(c.silhouette(), 3) + " (exact, on a seeded sample of "
             + Fmt.count(c.silhouetteSample()) + " " + (c.entity().isEmpty() ? "rows" : "entities") + ")"),
-        new Fact("Starting centroids", "k-means|| on " + (c.initSample() == 0 ? "all " + (c.entity().isEmpty()
-            ? "rows" : "entities") : "a seeded sample of " + Fmt.count(c.initSample()) + " " + (c.entity().isEmpty()
-            ? "rows" : "entities")) + ", then Lloyd iterations over all of them"));
+        new Fact("Starting centroids", startingCentroids(c)));
     List<Selection> selection = new ArrayList<>();
     for (ClusterResult.KScore s : c.selection()) {
       selection.add(new Selection(s.k(), s.withinSs(), s.silhouette(), s.calinskiHarabasz(), s.daviesBouldin(),

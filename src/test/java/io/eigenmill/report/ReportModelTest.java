@@ -266,6 +266,14 @@ class ReportModelTest {
     assertEquals(record.feature(), top.feature());
     assertEquals(Fmt.num(record.clusterMean()), top.clusterMean());
     assertEquals(ClusterModel.FEATURES_PER_PROFILE, m.profiles().get(0).shifts().size());
+    long clustered = java.util.Arrays.stream(c.sizes()).sum();
+    assertEquals("k-means|| on all " + Fmt.count(clustered) + " rows, then Lloyd iterations over all of them",
+        ClusterModel.startingCentroids(c), "a sample of at least every row is every row");
+    ClusterResult sampled = new ClusterResult(c.space(), c.entity(), c.k(), c.selectionRule(), c.withinSs(),
+        c.silhouette(), c.sizes(), c.selection(), c.dimensions(), c.centroids(), c.features(), c.centroidsOriginal(),
+        c.profiles(), c.silhouetteSample(), 40);
+    assertEquals("k-means|| on a seeded sample of 40 of the " + Fmt.count(clustered) + " rows, then Lloyd iterations"
+        + " over all of them", ClusterModel.startingCentroids(sampled));
   }
 
   @Test
