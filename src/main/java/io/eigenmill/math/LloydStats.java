@@ -55,33 +55,27 @@ public final class LloydStats implements Serializable {
    */
   public void add(NearestSearch search, double[] x, int xoff, int rows, int ldx, long[] ids, int idOff) {
     int runs = withinSs.length;
-    for (int r = 0; r < runs; r++) {
-      RankedPoints far = farthest[r];
-      double cost = 0;
-      for (int i = 0; i < rows; i++) {
-        int j = search.nearest(r, i);
-        double d2 = search.distance2(r, i);
-        counts[j]++;
-        distanceSums[j] += Math.sqrt(d2);
-        cost += d2;
-        if (far.wouldKeep(-d2, ids[idOff + i])) {
-          far.offer(-d2, ids[idOff + i], x, xoff + i, ldx);
-        }
-      }
-      withinSs[r] += cost;
-    }
-    // coordinate sums of every centroid in one BLAS level-3 call: sums (d x K) += X^T H, with H the rows x K
+    // coordinate sums of every centroid in one BLAS level-3 call below: sums (d x K) += X^T H, with H the rows x K
     // indicator of each row's nearest centroid in every run (a scatter loop instead waits on the previous row's
-    // store whenever consecutive rows share a centroid, as clustered data does)
+    // store whenever consecutive rows share a centroid, as clustered data does); H is all zero between calls
     int total = counts.length;
     int ldh = search.chunk();
     if (indicator == null || indicator.length < ldh * total) {
       indicator = new double[ldh * total];
     }
     for (int r = 0; r < runs; r++) {
+      RankedPoints far = farthest[r];
+      double cost = 0;
       for (int i = 0; i < rows; i++) {
-        indicator[i + search.nearest(r, i) * ldh] = 1.0;
+        int j = search.nearest(r, i);
+        double d2 = search.distance2(r, i);
+        indicator[i + j * ldh] = 1.0;
+        counts[j]++;
+        distanceSums[j] += Math.sqrt(d2);
+        cost += d2;
+        far.offer(-d2, ids[idOff + i], x, xoff + i, ldx); // refused at once unless among the farthest
       }
+      withinSs[r] += cost;
     }
     Linalg.blas().dgemm("T", "N", d, total, rows, 1.0, x, xoff, ldx, indicator, 0, ldh, 1.0, sums, 0, d);
     for (int r = 0; r < runs; r++) {

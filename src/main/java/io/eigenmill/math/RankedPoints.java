@@ -72,8 +72,8 @@ public final class RankedPoints implements Serializable {
     return r1 > r2 || (r1 == r2 && t1 > t2);
   }
 
-  /** True when an offer of (r, t) would be kept; cheap, for callers that must compute the point first. */
-  public boolean wouldKeep(double r, long t) {
+  /** True when an offer of (r, t) would be kept: one comparison with the worst kept entry once full. */
+  private boolean wouldKeep(double r, long t) {
     if (size < capacity) {
       return true;
     }

@@ -48,9 +48,7 @@ public final class SampleRound implements Serializable {
         if (d2 > 0) {
           long id = ids[idOff + i];
           double rank = -key(d2, SeedStream.unit(streams[r], id));
-          if (kept.wouldKeep(rank, id)) {
-            kept.offer(rank, id, x, i, ldx);
-          }
+          kept.offer(rank, id, x, i, ldx); // refused at once unless among the largest keys
         }
       }
       cost[r] += s;

@@ -106,18 +106,13 @@ final class ClusterPasses {
         s.moments.addBlock(scratch, b.rows, b.rows);
         for (int i = 0; i < b.rows; i++) {
           long id = b.ids[i];
+          // offer() refuses at once what the selection would not keep
           s.sample.offer(SeedStream.unit(sampleStream, id), id, b.values, i, b.rows);
           if (s.initSample != null) {
-            double u = SeedStream.unit(initStream, id);
-            if (s.initSample.wouldKeep(u, id)) {
-              s.initSample.offer(u, id, b.values, i, b.rows);
-            }
+            s.initSample.offer(SeedStream.unit(initStream, id), id, b.values, i, b.rows);
           }
           for (int r = 0; r < firstStreams.length; r++) {
-            double u = SeedStream.unit(firstStreams[r], id);
-            if (s.firsts[r].wouldKeep(u, id)) {
-              s.firsts[r].offer(u, id, b.values, i, b.rows);
-            }
+            s.firsts[r].offer(SeedStream.unit(firstStreams[r], id), id, b.values, i, b.rows);
           }
         }
       }

@@ -126,8 +126,6 @@ public final class ParallelKMeans {
   private int passes;
   /** Rows of the sample the last fit's initialisation ran on; 0 when it ran over all rows. */
   private int initRows;
-  /** While the initialisation runs on the driver's sample: its blocks; otherwise null (passes over the cache). */
-  private List<PointBlock> local;
 
   /**
    * @param shift the data mean: every computation runs on rows minus this vector
@@ -188,14 +186,9 @@ public final class ParallelKMeans {
 
   /** k-means|| and the weighted reduction: over {@code sample} on the driver, or over the cache when it is null. */
   private double[][] initialise(List<Run> runs, PointSummary summary, List<PointBlock> sample) {
-    local = sample;
-    try {
-      PointList[] candidates = initialCandidates(runs, summary);
-      oversample(runs, candidates);
-      return reduceCandidates(runs, candidates);
-    } finally {
-      local = null;
-    }
+    PointList[] candidates = initialCandidates(runs, summary);
+    oversample(runs, candidates, sample);
+    return reduceCandidates(runs, candidates, sample);
   }
 
   /** Rows of the initialisation sample for a request of {@code requested} rows (0: none) at dimension d. */
@@ -239,7 +232,7 @@ public final class ParallelKMeans {
     return c;
   }
 
-  private void oversample(List<Run> runs, PointList[] candidates) {
+  private void oversample(List<Run> runs, PointList[] candidates, List<PointBlock> sample) {
     List<Integer> sampling = new ArrayList<>();
     for (int r = 0; r < runs.size(); r++) {
       sampling.add(r);
@@ -254,7 +247,8 @@ public final class ParallelKMeans {
         capacities[a] = KEPT_PER_OVERSAMPLE * 2 * run.k() + KEPT_EXTRA;
       }
       CentroidTable table = table(sampling, candidates);
-      SampleRound sampled = pass("cluster/init-round-" + round, table, new ClusterPasses.Round(streams, capacities));
+      SampleRound sampled = pass("cluster/init-round-" + round, table, new ClusterPasses.Round(streams, capacities),
+          sample);
       PointList[] got = new PointList[q];
       double[] thresholds = new double[q];
       List<Integer> overflowed = new ArrayList<>();
@@ -282,7 +276,7 @@ public final class ParallelKMeans {
       }
       if (!overflowed.isEmpty()) {
         PointList[] all = pass("cluster/init-round-" + round + "-all", table,
-            new ClusterPasses.Threshold(streams, thresholds));
+            new ClusterPasses.Threshold(streams, thresholds), sample);
         for (int a : overflowed) {
           got[a] = all[a];
         }
@@ -313,13 +307,13 @@ public final class ParallelKMeans {
     return next;
   }
 
-  private double[][] reduceCandidates(List<Run> runs, PointList[] candidates) {
+  private double[][] reduceCandidates(List<Run> runs, PointList[] candidates, List<PointBlock> sample) {
     List<Integer> all = new ArrayList<>();
     for (int r = 0; r < runs.size(); r++) {
       all.add(r);
     }
     CentroidTable table = table(all, candidates);
-    long[] counts = pass("cluster/init-weights", table, new ClusterPasses.Weights());
+    long[] counts = pass("cluster/init-weights", table, new ClusterPasses.Weights(), sample);
     double[][] starts = new double[runs.size()][];
     for (int r = 0; r < runs.size(); r++) {
       Run run = runs.get(r);
@@ -347,7 +341,7 @@ public final class ParallelKMeans {
     }
     for (int it = 1; it <= maxIterations && !active.isEmpty(); it++) {
       CentroidTable table = tableOf(active, current);
-      LloydStats stats = pass("cluster/lloyd-" + it, table, new ClusterPasses.Lloyd());
+      LloydStats stats = pass("cluster/lloyd-" + it, table, new ClusterPasses.Lloyd(), null);
       List<Integer> moving = new ArrayList<>();
       for (int a = 0; a < active.size(); a++) {
         int r = active.get(a);
@@ -426,11 +420,13 @@ public final class ParallelKMeans {
     return CentroidTable.of(d, shift, perRun);
   }
 
-  private <B extends Serializable> B pass(String stage, CentroidTable table, ClusterPasses.Consumer<B> consumer) {
+  /** One search: over {@code sample} on the driver when it is not null, else a pass over the cached points. */
+  private <B extends Serializable> B pass(String stage, CentroidTable table, ClusterPasses.Consumer<B> consumer,
+      List<PointBlock> sample) {
     long t0 = System.nanoTime();
     B b;
-    if (local != null) {
-      b = ClusterPasses.fold(table, consumer, local.iterator());
+    if (sample != null) {
+      b = ClusterPasses.fold(table, consumer, sample.iterator());
     } else {
       passes++;
       b = ClusterPasses.search(spark, stage, blocks, table, consumer);
