@@ -40,6 +40,7 @@ public final class NearestSearch {
   private final int[] runnerUp;
   private final double[] distance2;
   private final double[] secondDistance2;
+  private final NearestKeys kernel;
 
   /**
    * @param centroids column-major {@code d x K}: centroid j is {@code centroids[j*d .. j*d+d)}
@@ -48,6 +49,12 @@ public final class NearestSearch {
    * @param second also find the second-nearest centroid of each run
    */
   public NearestSearch(int d, double[] centroids, int[] offsets, int chunk, boolean second) {
+    this(d, centroids, offsets, chunk, second, NearestKeys.best());
+  }
+
+  /** As above, with the kernel of the nearest-only search given (tests compare the kernels). */
+  NearestSearch(int d, double[] centroids, int[] offsets, int chunk, boolean second, NearestKeys kernel) {
+    this.kernel = kernel;
     this.d = d;
     this.total = offsets[offsets.length - 1];
     this.centroids = centroids;
@@ -126,6 +133,26 @@ public final class NearestSearch {
     }
   }
 
+  /**
+   * As {@link #search(double[], int, int, int)}, with the rows' squared norms {@code ||x_i||^2} given (in the
+   * nearest-only search; the search with the second-nearest recomputes distances and ignores them). The norms must
+   * be those of exactly these rows: the rounding of the distances is then the same as when they are computed here.
+   */
+  public void search(double[] x, int xoff, int rows, int ldx, double[] squaredNorms) {
+    if (second || squaredNorms == null) {
+      search(x, xoff, rows, ldx);
+      return;
+    }
+    if (rows == 0) {
+      return;
+    }
+    Linalg.blas().dgemm("N", "N", rows, total, d, -2.0, x, xoff, ldx, centroids, 0, d, 0.0, product, 0, chunk);
+    System.arraycopy(squaredNorms, 0, rowNorm, 0, rows);
+    for (int r = 0; r < runs; r++) {
+      nearestOnly(r, rows);
+    }
+  }
+
   /** ||x_i||^2 of the chunk's rows, coordinate by coordinate (rows read contiguously). */
   private void rowNorms(double[] x, int xoff, int rows, int ldx) {
     java.util.Arrays.fill(rowNorm, 0, rows, 0.0);
@@ -143,7 +170,8 @@ public final class NearestSearch {
    * running minimum mispredicts on clustered data, where the nearest centroid changes from row to row). The squared
    * distance ||x||^2 + (||c||^2 - 2 x.c) is read off the expansion, clamped at 0, and its bit pattern, which orders
    * non-negative doubles like their values, becomes a key whose lowest {@code bits = ceil(log2(k))} bits are replaced
-   * by the centroid's place in the run; the smallest key wins. So distances that agree to within 2^bits units in the
+   * by the centroid's place in the run; the smallest key wins (the loop is a {@link NearestKeys} kernel, SIMD where
+   * the JVM has the vector module). So distances that agree to within 2^bits units in the
    * last place count as tied, and ties go to the lower index as in {@link #searchRun}. The distance kept is the
    * chosen centroid's untruncated one. Its rounding error is at most about (d + 2) u (||x|| + ||c||)^2 (Higham 2002,
    * §3.1, for the dot product and the two sums), an absolute error of the size of the rows' spread times u, since
@@ -154,35 +182,13 @@ public final class NearestSearch {
     int first = offsets[r];
     int count = offsets[r + 1] - first;
     long tags = count <= 1 ? 0 : (Long.highestOneBit(count - 1L) << 1) - 1;
-    long high = ~tags;
-    java.util.Arrays.fill(keys, 0, rows, Long.MAX_VALUE);
-    // centroid by centroid, rows inner: long independent loops over contiguous scores
-    for (int t = 0; t < count; t++) {
-      int col = (first + t) * chunk;
-      double norm = norms[first + t];
-      for (int i = 0; i < rows; i++) {
-        keys[i] = min(keys[i], key(rowNorm[i] + (product[col + i] + norm), high, t));
-      }
-    }
+    kernel.smallest(product, chunk, norms, first, count, rowNorm, rows, tags, keys);
     int base = r * chunk;
     for (int i = 0; i < rows; i++) {
       int at = first + (int) (keys[i] & tags);
       nearest[base + i] = at;
       distance2[base + i] = Math.max(0.0, rowNorm[i] + (product[at * chunk + i] + norms[at]));
     }
-  }
-
-  /** The key of a squared distance: its bits (0 when negative) with the low bits replaced by the tag. */
-  private static long key(double distance2, long high, int tag) {
-    long bits = Double.doubleToRawLongBits(distance2);
-    bits &= ~(bits >> 63); // a negative (rounded) distance counts as 0
-    return (bits & high) | tag;
-  }
-
-  /** The smaller of two non-negative longs, without a branch (their difference cannot overflow). */
-  private static long min(long a, long b) {
-    long diff = a - b;
-    return b + (diff & (diff >> 63));
   }
 
   private void searchRun(int r, int rows) {

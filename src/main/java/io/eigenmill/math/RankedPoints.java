@@ -29,6 +29,8 @@ public final class RankedPoints implements Serializable {
   private double[] values;
   private int[] heap;
   private int size;
+  /** The worst kept rank once full (every offer ranked after it is refused), +infinity before. */
+  private double refusal = Double.POSITIVE_INFINITY;
 
   public RankedPoints(int capacity, int d) {
     if (capacity < 1) {
@@ -72,37 +74,42 @@ public final class RankedPoints implements Serializable {
     return r1 > r2 || (r1 == r2 && t1 > t2);
   }
 
-  /** True when an offer of (r, t) would be kept: one comparison with the worst kept entry once full. */
-  private boolean wouldKeep(double r, long t) {
-    if (size < capacity) {
-      return true;
-    }
-    int root = heap[0];
-    return after(rank[root], tie[root], r, t);
-  }
-
   /**
    * Offers the point whose coordinate l is {@code src[off + l * stride]}. Returns true when it was kept. When the
    * selection is full, an offer tied in rank and identity with the worst kept entry is refused: equal identities
    * mean equal points (duplicate rows), so which of them is kept does not change the result.
+   *
+   * <p>Most offers of a per-row loop are refused: a refusal costs one comparison with a field, and this method is
+   * kept small so that the compiler inlines it into those loops; {@link #keep} does the rest.
    */
   public boolean offer(double r, long t, double[] src, int off, int stride) {
-    if (!wouldKeep(r, t)) {
+    if (r > refusal) {
       return false;
     }
-    int slot;
+    if (size == capacity) {
+      int root = heap[0];
+      if (!after(rank[root], tie[root], r, t)) {
+        return false;
+      }
+    }
+    keep(r, t, src, off, stride);
+    return true;
+  }
+
+  private void keep(double r, long t, double[] src, int off, int stride) {
     if (size < capacity) {
       ensureSlot();
-      slot = size;
+      int slot = size;
       heap[size] = slot;
       store(slot, r, t, src, off, stride);
       siftUp(size++);
     } else {
-      slot = heap[0];
-      store(slot, r, t, src, off, stride);
+      store(heap[0], r, t, src, off, stride);
       siftDown(0);
     }
-    return true;
+    if (size == capacity) {
+      refusal = rank[heap[0]];
+    }
   }
 
   private void store(int slot, double r, long t, double[] src, int off, int stride) {

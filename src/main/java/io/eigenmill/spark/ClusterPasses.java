@@ -19,8 +19,8 @@ import org.apache.spark.sql.SparkSession;
  * The passes of clustering over the cached {@link PointBlock}s. Each pass is one Spark job: every partition folds
  * its blocks into one buffer, buffers merge in partition order ({@link OrderedMerge}, repeatable bit for bit).
  * Executor code is explicit static classes; centroids travel in a broadcast destroyed after the pass. Rows are
- * shifted by the data mean into one scratch chunk per partition and handed to {@link NearestSearch} (BLAS level 3);
- * no object is made per row.
+ * shifted by the data mean, in the cached blocks themselves by the first search pass ({@link PointBlock#toFrame}),
+ * and handed to {@link NearestSearch} (BLAS level 3) as they are; no object is made per row.
  */
 final class ClusterPasses {
   /** Rows handed to one search call at most (fewer when there are many centroids: see NearestSearch). */
@@ -95,6 +95,7 @@ final class ClusterPasses {
       double[] scratch = new double[0];
       while (blocks.hasNext()) {
         PointBlock b = blocks.next();
+        b.toFrame(null); // the values as read (the summary is the first pass: this finds them so)
         s.skipped += b.skipped;
         if (b.rows == 0) {
           continue;
@@ -163,15 +164,19 @@ final class ClusterPasses {
         x = new double[search.chunk() * t.d];
       }
       int chunk = search.chunk();
+      double[] norms = b.toFrame(t.shift); // in place, once per block: see PointBlock
+      if (b.rows <= chunk) {
+        // the usual case (blocks of CHUNK_ROWS, at most PRODUCT_BUDGET / CHUNK_ROWS centroids): no copy
+        search.search(b.values, 0, b.rows, b.rows, norms);
+        consumer.add(buffer, search, b.values, b.rows, b.rows, b.ids, 0);
+        continue;
+      }
+      // many centroids: chunks of the block through the scratch (the BLAS binding checks whole columns, which a
+      // chunk inside a block does not have)
       for (int from = 0; from < b.rows; from += chunk) {
         int m = Math.min(chunk, b.rows - from);
         for (int l = 0; l < t.d; l++) {
-          double s = t.shift[l];
-          int src = from + l * b.rows;
-          int dst = l * chunk;
-          for (int i = 0; i < m; i++) {
-            x[dst + i] = b.values[src + i] - s;
-          }
+          System.arraycopy(b.values, from + l * b.rows, x, l * chunk, m);
         }
         search.search(x, 0, m, chunk);
         consumer.add(buffer, search, x, m, chunk, b.ids, from);

@@ -105,8 +105,9 @@ public final class PointBlocks {
   static final class Collector implements PartitionPasses.SliceSink {
     private final int d;
     private final int capacity;
-    private final double[] values;
-    private final long[] ids;
+    /** The block being filled: a full one is handed over as it is and a new one allocated (no copy). */
+    private double[] values;
+    private long[] ids;
     private final boolean[] bad;
     private boolean anyBad;
     private int fill;
@@ -172,11 +173,15 @@ public final class PointBlocks {
 
     /** Closes the block being filled (when it holds rows or skipped ones). */
     void emit() {
-      if (fill > 0 || skipped > 0) {
+      if (fill == capacity) {
+        out.add(new PointBlock(fill, d, values, ids, skipped));
+        values = new double[capacity * d];
+        ids = new long[capacity];
+      } else if (fill > 0 || skipped > 0) {
         out.add(trimmed(values, ids, fill, skipped, d, capacity));
-        fill = 0;
-        skipped = 0;
       }
+      fill = 0;
+      skipped = 0;
     }
   }
 
