@@ -25,6 +25,7 @@ import java.util.List;
 import java.util.Locale;
 import java.util.Map;
 import java.util.concurrent.Callable;
+import java.util.function.Consumer;
 import java.util.function.Function;
 import org.apache.spark.ml.clustering.KMeans;
 import org.apache.spark.ml.clustering.KMeansModel;
@@ -39,7 +40,8 @@ import org.apache.spark.sql.SparkSession;
  * Runs the main cases on one table and gathers times, accuracy and k-means quality. Shared preparation runs once,
  * untimed, before the first case that needs it: a covariance fit for the model (reused from the fit-covariance case
  * when that ran), the model written for apply, the scores table (the apply-pass case's output, or one scoring pass),
- * and the scores table read and cached (in 2 x cores partitions) for both k-means.
+ * and the scores table read and cached (in 2 x cores partitions) for both k-means. The two sides of the read-floor
+ * and k-means target ratios time their repetitions in turn ({@link #PAIRS}).
  */
 final class MainCases {
   /** Explained-variance ratios reported per method. */
@@ -77,8 +79,17 @@ final class MainCases {
 
   MainResult run(List<BenchCase> cases) {
     try {
-      for (BenchCase c : cases) {
-        runCase(c);
+      for (int i = 0; i < cases.size(); i++) {
+        BenchCase c = cases.get(i);
+        BenchCase next = i + 1 < cases.size() ? cases.get(i + 1) : null;
+        if (next != null && PAIRS.get(c) == next) {
+          // a ratio's two sides, their timed repetitions alternated: a slow spell of a shared machine then falls
+          // on both sides instead of on one
+          timeAll(List.of(prepare(c), prepare(next)));
+          i++;
+        } else {
+          timeAll(List.of(prepare(c)));
+        }
       }
     } finally {
       if (cachedScores != null) {
@@ -90,16 +101,32 @@ final class MainCases {
     return new MainResult(table, List.copyOf(results), accuracy(), kmeans, ratios);
   }
 
-  private void runCase(BenchCase c) {
-    switch (c) {
-      case SQL_SUM -> time(c, () -> Floors.sqlSum(load(), table.features()), s -> "");
-      case READ_FLOOR -> time(c, () -> Floors.readFloor(load(), table.features()),
+  /** Cases whose repetitions alternate with those of the case that follows them (both sides of a target ratio). */
+  static final Map<BenchCase, BenchCase> PAIRS = Map.of(BenchCase.READ_FLOOR, BenchCase.FIT_COVARIANCE,
+      BenchCase.KMEANS, BenchCase.BUILTIN_KMEANS);
+
+  /** A case ready to time: its body, the notes from its last result, and what to keep of that result. */
+  private record Prepared<T>(BenchCase c, Callable<T> body, Function<T, String> notes, Consumer<T> keep) {
+    Prepared<T> keeping(Consumer<T> k) {
+      return new Prepared<>(c, body, notes, k);
+    }
+  }
+
+  private static <T> Prepared<T> timed(BenchCase c, Callable<T> body, Function<T, String> notes) {
+    return new Prepared<>(c, body, notes, x -> { });
+  }
+
+  /** Prepares case {@code c} (untimed set-up such as the model or the cached scores happens here). */
+  private Prepared<?> prepare(BenchCase c) {
+    return switch (c) {
+      case SQL_SUM -> timed(c, () -> Floors.sqlSum(load(), table.features()), s -> "");
+      case READ_FLOOR -> timed(c, () -> Floors.readFloor(load(), table.features()),
           s -> String.format(Locale.ROOT, "%,d rows", (long) s[s.length - 1]));
       case FIT_COVARIANCE -> fit(c, "covariance");
       case FIT_TSQR -> fit(c, "tsqr");
       case FIT_RANDOMIZED -> fit(c, "randomized");
       case BUILTIN_PCA -> builtinPca();
-      case WRITE_FLOOR -> time(c, () -> {
+      case WRITE_FLOOR -> timed(c, () -> {
         Floors.writeFloor(load(), table.keys(), BenchTables.PARTITION_COLUMN, BenchJobs.COMPONENTS,
             work.resolve("write-floor").toString());
         return 0;
@@ -108,55 +135,67 @@ final class MainCases {
       case APPLY -> apply();
       case KMEANS -> ourKMeans();
       case BUILTIN_KMEANS -> builtinKMeans();
-      default -> throw new IllegalStateException("no runner for case " + c);
+    };
+  }
+
+  /** Times the cases together (warm-ups first, then each repetition of every case in turn) and keeps results. */
+  private void timeAll(List<Prepared<?>> group) {
+    List<Timer.Case<?>> cases = new ArrayList<>();
+    for (Prepared<?> p : group) {
+      cases.add(new Timer.Case<>(p.c().word(), p.body()));
+    }
+    List<Timer.Timed<?>> timed = Timer.runInTurn(spark.sparkContext(), warmups, reps, cases);
+    for (int i = 0; i < group.size(); i++) {
+      keep(group.get(i), timed.get(i));
     }
   }
 
-  private <T> T time(BenchCase c, Callable<T> body, Function<T, String> notes) {
-    Timer.Timed<T> t = Timer.run(spark.sparkContext(), c.word(), warmups, reps, body);
-    times.put(c, t.timing());
-    results.add(new CaseResult(c, t.timing(), notes.apply(t.last())));
-    return t.last();
+  @SuppressWarnings("unchecked")
+  private <T> void keep(Prepared<T> p, Timer.Timed<?> t) {
+    T last = (T) t.last();
+    times.put(p.c(), t.timing());
+    results.add(new CaseResult(p.c(), t.timing(), p.notes().apply(last)));
+    p.keep().accept(last);
   }
 
   private Dataset<Row> load() {
     return spark.read().parquet(table.path());
   }
 
-  private void fit(BenchCase c, String method) {
+  private Prepared<FitResult> fit(BenchCase c, String method) {
     JobSettings settings = BenchJobs.fit(table, columnsSetting, method, work.resolve("fit-output").toString());
     JobPlan plan = Planner.plan(spark, settings);
     if (plan.d() != table.d()) {
       throw new IllegalStateException("the planner resolved " + plan.d() + " features, the table has " + table.d());
     }
-    FitResult r = time(c, () -> new FitJob(spark, plan).execute(TableLoader.load(spark, settings.input())),
-        f -> f.passes() + (f.passes() == 1 ? " pass, " : " passes, ") + (f.columnarRead() ? "columnar batches"
-            : "Row path") + ", k = " + f.model().k() + ", " + f.blas() + " (" + stages(f.timings()) + ")");
-    fits.put(method, r);
+    return timed(c, () -> new FitJob(spark, plan).execute(TableLoader.load(spark, settings.input())),
+        (FitResult f) -> f.passes() + (f.passes() == 1 ? " pass, " : " passes, ") + (f.columnarRead()
+            ? "columnar batches" : "Row path") + ", k = " + f.model().k() + ", " + f.blas() + " ("
+            + stages(f.timings()) + ")").keeping(r -> fits.put(method, r));
   }
 
-  private void builtinPca() {
-    PCAModel m = time(BenchCase.BUILTIN_PCA, () -> {
+  private Prepared<PCAModel> builtinPca() {
+    return timed(BenchCase.BUILTIN_PCA, () -> {
       Dataset<Row> vectors = new VectorAssembler().setInputCols(table.features().toArray(new String[0]))
           .setOutputCol(VECTOR).setHandleInvalid("skip").transform(load());
       return new PCA().setInputCol(VECTOR).setOutputCol("bench_pca").setK(BenchJobs.COMPONENTS).fit(vectors);
-    }, x -> "unscaled features (the engine's PCA only centres)");
-    double[] explained = m.explainedVariance().toArray();
-    builtinRatios = Arrays.copyOf(explained, Math.min(LEADING, explained.length));
+    }, (PCAModel x) -> "unscaled features (the engine's PCA only centres)").keeping(m -> {
+      double[] explained = m.explainedVariance().toArray();
+      builtinRatios = Arrays.copyOf(explained, Math.min(LEADING, explained.length));
+    });
   }
 
-  private void applyPass() {
+  private Prepared<Long> applyPass() {
     ensureModel();
     String path = work.resolve("scores").toString();
-    time(BenchCase.APPLY_PASS, () -> Scores.write(spark, load(), table.keys(), model, applySettings(), path),
-        n -> String.format(Locale.ROOT, "%,d rows scored", n));
-    scoresPath = path;
+    return timed(BenchCase.APPLY_PASS, () -> Scores.write(spark, load(), table.keys(), model, applySettings(), path),
+        (Long n) -> String.format(Locale.ROOT, "%,d rows scored", n)).keeping(n -> scoresPath = path);
   }
 
-  private void apply() {
+  private Prepared<RunResult> apply() {
     ensureModel();
     JobSettings settings = applySettings();
-    time(BenchCase.APPLY, () -> JobRunner.run(spark, settings), (RunResult r) -> String.format(Locale.ROOT,
+    return timed(BenchCase.APPLY, () -> JobRunner.run(spark, settings), (RunResult r) -> String.format(Locale.ROOT,
         "%,d rows scored, %d rows flagged by T2", r.monitor().rowsScored(), r.monitor().flaggedT2()));
   }
 
@@ -164,15 +203,17 @@ final class MainCases {
     return BenchJobs.apply(table, modelPath, work.resolve("apply-output").toString());
   }
 
-  private void ourKMeans() {
+  private Prepared<ClusterOutcome> ourKMeans() {
     ensureCachedScores();
     JobSettings.Cluster settings = BenchJobs.cluster(table, work.resolve("kmeans-output").toString());
-    ClusterOutcome o = time(BenchCase.KMEANS, () -> new ClusterJob(spark, settings, cachedScores, List.of(),
-        Scores.columns(model.k()), model, "scores").execute(), x -> x.passes() + " passes over the cached points ("
-        + stages(x.timings()) + ")");
-    KMeansQuality before = kmeans;
-    kmeans = new KMeansQuality(o.result().withinSs(), before == null ? Double.NaN : before.builtin(), o.passes(),
-        before == null ? 0 : before.builtinIterations());
+    return timed(BenchCase.KMEANS, () -> new ClusterJob(spark, settings, cachedScores, List.of(),
+        Scores.columns(model.k()), model, "scores").execute(), (ClusterOutcome x) -> x.passes()
+        + " passes over the cached points, nearest-centroid kernel " + io.eigenmill.math.NearestKeys.best()
+        .describe() + " (" + stages(x.timings()) + ")").keeping(o -> {
+          KMeansQuality before = kmeans;
+          kmeans = new KMeansQuality(o.result().withinSs(), before == null ? Double.NaN : before.builtin(),
+              o.passes(), before == null ? 0 : before.builtinIterations());
+        });
   }
 
   /** "summary 0.52 s, k-means 2.9 s, ..." from a job's seconds per stage. */
@@ -182,17 +223,18 @@ final class MainCases {
     return String.join(", ", parts);
   }
 
-  private void builtinKMeans() {
+  private Prepared<KMeansModel> builtinKMeans() {
     ensureCachedScores();
-    KMeansModel m = time(BenchCase.BUILTIN_KMEANS, () -> {
+    return timed(BenchCase.BUILTIN_KMEANS, () -> {
       Dataset<Row> vectors = new VectorAssembler().setInputCols(Scores.columns(model.k()).toArray(new String[0]))
           .setOutputCol(VECTOR).transform(cachedScores);
       return new KMeans().setK(BenchJobs.CLUSTERS).setMaxIter(BenchJobs.CLUSTER_ITERATIONS)
           .setSeed(BenchJobs.CLUSTER_SEED).setFeaturesCol(VECTOR).fit(vectors);
-    }, x -> x.summary().numIter() + " iterations");
-    KMeansQuality before = kmeans;
-    kmeans = new KMeansQuality(before == null ? Double.NaN : before.ours(), m.summary().trainingCost(),
-        before == null ? 0 : before.ourPasses(), m.summary().numIter());
+    }, (KMeansModel x) -> x.summary().numIter() + " iterations").keeping(m -> {
+      KMeansQuality before = kmeans;
+      kmeans = new KMeansQuality(before == null ? Double.NaN : before.ours(), m.summary().trainingCost(),
+          before == null ? 0 : before.ourPasses(), m.summary().numIter());
+    });
   }
 
   private void ensureModel() {

@@ -18,7 +18,11 @@ final class MainReport {
     header.forEach(h -> s.append(h).append('\n'));
     s.append("- table: `").append(r.table().path()).append("` (").append(r.table().spec()).append(r.table()
         .generatedSeconds() > 0 ? String.format(Locale.ROOT, "; generated in %.0f s", r.table().generatedSeconds())
-        : "; reused").append(")\n\n");
+        : "; reused").append(")\n");
+    s.append("- in turn: ").append(String.join(" and ", MainCases.PAIRS.entrySet().stream()
+        .sorted(java.util.Map.Entry.comparingByKey()).map(e -> e.getKey().word() + " with " + e.getValue().word())
+        .toList())).append(" (the two sides of a target ratio) run their timed repetitions alternately, one of each"
+        + " at a time, when both are asked for\n\n");
     s.append(Report.table(List.of("case", "min s", "median s", "reps", "notes", "what the clock covers"),
         caseRows(r))).append('\n');
     s.append("### Ratios and targets\n\nRatios of median times (the last one of within-cluster sums of squares).\n\n");

@@ -53,7 +53,8 @@ public final class Main {
       return INVALID;
     }
     if (a.command().equals("version")) {
-      out.println("eigenmill " + Version.current() + " (" + Linalg.describe() + ")");
+      out.println("eigenmill " + Version.current() + " (" + Linalg.describe() + "; nearest-centroid kernel "
+          + io.eigenmill.math.NearestKeys.best().describe() + ")");
       return OK;
     }
     Set<String> secrets = new LinkedHashSet<>(Redaction.secretValuesOfSets(a.sets()));

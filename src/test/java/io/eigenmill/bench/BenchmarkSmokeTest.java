@@ -72,6 +72,17 @@ class BenchmarkSmokeTest extends SparkSuite {
     assertTrue(lines.stream().anyMatch(l -> l.startsWith("- BLAS/LAPACK: BLAS ")), "BLAS line");
   }
 
+  @Test
+  void casesTimedInTurnAlternateTheirRepetitionsAfterAllWarmUps() {
+    List<String> order = new java.util.ArrayList<>();
+    List<Timer.Timed<?>> t = Timer.runInTurn(spark.sparkContext(), 1, 2, List.of(
+        new Timer.Case<>("a", () -> order.add("a")), new Timer.Case<>("b", () -> order.add("b"))));
+    assertEquals(List.of("a", "b", "a", "b", "a", "b"), order, "warm-ups a, b; then a, b twice");
+    assertEquals(2, t.size());
+    assertEquals(2, t.get(0).timing().repetitions());
+    assertEquals(2, t.get(1).timing().repetitions());
+  }
+
   private static void checkAccuracy(MainResult r) {
     // The three methods estimate the same leading eigenvalue of the same correlation matrix: covariance and TSQR
     // exactly up to rounding (~1e-13 on 20 standardised features), the randomized method after 2 power iterations

@@ -54,6 +54,17 @@ class CommandLineTest extends SparkSuite {
   }
 
   @Test
+  void versionNamesTheBlasAndTheNearestCentroidKernel() {
+    CommandRun o = CommandRun.of("version");
+    assertEquals(0, o.code(), o.err());
+    // the suite's JVM resolves jdk.incubator.vector (the pom's argLine), so the kernel is the SIMD one
+    assertTrue(o.out().matches("eigenmill \\S+ \\(BLAS .*, LAPACK .*; nearest-centroid kernel "
+        + "(SIMD, \\d+ double lanes|scalar)\\)\\n"), o.out());
+    assertEquals(io.eigenmill.math.NearestKeys.best().describe(),
+        o.out().replaceAll("(?s).*nearest-centroid kernel (.*)\\)\\n", "$1"));
+  }
+
+  @Test
   void planResolvesGlobsAndComputesNothing() throws Exception {
     Path f = job("plan-ok", "features.columns = [\"cpu_*\", \"fan?_rpm\", mem_used_pct]\nfeatures.keys = [host]\n"
         + "output.path = \"" + dir.resolve("never") + "\"\n");
