@@ -18,13 +18,14 @@ package io.eigenmill.math;
  */
 public interface NearestKeys {
   /**
-   * Writes {@code keys[0 .. rows)}: for row i, the smallest key over centroids {@code first .. first + count - 1}.
+   * Writes {@code keys[0 .. rows)}: for row i, the smallest key over centroids {@code first .. first + count - 1};
+   * and {@code distances[at + i]}: the squared distance (clamped at 0, not truncated) of the centroid that key names.
    *
    * @param product column-major scores, centroid j's of row i at {@code j * ld + i}
    * @param tags the low bits that carry the centroid's place t: 2^bits - 1 with 2^bits >= count
    */
   void smallest(double[] product, int ld, double[] norms, int first, int count, double[] rowNorm, int rows,
-      long tags, long[] keys);
+      long tags, long[] keys, double[] distances, int at);
 
   /** What the kernel is, for logs and benchmark notes: "scalar" or "SIMD, 8 double lanes". */
   String describe();
@@ -38,7 +39,7 @@ public interface NearestKeys {
   final class Scalar implements NearestKeys {
     @Override
     public void smallest(double[] product, int ld, double[] norms, int first, int count, double[] rowNorm,
-        int rows, long tags, long[] keys) {
+        int rows, long tags, long[] keys, double[] distances, int at) {
       long high = ~tags;
       java.util.Arrays.fill(keys, 0, rows, Long.MAX_VALUE);
       // centroid by centroid, rows inner: long independent loops over contiguous scores
@@ -48,6 +49,10 @@ public interface NearestKeys {
         for (int i = 0; i < rows; i++) {
           keys[i] = min(keys[i], key(rowNorm[i] + (product[col + i] + norm), high, t));
         }
+      }
+      for (int i = 0; i < rows; i++) {
+        int j = first + (int) (keys[i] & tags);
+        distances[at + i] = Math.max(0.0, rowNorm[i] + (product[j * ld + i] + norms[j]));
       }
     }
 

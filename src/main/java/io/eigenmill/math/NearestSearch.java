@@ -52,8 +52,8 @@ public final class NearestSearch {
     this(d, centroids, offsets, chunk, second, NearestKeys.best());
   }
 
-  /** As above, with the kernel of the nearest-only search given (tests compare the kernels). */
-  NearestSearch(int d, double[] centroids, int[] offsets, int chunk, boolean second, NearestKeys kernel) {
+  /** As above, with the kernel of the nearest-only search given. */
+  public NearestSearch(int d, double[] centroids, int[] offsets, int chunk, boolean second, NearestKeys kernel) {
     this.kernel = kernel;
     this.d = d;
     this.total = offsets[offsets.length - 1];
@@ -181,13 +181,13 @@ public final class NearestSearch {
   private void nearestOnly(int r, int rows) {
     int first = offsets[r];
     int count = offsets[r + 1] - first;
-    long tags = count <= 1 ? 0 : (Long.highestOneBit(count - 1L) << 1) - 1;
-    kernel.smallest(product, chunk, norms, first, count, rowNorm, rows, tags, keys);
+    // 2^bits - 1 with 2^bits >= count, 0 for one centroid; without a branch (a branch taken for the first time makes
+    // the JIT recompile this method and the kernel inlined in it)
+    long tags = (1L << (64 - Long.numberOfLeadingZeros(count - 1L))) - 1;
     int base = r * chunk;
+    kernel.smallest(product, chunk, norms, first, count, rowNorm, rows, tags, keys, distance2, base);
     for (int i = 0; i < rows; i++) {
-      int at = first + (int) (keys[i] & tags);
-      nearest[base + i] = at;
-      distance2[base + i] = Math.max(0.0, rowNorm[i] + (product[at * chunk + i] + norms[at]));
+      nearest[base + i] = first + (int) (keys[i] & tags);
     }
   }
 

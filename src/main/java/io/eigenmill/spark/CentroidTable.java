@@ -1,5 +1,6 @@
 package io.eigenmill.spark;
 
+import io.eigenmill.math.NearestKeys;
 import io.eigenmill.math.NearestSearch;
 import java.io.Serializable;
 import java.util.List;
@@ -46,6 +47,10 @@ final class CentroidTable implements Serializable {
   }
 
   NearestSearch search(int maxRows, boolean second) {
-    return new NearestSearch(d, centroids, offsets, NearestSearch.chunkRows(total(), maxRows), second);
+    return search(maxRows, second, NearestKeys.best());
+  }
+
+  NearestSearch search(int maxRows, boolean second, NearestKeys kernel) {
+    return new NearestSearch(d, centroids, offsets, NearestSearch.chunkRows(total(), maxRows), second, kernel);
   }
 }

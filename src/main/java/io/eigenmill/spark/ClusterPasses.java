@@ -1,6 +1,7 @@
 package io.eigenmill.spark;
 
 import io.eigenmill.math.LloydStats;
+import io.eigenmill.math.NearestKeys;
 import io.eigenmill.math.NearestSearch;
 import io.eigenmill.math.PointList;
 import io.eigenmill.math.SampleRound;
@@ -142,15 +143,17 @@ final class ClusterPasses {
 
     @Override
     public Iterator<B> call(Iterator<PointBlock> blocks) {
-      return List.of(fold(table.value(), consumer, blocks)).iterator();
+      return List.of(fold(table.value(), consumer, blocks, NearestKeys.best())).iterator();
     }
   }
 
   /**
-   * One search of {@code consumer} against {@code t} over {@code blocks}: the body of a pass's task, and the whole
-   * of a pass over points held on the driver (the k-means|| initialisation sample).
+   * One search of {@code consumer} against {@code t} over {@code blocks} with the nearest-centroid {@code kernel}:
+   * the body of a pass's task (the best kernel), and the whole of a pass over points held on the driver (the
+   * k-means|| initialisation sample: the scalar kernel, see ParallelKMeans#pass).
    */
-  static <B extends Serializable> B fold(CentroidTable t, Consumer<B> consumer, Iterator<PointBlock> blocks) {
+  static <B extends Serializable> B fold(CentroidTable t, Consumer<B> consumer, Iterator<PointBlock> blocks,
+      NearestKeys kernel) {
     B buffer = consumer.zero(t);
     NearestSearch search = null;
     double[] x = null;
@@ -160,7 +163,7 @@ final class ClusterPasses {
         continue;
       }
       if (search == null) {
-        search = t.search(CHUNK_ROWS, false);
+        search = t.search(CHUNK_ROWS, false, kernel);
         x = new double[search.chunk() * t.d];
       }
       int chunk = search.chunk();

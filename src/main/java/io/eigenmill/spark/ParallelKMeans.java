@@ -2,6 +2,7 @@ package io.eigenmill.spark;
 
 import io.eigenmill.math.KMeansSeeding;
 import io.eigenmill.math.LloydStats;
+import io.eigenmill.math.NearestKeys;
 import io.eigenmill.math.PointList;
 import io.eigenmill.math.SampleRound;
 import io.eigenmill.math.SeedStream;
@@ -124,6 +125,7 @@ public final class ParallelKMeans {
   private final int maxIterations;
   private final double tolerance;
   private int passes;
+  private static final NearestKeys DRIVER_KERNEL = new NearestKeys.Scalar();
   /** Rows of the sample the last fit's initialisation ran on; 0 when it ran over all rows. */
   private int initRows;
 
@@ -420,13 +422,19 @@ public final class ParallelKMeans {
     return CentroidTable.of(d, shift, perRun);
   }
 
-  /** One search: over {@code sample} on the driver when it is not null, else a pass over the cached points. */
+  /**
+   * One search: over {@code sample} on the driver when it is not null, else a pass over the cached points. The
+   * driver's searches take the scalar kernel: they are small, and in local mode (driver and executor one JVM) their
+   * shapes (one centroid per run in the first round, odd row counts) would make the JIT throw away the SIMD
+   * kernel's compiled code in the middle of the Lloyd passes that follow (measured: a pass run slower by about 1 s
+   * while it recompiled).
+   */
   private <B extends Serializable> B pass(String stage, CentroidTable table, ClusterPasses.Consumer<B> consumer,
       List<PointBlock> sample) {
     long t0 = System.nanoTime();
     B b;
     if (sample != null) {
-      b = ClusterPasses.fold(table, consumer, sample.iterator());
+      b = ClusterPasses.fold(table, consumer, sample.iterator(), DRIVER_KERNEL);
     } else {
       passes++;
       b = ClusterPasses.search(spark, stage, blocks, table, consumer);

@@ -70,17 +70,33 @@ class NearestKeysTest {
         }
         long tags = tags(count);
         long[] want = new long[rows];
+        double[] wantDistance = new double[rows + 5];
         for (int i = 0; i < rows; i++) {
           want[i] = expected(product, ld, norms, first, count, rowNorm, i, tags);
+          int j = first + (int) (want[i] & tags);
+          double d2 = rowNorm[i] + (product[j * ld + i] + norms[j]);
+          wantDistance[5 + i] = d2 > 0 ? d2 : 0.0; // the chosen centroid's distance, clamped, all its bits
         }
         long[] got = new long[rows];
-        scalar.smallest(product, ld, norms, first, count, rowNorm, rows, tags, got);
+        double[] distance = new double[rows + 5];
+        scalar.smallest(product, ld, norms, first, count, rowNorm, rows, tags, got, distance, 5);
         assertArrayEquals(want, got, "scalar kernel, " + count + " centroids, " + rows + " rows");
+        assertArrayEquals(bits(wantDistance), bits(distance), "scalar kernel's distances");
         long[] gotLanes = new long[rows];
-        lanes.smallest(product, ld, norms, first, count, rowNorm, rows, tags, gotLanes);
+        double[] laneDistance = new double[rows + 5];
+        lanes.smallest(product, ld, norms, first, count, rowNorm, rows, tags, gotLanes, laneDistance, 5);
         assertArrayEquals(want, gotLanes, "SIMD kernel, " + count + " centroids, " + rows + " rows");
+        assertArrayEquals(bits(wantDistance), bits(laneDistance), "SIMD kernel's distances");
       }
     }
+  }
+
+  private static long[] bits(double[] v) {
+    long[] out = new long[v.length];
+    for (int i = 0; i < v.length; i++) {
+      out[i] = Double.doubleToRawLongBits(v[i]);
+    }
+    return out;
   }
 
   @Test

@@ -6,6 +6,7 @@ import static org.junit.jupiter.api.Assertions.assertNull;
 import static org.junit.jupiter.api.Assertions.assertSame;
 
 import io.eigenmill.math.LloydStats;
+import io.eigenmill.math.NearestKeys;
 import io.eigenmill.math.NearestSearch;
 import java.util.ArrayList;
 import java.util.List;
@@ -97,8 +98,8 @@ class PointBlockFrameTest {
     for (int b = 0; b < sizes.length; b++) {
       cached.add(new PointBlock(sizes[b], D, read.get(b).clone(), ids.get(b), 0));
     }
-    byte[] first = ClusterPasses.fold(table, new ClusterPasses.Lloyd(), cached.iterator()).toBytes();
-    byte[] second = ClusterPasses.fold(table, new ClusterPasses.Lloyd(), cached.iterator()).toBytes();
+    byte[] first = ClusterPasses.fold(table, new ClusterPasses.Lloyd(), cached.iterator(), NearestKeys.best()).toBytes();
+    byte[] second = ClusterPasses.fold(table, new ClusterPasses.Lloyd(), cached.iterator(), NearestKeys.best()).toBytes();
     assertArrayEquals(first, second, "the second pass over blocks shifted by the first");
 
     // the arithmetic before blocks were shifted in place: each chunk copied minus the shift
@@ -131,7 +132,7 @@ class PointBlockFrameTest {
     for (int b = 0; b < sizes.length; b++) {
       fresh.add(new PointBlock(sizes[b], D, read.get(b).clone(), ids.get(b), 0));
     }
-    byte[] viaChunks = ClusterPasses.fold(wide, new ClusterPasses.Lloyd(), fresh.iterator()).toBytes();
+    byte[] viaChunks = ClusterPasses.fold(wide, new ClusterPasses.Lloyd(), fresh.iterator(), NearestKeys.best()).toBytes();
     NearestSearch wideSearch = new NearestSearch(D, wide.centroids, wide.offsets, 1024, false);
     LloydStats whole = new ClusterPasses.Lloyd().zero(wide);
     for (int b = 0; b < sizes.length; b++) {
