@@ -65,6 +65,7 @@ public final class LloydStats implements Serializable {
     }
     for (int r = 0; r < runs; r++) {
       RankedPoints far = farthest[r];
+      double bar = far.refusalRank(); // almost every row is refused: compare here, call offer() rarely
       double cost = 0;
       for (int i = 0; i < rows; i++) {
         int j = search.nearest(r, i);
@@ -73,7 +74,9 @@ public final class LloydStats implements Serializable {
         counts[j]++;
         distanceSums[j] += Math.sqrt(d2);
         cost += d2;
-        far.offer(-d2, ids[idOff + i], x, xoff + i, ldx); // refused at once unless among the farthest
+        if (-d2 <= bar && far.offer(-d2, ids[idOff + i], x, xoff + i, ldx)) {
+          bar = far.refusalRank();
+        }
       }
       withinSs[r] += cost;
     }

@@ -48,7 +48,9 @@ public final class SampleRound implements Serializable {
         if (d2 > 0) {
           long id = ids[idOff + i];
           double rank = -key(d2, SeedStream.unit(streams[r], id));
-          kept.offer(rank, id, x, i, ldx); // refused at once unless among the largest keys
+          if (rank <= kept.refusalRank()) { // most rows are refused: offer() only below the refusal rank
+            kept.offer(rank, id, x, i, ldx);
+          }
         }
       }
       cost[r] += s;

@@ -4,6 +4,7 @@ import io.eigenmill.math.LloydStats;
 import io.eigenmill.math.NearestKeys;
 import io.eigenmill.math.NearestSearch;
 import io.eigenmill.math.PointList;
+import io.eigenmill.math.RankedPoints;
 import io.eigenmill.math.SampleRound;
 import io.eigenmill.math.SeedStream;
 import java.io.Serializable;
@@ -108,17 +109,23 @@ final class ClusterPasses {
         s.moments.addBlock(scratch, b.rows, b.rows);
         for (int i = 0; i < b.rows; i++) {
           long id = b.ids[i];
-          // offer() refuses at once what the selection would not keep
-          s.sample.offer(SeedStream.unit(sampleStream, id), id, b.values, i, b.rows);
+          // most rows are refused: compare with the refusal rank here and call offer() rarely (see RankedPoints)
+          offer(s.sample, SeedStream.unit(sampleStream, id), id, b, i);
           if (s.initSample != null) {
-            s.initSample.offer(SeedStream.unit(initStream, id), id, b.values, i, b.rows);
+            offer(s.initSample, SeedStream.unit(initStream, id), id, b, i);
           }
           for (int r = 0; r < firstStreams.length; r++) {
-            s.firsts[r].offer(SeedStream.unit(firstStreams[r], id), id, b.values, i, b.rows);
+            offer(s.firsts[r], SeedStream.unit(firstStreams[r], id), id, b, i);
           }
         }
       }
       return List.of(s).iterator();
+    }
+  }
+
+  private static void offer(RankedPoints to, double rank, long id, PointBlock b, int i) {
+    if (rank <= to.refusalRank()) {
+      to.offer(rank, id, b.values, i, b.rows);
     }
   }
 

@@ -97,4 +97,30 @@ class RankedPointsTest {
     }
     throw new AssertionError("unknown identity " + v);
   }
+
+  /**
+   * The refusal rank against the brute force: +infinity until the selection is full, then the largest kept rank;
+   * an offer ranked above it is refused, and skipping such offers (as the per-row loops do) keeps the same set.
+   */
+  @org.junit.jupiter.api.Test
+  void theRefusalRankIsTheWorstKeptRankOnceFullAndSkippingAboveItChangesNothing() {
+    int capacity = 20;
+    RankedPoints all = new RankedPoints(capacity, D);
+    RankedPoints skipping = new RankedPoints(capacity, D);
+    for (int i = 0; i < N; i++) {
+      double before = all.refusalRank();
+      boolean kept = all.offer(rank[i], id[i], pts, i * D, 1);
+      if (rank[i] > before) {
+        assertEquals(false, kept, "offer " + i + " ranked above the refusal rank was kept");
+      }
+      if (rank[i] <= skipping.refusalRank()) {
+        skipping.offer(rank[i], id[i], pts, i * D, 1);
+      }
+      double[] ranks = all.ranks();
+      assertEquals(ranks.length < capacity ? Double.POSITIVE_INFINITY : ranks[ranks.length - 1],
+          all.refusalRank(), "after offer " + i);
+    }
+    assertArrayEquals(all.identities(), skipping.identities());
+    assertArrayEquals(expected(capacity), all.identities());
+  }
 }
