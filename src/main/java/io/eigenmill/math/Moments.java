@@ -115,7 +115,7 @@ public final class Moments implements Serializable {
   /**
    * A block is centred a second time when the correction of its Gram by the residual mean, rows res^2, exceeds
    * 2^-CANCEL_BITS of the sum of squares about the first mean (the correction then costs more than
-   * log2(16 / 15) = 0.1 bit). A block's sum in four chains has a relative error of about (rows / 4) eps, so this
+   * log2(16 / 15) = 0.1 bit). A block's sum in eight chains has a relative error of about (rows / 8) eps, so this
    * happens only when a column's offset exceeds its spread by many orders of magnitude.
    */
   static final int CANCEL_BITS = 4;
