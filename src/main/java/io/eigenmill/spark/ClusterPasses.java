@@ -171,7 +171,6 @@ final class ClusterPasses {
       }
       if (search == null) {
         search = t.search(CHUNK_ROWS, false, kernel);
-        x = new double[search.chunk() * t.d];
       }
       int chunk = search.chunk();
       double[] norms = b.toFrame(t.shift); // in place, once per block: see PointBlock
@@ -183,6 +182,9 @@ final class ClusterPasses {
       }
       // many centroids: chunks of the block through the scratch (the BLAS binding checks whole columns, which a
       // chunk inside a block does not have)
+      if (x == null) {
+        x = new double[chunk * t.d];
+      }
       for (int from = 0; from < b.rows; from += chunk) {
         int m = Math.min(chunk, b.rows - from);
         for (int l = 0; l < t.d; l++) {
