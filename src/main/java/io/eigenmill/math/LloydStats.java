@@ -65,7 +65,6 @@ public final class LloydStats implements Serializable {
     }
     for (int r = 0; r < runs; r++) {
       RankedPoints far = farthest[r];
-      double bar = far.refusalRank(); // almost every row is refused: compare here, call offer() rarely
       double cost = 0;
       for (int i = 0; i < rows; i++) {
         int j = search.nearest(r, i);
@@ -74,8 +73,8 @@ public final class LloydStats implements Serializable {
         counts[j]++;
         distanceSums[j] += Math.sqrt(d2);
         cost += d2;
-        if (-d2 <= bar && far.offer(-d2, ids[idOff + i], x, xoff + i, ldx)) {
-          bar = far.refusalRank();
+        if (-d2 <= far.refusalRank()) { // almost every row is refused: call offer() rarely (see RankedPoints)
+          far.offer(-d2, ids[idOff + i], x, xoff + i, ldx);
         }
       }
       withinSs[r] += cost;

@@ -109,6 +109,16 @@ public final class NearestSearch {
    * {@code xoff + ldx * d} values: the BLAS binding checks the whole last column, not just the rows used.
    */
   public void search(double[] x, int xoff, int rows, int ldx) {
+    search(x, xoff, rows, ldx, null);
+  }
+
+  /**
+   * As {@link #search(double[], int, int, int)}, with the rows' squared norms {@code ||x_i||^2} in
+   * {@code givenNorms}, or null to compute them here (only the nearest-only search uses them; the search with the
+   * second-nearest recomputes distances). Given norms must be {@link #squaredNorms} of exactly these rows, so that
+   * the distances round alike.
+   */
+  public void search(double[] x, int xoff, int rows, int ldx, double[] givenNorms) {
     if (rows == 0) {
       return;
     }
@@ -127,40 +137,27 @@ public final class NearestSearch {
       }
       return;
     }
-    rowNorms(x, xoff, rows, ldx);
+    if (givenNorms == null) {
+      java.util.Arrays.fill(rowNorm, 0, rows, 0.0);
+      squaredNorms(x, xoff, rows, ldx, d, rowNorm);
+    } else {
+      System.arraycopy(givenNorms, 0, rowNorm, 0, rows);
+    }
     for (int r = 0; r < runs; r++) {
       nearestOnly(r, rows);
     }
   }
 
   /**
-   * As {@link #search(double[], int, int, int)}, with the rows' squared norms {@code ||x_i||^2} given (in the
-   * nearest-only search; the search with the second-nearest recomputes distances and ignores them). The norms must
-   * be those of exactly these rows: the rounding of the distances is then the same as when they are computed here.
+   * Adds ||x_i||^2 of {@code rows} rows of a column-major matrix to {@code out[0 .. rows)}, coordinate by
+   * coordinate (rows read contiguously): the one order in which the search and the cached blocks' norms are summed.
    */
-  public void search(double[] x, int xoff, int rows, int ldx, double[] squaredNorms) {
-    if (second || squaredNorms == null) {
-      search(x, xoff, rows, ldx);
-      return;
-    }
-    if (rows == 0) {
-      return;
-    }
-    Linalg.blas().dgemm("N", "N", rows, total, d, -2.0, x, xoff, ldx, centroids, 0, d, 0.0, product, 0, chunk);
-    System.arraycopy(squaredNorms, 0, rowNorm, 0, rows);
-    for (int r = 0; r < runs; r++) {
-      nearestOnly(r, rows);
-    }
-  }
-
-  /** ||x_i||^2 of the chunk's rows, coordinate by coordinate (rows read contiguously). */
-  private void rowNorms(double[] x, int xoff, int rows, int ldx) {
-    java.util.Arrays.fill(rowNorm, 0, rows, 0.0);
+  public static void squaredNorms(double[] x, int xoff, int rows, int ldx, int d, double[] out) {
     for (int l = 0; l < d; l++) {
       int xl = xoff + l * ldx;
       for (int i = 0; i < rows; i++) {
         double v = x[xl + i];
-        rowNorm[i] += v * v;
+        out[i] += v * v;
       }
     }
   }

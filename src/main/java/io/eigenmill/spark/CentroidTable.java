@@ -46,10 +46,6 @@ final class CentroidTable implements Serializable {
     return offsets[offsets.length - 1];
   }
 
-  NearestSearch search(int maxRows, boolean second) {
-    return search(maxRows, second, NearestKeys.best());
-  }
-
   NearestSearch search(int maxRows, boolean second, NearestKeys kernel) {
     return new NearestSearch(d, centroids, offsets, NearestSearch.chunkRows(total(), maxRows), second, kernel);
   }

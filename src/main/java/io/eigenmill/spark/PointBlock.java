@@ -1,5 +1,6 @@
 package io.eigenmill.spark;
 
+import io.eigenmill.math.NearestSearch;
 import java.io.Serializable;
 
 /**
@@ -56,20 +57,13 @@ public final class PointBlock implements Serializable {
       }
     }
     frame = shift == null ? null : shift.clone();
-    norms = shift == null ? null : squaredNorms();
-    return norms;
-  }
-
-  private double[] squaredNorms() {
-    double[] out = new double[rows];
-    for (int l = 0; l < d; l++) {
-      int at = l * rows;
-      for (int i = 0; i < rows; i++) {
-        double v = values[at + i];
-        out[i] += v * v;
-      }
+    if (shift == null) {
+      norms = null;
+    } else {
+      norms = new double[rows];
+      NearestSearch.squaredNorms(values, 0, rows, rows, d, norms);
     }
-    return out;
+    return norms;
   }
 
   public int rows() {

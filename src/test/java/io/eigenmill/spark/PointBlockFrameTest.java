@@ -16,7 +16,7 @@ import org.junit.jupiter.api.Test;
 /**
  * The cached blocks shifted in place by the first search pass ({@link PointBlock#toFrame}) against the arithmetic
  * they replace: a fresh copy of the values minus the shift, and the squared norms summed coordinate by coordinate
- * (the order NearestSearch uses). The values are offset from 0 by 1e4 so that the shift matters. Every comparison is
+ * (NearestSearch.squaredNorms, the order the search uses). The values are offset from 0 by 1e4 so that the shift matters. Every comparison is
  * exact: the same IEEE operations in the same order must give the same bits.
  */
 class PointBlockFrameTest {
@@ -103,7 +103,7 @@ class PointBlockFrameTest {
     assertArrayEquals(first, second, "the second pass over blocks shifted by the first");
 
     // the arithmetic before blocks were shifted in place: each chunk copied minus the shift
-    NearestSearch search = table.search(ClusterPasses.CHUNK_ROWS, false);
+    NearestSearch search = table.search(ClusterPasses.CHUNK_ROWS, false, NearestKeys.best());
     LloydStats copied = new ClusterPasses.Lloyd().zero(table);
     for (int b = 0; b < sizes.length; b++) {
       int rows = sizes[b];
@@ -127,7 +127,7 @@ class PointBlockFrameTest {
     }
     many.add(c);
     CentroidTable wide = CentroidTable.of(D, shift, many);
-    assertEquals(655, wide.search(ClusterPasses.CHUNK_ROWS, false).chunk());
+    assertEquals(655, wide.search(ClusterPasses.CHUNK_ROWS, false, NearestKeys.best()).chunk());
     List<PointBlock> fresh = new ArrayList<>();
     for (int b = 0; b < sizes.length; b++) {
       fresh.add(new PointBlock(sizes[b], D, read.get(b).clone(), ids.get(b), 0));
