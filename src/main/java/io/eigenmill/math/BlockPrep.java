@@ -41,9 +41,14 @@ public final class BlockPrep implements Serializable {
         keep == null ? null : keep.clone());
   }
 
+  /** Whether {@link #apply} leaves every block unchanged. */
+  public boolean isIdentity() {
+    return impute == null && centre == null && keep == null;
+  }
+
   /** Applies the preparation in place to a column-major {@code rows x d} block with leading dimension ld. */
   public void apply(double[] block, int rows, int ld) {
-    if (impute == null && centre == null && keep == null) {
+    if (isIdentity()) {
       return;
     }
     int d = impute != null ? impute.length : centre != null ? centre.length : 0;

@@ -34,6 +34,8 @@ public final class Moments implements Serializable {
   private transient double[] scratch;
   private transient double[] residualScratch;
   private transient double[] gramResidualScratch;
+  /** The mean of the last block added (rounded), the origin offered for the next one; null before the first. */
+  private transient double[] lastMean;
 
   private Moments(int d, boolean gram, long n, double[] shift, double[] mean, double[] m2) {
     this.d = d;
@@ -74,6 +76,36 @@ public final class Moments implements Serializable {
    * {@code ld}. The block is centred in place (its values are changed).
    */
   public void addBlock(double[] block, int rows, int ld) {
+    add(block, rows, ld, null);
+  }
+
+  /**
+   * Where the next block may be centred before it reaches {@link #addShiftedBlock}: the mean of the last block
+   * added (rounded), or null before the first block. A reader that subtracts it while copying the rows spares the
+   * block a sweep that finds its mean and another that subtracts it; only a sum of the shifted values remains.
+   * The returned array is not changed afterwards.
+   *
+   * <p>Accuracy. A shifted value x - o is exact when o is within a factor 2 of x (Sterbenz), else rounded by at most
+   * eps |x - o|. Consecutive blocks rarely jump far, and where they do, the rounding stays small next to what the
+   * jump itself adds to the co-moments: summed over a block it perturbs that block's co-moment by at most about
+   * eps sqrt(q M2b) (q the sum of squares about o, M2b about the block's mean), and q is at most twice M2b plus the
+   * block's rows times the squared jump between two consecutive block means, a between-block term that the total
+   * co-moment contains. So the perturbation stays O(eps) relative to the total co-moment, like the merge's.
+   */
+  public double[] nextOrigin() {
+    return lastMean;
+  }
+
+  /**
+   * Adds a block of rows holding {@code x - origin[j]} instead of x: the rows of a block whose values were shifted
+   * while they were copied, {@code origin} being what {@link #nextOrigin} returned (or any finite values). The block
+   * is changed.
+   */
+  public void addShiftedBlock(double[] block, int rows, int ld, double[] origin) {
+    add(block, rows, ld, origin);
+  }
+
+  private void add(double[] block, int rows, int ld, double[] origin) {
     if (rows == 0) {
       return;
     }
@@ -83,15 +115,23 @@ public final class Moments implements Serializable {
     double[] sums = new double[2];
     for (int j = 0; j < d; j++) {
       int off = j * ld;
-      double mu = ColumnSweeps.sum(block, off, rows) / rows;
-      // centre on mu (rounded): the centred values are exact when mu is within a factor 2 of them, and their mean,
-      // the residual, is what the rounding of the sum left over; it enters the Gram and the merge below
-      ColumnSweeps.centre(block, off, rows, mu, sums);
+      double mu;
+      if (origin == null) {
+        mu = ColumnSweeps.sum(block, off, rows) / rows;
+        // centre on mu (rounded): the centred values are exact when mu is within a factor 2 of them, and their
+        // mean, the residual, is what the rounding of the sum left over; it enters the Gram and the merge below
+        ColumnSweeps.centre(block, off, rows, mu, sums);
+      } else {
+        // already centred on the origin by the copy: the residual is the block's mean relative to the origin
+        mu = origin[j];
+        ColumnSweeps.sums(block, off, rows, sums);
+      }
       double res = sums[0] / rows;
       double offset = res;
       if (rows * res * res * (1 << CANCEL_BITS) > sums[1]) {
         // the residual correction would cost more than 2^-CANCEL_BITS of the sum of squares: centre once more, on
-        // mu + res; mu stays the block's origin and the two residuals add up to its mean relative to mu
+        // mu + res; mu stays the block's origin and the two residuals add up to its mean relative to mu (with a
+        // shifted block this is where a block whose mean moved away from the previous one is centred again)
         ColumnSweeps.centre(block, off, rows, res, sums);
         res = sums[0] / rows;
         offset += res;
@@ -110,6 +150,12 @@ public final class Moments implements Serializable {
       Linalg.repeatableBlas().dsyr("U", d, -(double) rows, gramResidual, 1, m2, d);
     }
     combineMeans(centre, residual, rows);
+    // a fresh array: the caller may still hold the previous one as the origin of the block just added
+    double[] blockMean = new double[d];
+    for (int j = 0; j < d; j++) {
+      blockMean[j] = centre[j] + residual[j];
+    }
+    lastMean = blockMean;
   }
 
   /**

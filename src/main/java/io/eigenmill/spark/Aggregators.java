@@ -29,6 +29,15 @@ public final class Aggregators {
       partial.addBlock(block, rows, ld);
     }
 
+    /** The previous block's mean: the copy then does the centring's subtraction (see {@link Moments#nextOrigin}). */
+    @Override public double[] origin(Moments partial) {
+      return partial.nextOrigin();
+    }
+
+    @Override public void addShifted(Moments partial, double[] block, int rows, int ld, double[] origin) {
+      partial.addShiftedBlock(block, rows, ld, origin);
+    }
+
     @Override public Moments merge(Moments left, Moments right) {
       return left.merge(right);
     }

@@ -8,7 +8,9 @@ import java.util.Arrays;
  * Collects feature values of one partition into a column-major block of {@code capacity} rows and hands each full
  * block to an aggregator. Readers write a slice of rows column by column straight into {@link #block()} at
  * {@link #base()}, mark missing cells, then {@link #commit} the slice. One block and one flag array per partition:
- * no allocation per row.
+ * no allocation per row. When the preparation leaves blocks unchanged and the aggregator names an origin for the next
+ * block ({@link BlockAggregator#origin}), readers write the values minus that origin: the copy then does the
+ * subtraction a centring sweep would do.
  */
 final class BlockFiller<A extends Serializable> implements PartitionPasses.SliceSink {
   private final int d;
@@ -22,6 +24,10 @@ final class BlockFiller<A extends Serializable> implements PartitionPasses.Slice
   private final BlockAggregator<A> aggregator;
   private final A partial;
   private final ReadCounts counts;
+  /** Whether blocks may be shifted: only when the preparation leaves them as read. */
+  private final boolean shifts;
+  /** The origin of the block being filled, or null. */
+  private double[] origin;
 
   BlockFiller(int d, int capacity, ReadMode mode, BlockPrep prep, BlockAggregator<A> aggregator) {
     this.d = d;
@@ -33,6 +39,7 @@ final class BlockFiller<A extends Serializable> implements PartitionPasses.Slice
     this.aggregator = aggregator;
     this.partial = aggregator.zero();
     this.counts = new ReadCounts(d);
+    this.shifts = prep.isIdentity();
   }
 
   @Override
@@ -52,10 +59,18 @@ final class BlockFiller<A extends Serializable> implements PartitionPasses.Slice
     return fill;
   }
 
-  /** How many of {@code wanted} rows fit in the current block. */
+  /** How many of {@code wanted} rows fit in the current block; an empty block takes its origin now. */
   @Override
   public int room(int wanted) {
+    if (fill == 0) {
+      origin = shifts ? aggregator.origin(partial) : null;
+    }
     return Math.min(wanted, capacity - fill);
+  }
+
+  @Override
+  public double[] origin() {
+    return origin;
   }
 
   /** Marks cell (row {@code base() + i}, column j) missing and stores NaN there. */
@@ -94,43 +109,62 @@ final class BlockFiller<A extends Serializable> implements PartitionPasses.Slice
    * Removes the rows of slice {@code [from, from + t)} flagged in {@code bad} from every column of a column-major
    * block (leading dimension {@code ld}), keeping the order of the others, and moves {@code origins} along when it
    * is not null. Rows before the first flagged one stay where they are. Returns the rows kept.
+   *
+   * <p>The flags are read once; each column then moves the runs of kept rows between flagged ones with
+   * {@code System.arraycopy}. Flagged rows are few where they occur at all (a missing cell here and there), and a
+   * loop that tests and moves every value after the first one cost a tenth of a covariance fit's task time on a
+   * table with 1.6% of its rows incomplete (JFR, 2 M x 100); the runs cost a fraction of that.
    */
   static int compact(double[] block, int d, int ld, int from, int t, boolean[] bad, int[] origins) {
-    int first = -1;
     int dropped = 0;
     for (int i = 0; i < t; i++) {
       if (bad[from + i]) {
         dropped++;
-        first = first < 0 ? i : first;
       }
     }
-    if (first < 0) {
+    if (dropped == 0) {
       return t;
     }
-    for (int j = 0; j < d; j++) {
-      int off = j * ld + from;
-      int w = first;
-      for (int i = first; i < t; i++) {
-        if (!bad[from + i]) {
-          block[off + w++] = block[off + i];
-        }
+    int[] flagged = new int[dropped + 1];
+    for (int i = 0, k = 0; i < t; i++) {
+      if (bad[from + i]) {
+        flagged[k++] = i;
       }
     }
+    flagged[dropped] = t;
+    for (int j = 0; j < d; j++) {
+      moveRuns(block, j * ld + from, flagged);
+    }
     if (origins != null) {
-      int w = first;
-      for (int i = first; i < t; i++) {
-        if (!bad[from + i]) {
-          origins[from + w++] = origins[from + i];
-        }
-      }
+      moveRuns(origins, from, flagged);
     }
     return t - dropped;
   }
 
+  /**
+   * Moves the runs between the flagged rows of {@code flagged} (increasing slice rows, ended by the slice length) of
+   * the slice starting at {@code off} down over the flagged rows ({@code a} is a double[] or an int[]).
+   */
+  private static void moveRuns(Object a, int off, int[] flagged) {
+    int w = flagged[0];
+    for (int k = 0; k + 1 < flagged.length; k++) {
+      int start = flagged[k] + 1;
+      int run = flagged[k + 1] - start;
+      if (run > 0) {
+        System.arraycopy(a, off + start, a, off + w, run);
+        w += run;
+      }
+    }
+  }
+
   private void flush() {
     if (fill > 0) {
-      prep.apply(block, fill, capacity);
-      aggregator.add(partial, block, fill, capacity);
+      if (origin != null) {
+        aggregator.addShifted(partial, block, fill, capacity, origin);
+      } else {
+        prep.apply(block, fill, capacity);
+        aggregator.add(partial, block, fill, capacity);
+      }
       fill = 0;
     }
   }

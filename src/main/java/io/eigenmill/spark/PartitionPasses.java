@@ -94,43 +94,46 @@ final class PartitionPasses {
   /**
    * Copies rows {@code start .. start + t - 1} of a batch column of type {@code kind} into column j of the sink's
    * next slice, as doubles (exact widening for integers and floats, {@code Decimal.toDouble} for decimals: the
-   * values a cast to double gives), and reports the missing cells.
+   * values a cast to double gives) minus the sink's origin for the column (0 when it has none: x - 0 is x, bit for
+   * bit), and reports the missing cells.
    */
   static void copyColumn(ColumnVector v, int kind, int start, int t, BlockSink filler, int j) {
     double[] dst = filler.block();
     int off = j * filler.ld() + filler.base();
+    double[] origin = filler.origin();
+    double o = origin == null ? 0.0 : origin[j];
     switch (kind) {
       case DOUBLE:
       case FLOAT:
-        if (copyFloating(v, kind, start, t, dst, off) || v.hasNull()) {
-          markFloating(v, start, t, dst, off, filler, j);
+        if (copyFloating(v, kind, start, t, dst, off, o) || v.hasNull()) {
+          markFloating(v, kind, start, t, filler, j);
         }
         return;
       case INT:
         for (int i = 0; i < t; i++) {
-          dst[off + i] = v.getInt(start + i);
+          dst[off + i] = v.getInt(start + i) - o;
         }
         break;
       case LONG:
         for (int i = 0; i < t; i++) {
-          dst[off + i] = v.getLong(start + i);
+          dst[off + i] = v.getLong(start + i) - o;
         }
         break;
       case SHORT:
         for (int i = 0; i < t; i++) {
-          dst[off + i] = v.getShort(start + i);
+          dst[off + i] = v.getShort(start + i) - o;
         }
         break;
       case BYTE:
         for (int i = 0; i < t; i++) {
-          dst[off + i] = v.getByte(start + i);
+          dst[off + i] = v.getByte(start + i) - o;
         }
         break;
       default:
         DecimalType dt = (DecimalType) v.dataType();
         for (int i = 0; i < t; i++) {
           dst[off + i] = v.isNullAt(start + i) ? 0.0
-              : v.getDecimal(start + i, dt.precision(), dt.scale()).toDouble();
+              : v.getDecimal(start + i, dt.precision(), dt.scale()).toDouble() - o;
         }
         break;
     }
@@ -144,10 +147,11 @@ final class PartitionPasses {
   }
 
   /**
-   * Copies a double or float column and reports whether a copied value is NaN or infinite, in the same sweep: x * 0
-   * is 0 for a finite x and NaN otherwise, summed in four chains (no branch per value, no wait on one adder).
+   * Copies a double or float column minus {@code o} and reports whether a value read is NaN or infinite, in the same
+   * sweep: x * 0 is 0 for a finite x and NaN otherwise, summed in four chains (no branch per value, no wait on one
+   * adder).
    */
-  private static boolean copyFloating(ColumnVector v, int kind, int start, int t, double[] dst, int off) {
+  private static boolean copyFloating(ColumnVector v, int kind, int start, int t, double[] dst, int off, double o) {
     double z0 = 0;
     double z1 = 0;
     double z2 = 0;
@@ -159,10 +163,10 @@ final class PartitionPasses {
         double x1 = v.getDouble(start + i + 1);
         double x2 = v.getDouble(start + i + 2);
         double x3 = v.getDouble(start + i + 3);
-        dst[off + i] = x0;
-        dst[off + i + 1] = x1;
-        dst[off + i + 2] = x2;
-        dst[off + i + 3] = x3;
+        dst[off + i] = x0 - o;
+        dst[off + i + 1] = x1 - o;
+        dst[off + i + 2] = x2 - o;
+        dst[off + i + 3] = x3 - o;
         z0 += x0 * 0.0;
         z1 += x1 * 0.0;
         z2 += x2 * 0.0;
@@ -171,19 +175,25 @@ final class PartitionPasses {
     }
     for (; i < t; i++) {
       double x = kind == DOUBLE ? v.getDouble(start + i) : v.getFloat(start + i);
-      dst[off + i] = x;
+      dst[off + i] = x - o;
       z0 += x * 0.0;
     }
     return (z0 + z1) + (z2 + z3) != 0.0;
   }
 
-  /** Marks the null, NaN and infinite cells of a copied floating column (null cells hold an undefined value). */
-  private static void markFloating(ColumnVector v, int start, int t, double[] dst, int off, BlockSink filler,
-      int j) {
+  /**
+   * Marks the null, NaN and infinite cells of a copied floating column (null cells hold an undefined value). Reads
+   * the values again: a copy shifted by an origin is not what decides.
+   */
+  private static void markFloating(ColumnVector v, int kind, int start, int t, BlockSink filler, int j) {
     boolean nulls = v.hasNull();
     for (int i = 0; i < t; i++) {
-      double x = dst[off + i];
-      if ((nulls && v.isNullAt(start + i)) || x - x != 0.0) {
+      if (nulls && v.isNullAt(start + i)) {
+        filler.markMissing(i, j);
+        continue;
+      }
+      double x = kind == DOUBLE ? v.getDouble(start + i) : v.getFloat(start + i);
+      if (x - x != 0.0) {
         filler.markMissing(i, j);
       }
     }
@@ -208,13 +218,14 @@ final class PartitionPasses {
         double[] dst = filler.block();
         int base = filler.base();
         int ld = filler.ld();
+        double[] origin = filler.origin();
         for (int j = 0; j < d; j++) {
           if (row.isNullAt(j)) {
             filler.markMissing(0, j);
             continue;
           }
           double x = row.getDouble(j);
-          dst[j * ld + base] = x;
+          dst[j * ld + base] = origin == null ? x : x - origin[j];
           if (Double.isNaN(x) || Double.isInfinite(x)) {
             filler.markMissing(0, j);
           }

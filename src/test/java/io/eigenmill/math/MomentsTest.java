@@ -100,6 +100,114 @@ class MomentsTest {
     }
   }
 
+  /**
+   * Adds blocks to {@code m} the way the columnar reader does when the moments name an origin: the first block as
+   * read, each later one with {@link Moments#nextOrigin} subtracted from its rows (the same subtraction, x - o, that
+   * the copy makes) through {@link Moments#addShiftedBlock}.
+   */
+  static MathFixtures.BlockSink shifted(Moments m) {
+    return (block, rows, ld) -> {
+      double[] origin = m.nextOrigin();
+      if (origin == null) {
+        m.addBlock(block, rows, ld);
+        return;
+      }
+      for (int j = 0; j < origin.length; j++) {
+        for (int i = 0; i < rows; i++) {
+          block[j * ld + i] -= origin[j];
+        }
+      }
+      m.addShiftedBlock(block, rows, ld, origin);
+    };
+  }
+
+  @Test
+  void shiftedBlocksMatchCommonsMathTwoPassCovariance() {
+    double[] x = data(N, D, 11);
+    for (int[] sizes : new int[][] {{137, 1, 64, 500, 1, 2}, {1}, {16}, {N}}) {
+      Moments m = Moments.empty(D, true);
+      MathFixtures.feed(x, N, D, sizes, 3, shifted(m));
+      assertEquals(N, m.count());
+      assertMeansClose(x, N, D, m.mean());
+      assertCovarianceClose(commonsCovariance(x, N, D), m.covariance(), m.mean(), N, D);
+    }
+  }
+
+  @Test
+  void theOriginOfferedIsTheLastBlocksMeanAndStaysAsGiven() {
+    double[] x = data(N, D, 14);
+    Moments m = Moments.empty(D, true);
+    assertEquals(null, m.nextOrigin(), "no origin before the first block");
+    MathFixtures.feed(MathFixtures.rows(x, N, D, 0, 300), 300, D, new int[] {300}, 0, m::addBlock);
+    double[] first = m.nextOrigin();
+    double[] kept = first.clone();
+    for (int j = 0; j < D; j++) {
+      // the first 300 rows of the N-row matrix are the block; its mean within gamma_300 max|x| (Higham 2002, eq. 4.4)
+      double expected = 0;
+      for (int i = 0; i < 300; i++) {
+        expected += x[i + j * N];
+      }
+      expected /= 300;
+      assertEquals(expected, first[j], 4 * gamma(300) * maxAbs(x, N, j), "origin of column " + j);
+    }
+    double[] next = MathFixtures.block(x, N, D, 300, 200, 200);
+    for (int j = 0; j < D; j++) {
+      for (int i = 0; i < 200; i++) {
+        next[j * 200 + i] -= first[j];
+      }
+    }
+    m.addShiftedBlock(next, 200, 200, first);
+    assertArrayEquals(kept, first, 0.0, "the origin handed out is not changed by the block it shifted");
+    assertTrue(m.nextOrigin() != first, "a new array for the next block");
+  }
+
+  /**
+   * Blocks whose means jump by up to nine orders of magnitude from one block to the next (levels 1e9, 0, 1e9 + 5,
+   * -3e6 in turn; spread 1e-3 to 10), fed with shifts: a value x - o with o the previous block's mean is then rounded
+   * by up to u |x - o|. Moments.nextOrigin's comment bounds what that costs by about eps times the total co-moment;
+   * asserted against the exact covariance (BigDecimal) with the class's bound plus 8u sqrt(C_aa C_bb) per jump
+   * counted once per block pair (a factor 2 margin on the 4u of the comment's bound, sum of q over two blocks).
+   */
+  @Test
+  void shiftsAcrossJumpingBlockMeansStayWithinEpsOfTheTotal() {
+    int blockRows = 50;
+    int blocks = 24;
+    int n = blockRows * blocks;
+    int d = 3;
+    double[] levels = {1e9, 0, 1e9 + 5, -3e6};
+    Random random = new Random(31);
+    double[] x = new double[n * d];
+    for (int b = 0; b < blocks; b++) {
+      for (int i = b * blockRows; i < (b + 1) * blockRows; i++) {
+        double g = random.nextGaussian();
+        x[i] = levels[b % 4] + 1e-3 * g;
+        x[i + n] = levels[(b + 1) % 4] * 1e-3 + 10 * random.nextGaussian();
+        x[i + 2 * n] = 2.5 * g + random.nextGaussian();
+      }
+    }
+    double[] exact = MathFixtures.exactCovariance(x, n, d);
+    for (boolean gram : new boolean[] {true, false}) {
+      Moments m = Moments.empty(d, gram);
+      MathFixtures.feed(x, n, d, new int[] {blockRows}, 1, shifted(m));
+      double[] v = m.variances();
+      for (int a = 0; a < d; a++) {
+        double truth = exact[a + a * d];
+        double tol = (gamma(n + 8 * blocks) + 8 * U * blocks) * truth;
+        assertEquals(truth, v[a], tol, "variance of column " + a + ", gram " + gram);
+      }
+      if (gram) {
+        double[] c = m.covariance();
+        for (int a = 0; a < d; a++) {
+          for (int b = 0; b < d; b++) {
+            double scale = Math.sqrt(exact[a + a * d] * exact[b + b * d]);
+            double tol = (gamma(n + 8 * blocks) + 8 * U * blocks) * scale;
+            assertEquals(exact[a + b * d], c[a + b * d], tol, "covariance (" + a + ", " + b + ")");
+          }
+        }
+      }
+    }
+  }
+
   @Test
   void blockUpdatesMatchCommonsMathTwoPassCovariance() {
     double[] x = data(N, D, 11);
@@ -383,22 +491,26 @@ class MomentsTest {
     double[] x = offsetData();
     double[] exact = MathFixtures.exactCovariance(x, STABLE_N, STABLE_D);
     for (int[] sizes : new int[][] {{1}, {10}, {64}, {17, 1, 250}, {STABLE_N}}) {
-      for (boolean gram : new boolean[] {true, false}) {
+      for (int variant = 0; variant < 4; variant++) {
+        // gram or diagonal only; blocks as read or shifted by the previous block's mean (the columnar reader's way)
+        boolean gram = variant % 2 == 0;
+        boolean shift = variant >= 2;
         Moments left = Moments.empty(STABLE_D, gram);
         Moments right = Moments.empty(STABLE_D, gram);
         int half = 1234;
         MathFixtures.feed(MathFixtures.rows(x, STABLE_N, STABLE_D, 0, half), half, STABLE_D, sizes, 1,
-            left::addBlock);
+            shift ? shifted(left) : left::addBlock);
         int rest = STABLE_N - half;
         MathFixtures.feed(MathFixtures.rows(x, STABLE_N, STABLE_D, half, rest), rest, STABLE_D, sizes, 1,
-            right::addBlock);
+            shift ? shifted(right) : right::addBlock);
         double[] v = left.merge(right).variances();
         double blocks = 2.0 + STABLE_N / (double) sizes[0];
         double derived = gamma(STABLE_N + 8 * blocks);
         for (int j = 0; j < STABLE_D; j++) {
           double truth = exact[j + j * STABLE_D];
           double rel = Math.abs(v[j] - truth) / truth;
-          String what = "column " + j + ", blocks " + java.util.Arrays.toString(sizes) + ", gram " + gram;
+          String what = "column " + j + ", blocks " + java.util.Arrays.toString(sizes) + ", gram " + gram
+              + ", shifted " + shift;
           assertTrue(rel < 1e-6, what + ": relative error " + rel + " >= 1e-6");
           assertTrue(rel <= derived, what + ": relative error " + rel + " > derived bound " + derived);
         }
