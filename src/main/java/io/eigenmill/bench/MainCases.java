@@ -170,7 +170,8 @@ final class MainCases {
     }
     return timed(c, () -> new FitJob(spark, plan).execute(TableLoader.load(spark, settings.input())),
         (FitResult f) -> f.passes() + (f.passes() == 1 ? " pass, " : " passes, ") + (f.columnarRead()
-            ? "columnar batches" : "Row path") + ", k = " + f.model().k() + ", " + f.blas() + " ("
+            ? "columnar batches (column copy " + io.eigenmill.math.ShiftedCopy.best().describe() + ")"
+            : "Row path") + ", k = " + f.model().k() + ", " + f.blas() + " ("
             + stages(f.timings()) + ")").keeping(r -> fits.put(method, r));
   }
 

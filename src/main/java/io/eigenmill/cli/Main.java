@@ -54,7 +54,8 @@ public final class Main {
     }
     if (a.command().equals("version")) {
       out.println("eigenmill " + Version.current() + " (" + Linalg.describe() + "; nearest-centroid kernel "
-          + io.eigenmill.math.NearestKeys.best().describe() + ")");
+          + io.eigenmill.math.NearestKeys.best().describe() + "; column copy "
+          + io.eigenmill.math.ShiftedCopy.best().describe() + ")");
       return OK;
     }
     Set<String> secrets = new LinkedHashSet<>(Redaction.secretValuesOfSets(a.sets()));

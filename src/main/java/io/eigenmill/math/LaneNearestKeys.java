@@ -18,7 +18,7 @@ import jdk.incubator.vector.VectorSpecies;
 final class LaneNearestKeys implements NearestKeys {
   private static final VectorSpecies<Double> LANES = DoubleVector.SPECIES_PREFERRED;
 
-  int lanes() {
+  static int lanes() {
     return LANES.length();
   }
 

@@ -36,6 +36,8 @@ public final class Moments implements Serializable {
   private transient double[] gramResidualScratch;
   /** The mean of the last block added (rounded), the origin offered for the next one; null before the first. */
   private transient double[] lastMean;
+  /** The (d + 1) x (d + 1) Gram of a shifted block and its column of ones. */
+  private transient double[] augmented;
 
   private Moments(int d, boolean gram, long n, double[] shift, double[] mean, double[] m2) {
     this.d = d;
@@ -82,15 +84,21 @@ public final class Moments implements Serializable {
   /**
    * Where the next block may be centred before it reaches {@link #addShiftedBlock}: the mean of the last block
    * added (rounded), or null before the first block. A reader that subtracts it while copying the rows spares the
-   * block a sweep that finds its mean and another that subtracts it; only a sum of the shifted values remains.
-   * The returned array is not changed afterwards.
+   * block every sweep: its column sums come from the same {@code dsyrk} as its Gram (see addShiftedBlock). The
+   * returned array is not changed afterwards.
    *
-   * <p>Accuracy. A shifted value x - o is exact when o is within a factor 2 of x (Sterbenz), else rounded by at most
-   * eps |x - o|. Consecutive blocks rarely jump far, and where they do, the rounding stays small next to what the
-   * jump itself adds to the co-moments: summed over a block it perturbs that block's co-moment by at most about
-   * eps sqrt(q M2b) (q the sum of squares about o, M2b about the block's mean), and q is at most twice M2b plus the
-   * block's rows times the squared jump between two consecutive block means, a between-block term that the total
-   * co-moment contains. So the perturbation stays O(eps) relative to the total co-moment, like the merge's.
+   * <p>Accuracy, relative to the total co-moment M of a column (or sqrt(M_aa M_bb) off the diagonal), as for the
+   * merge. Block b (r rows, mean m_b) arrives shifted by o = m_(b-1) rounded, so its sum of squares about o is
+   * q_b = M_b + r (m_b - o)^2, and the block's co-moment is taken as q_b - r res^2 (res = m_b - o): an error of
+   * a few gamma_r q_b, large next to M_b when the block jumped away from the previous one, but not next to M.
+   * The previous block is full (blocks are handed over when full, only the last may be short), so the pair of
+   * blocks has co-moment M_(b-1,b) >= M_b + (r / 2) (m_b - m_(b-1))^2, and r res^2 <= 2 M_(b-1,b) up to the
+   * rounding of o (u |m_(b-1)|, below the spread whenever the spread is representable at that magnitude). A pair's
+   * co-moment about its own mean is at most its sum of squares about the total mean, and every block is in two
+   * pairs, so the sum over blocks of q_b is at most M + 4 M = 5 M: the shifted blocks together add at most about
+   * 5 gamma_r M. The shift itself, x - o, is exact when o is within a factor 2 of x (Sterbenz), else rounded by at
+   * most u |x - o|, which the same sum bounds. No block needs a second centring for this (unlike the first block,
+   * centred on its own computed mean, whose rounding is not a between-block term).
    */
   public double[] nextOrigin() {
     return lastMean;
@@ -98,11 +106,46 @@ public final class Moments implements Serializable {
 
   /**
    * Adds a block of rows holding {@code x - origin[j]} instead of x: the rows of a block whose values were shifted
-   * while they were copied, {@code origin} being what {@link #nextOrigin} returned (or any finite values). The block
-   * is changed.
+   * while they were copied, {@code origin} being what {@link #nextOrigin} returned (or any finite values). Column d
+   * of the block (after the d feature columns, same leading dimension) must hold 1.0 in its first {@code rows}
+   * rows: one {@code dsyrk} of the d + 1 columns then gives the Gram about the origin and, in its last column, the
+   * column sums; the block is only read. (Without the Gram, only variances, the sums are swept as for any block.)
+   *
+   * @throws IllegalArgumentException when column d does not sum to {@code rows}
    */
   public void addShiftedBlock(double[] block, int rows, int ld, double[] origin) {
-    add(block, rows, ld, origin);
+    if (rows == 0) {
+      return;
+    }
+    if (!gram) {
+      add(block, rows, ld, origin);
+      return;
+    }
+    int e = d + 1;
+    if (augmented == null) {
+      augmented = new double[e * e];
+    }
+    double[] g = augmented;
+    Linalg.blas().dsyrk("U", "T", e, rows, 1.0, block, ld, 0.0, g, e);
+    if (g[d + d * e] != rows) {
+      throw new IllegalArgumentException("column " + d + " of a shifted block of " + rows
+          + " rows must hold ones; its squares sum to " + g[d + d * e]);
+    }
+    double[] res = scratch();
+    for (int j = 0; j < d; j++) {
+      res[j] = g[j + d * e] / rows;
+    }
+    // the block's Gram about its mean, origin + res: the Gram about the origin minus rows res res^T
+    for (int j = 0; j < d; j++) {
+      double rj = rows * res[j];
+      int gj = j * e;
+      int mj = j * d;
+      for (int i = 0; i <= j; i++) {
+        m2[mj + i] += g[gj + i] - rj * res[i];
+      }
+    }
+    combineMeans(origin, res, rows);
+    keepMean(origin, res);
   }
 
   private void add(double[] block, int rows, int ld, double[] origin) {
@@ -122,7 +165,7 @@ public final class Moments implements Serializable {
         // mean, the residual, is what the rounding of the sum left over; it enters the Gram and the merge below
         ColumnSweeps.centre(block, off, rows, mu, sums);
       } else {
-        // already centred on the origin by the copy: the residual is the block's mean relative to the origin
+        // variances only, of a block centred on the origin by the copy: the residual is its mean relative to it
         mu = origin[j];
         ColumnSweeps.sums(block, off, rows, sums);
       }
@@ -130,8 +173,7 @@ public final class Moments implements Serializable {
       double offset = res;
       if (rows * res * res * (1 << CANCEL_BITS) > sums[1]) {
         // the residual correction would cost more than 2^-CANCEL_BITS of the sum of squares: centre once more, on
-        // mu + res; mu stays the block's origin and the two residuals add up to its mean relative to mu (with a
-        // shifted block this is where a block whose mean moved away from the previous one is centred again)
+        // mu + res; mu stays the block's origin and the two residuals add up to its mean relative to mu
         ColumnSweeps.centre(block, off, rows, res, sums);
         res = sums[0] / rows;
         offset += res;
@@ -150,10 +192,17 @@ public final class Moments implements Serializable {
       Linalg.repeatableBlas().dsyr("U", d, -(double) rows, gramResidual, 1, m2, d);
     }
     combineMeans(centre, residual, rows);
-    // a fresh array: the caller may still hold the previous one as the origin of the block just added
+    keepMean(centre, residual);
+  }
+
+  /**
+   * Keeps origin + residual, the mean of the block just added, as the next origin (a fresh array: the caller may
+   * still hold the previous one).
+   */
+  private void keepMean(double[] origin, double[] residual) {
     double[] blockMean = new double[d];
     for (int j = 0; j < d; j++) {
-      blockMean[j] = centre[j] + residual[j];
+      blockMean[j] = origin[j] + residual[j];
     }
     lastMean = blockMean;
   }

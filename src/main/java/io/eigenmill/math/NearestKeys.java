@@ -12,9 +12,7 @@ package io.eigenmill.math;
  * faster on 8 lanes. They give the same keys bit for bit whenever every squared distance is a number (rows and
  * centroids finite, their norms below about 1e154): the additions are the same IEEE operations in the same order,
  * and the lanes take the minimum of the keys viewed as doubles, which orders them as their bits do. {@link #best}
- * picks the SIMD kernel when the JVM resolved {@code jdk.incubator.vector} (the launchers pass
- * {@code --add-modules=jdk.incubator.vector}; see the README for spark-submit) and it has at least 4 double lanes,
- * unless the system property {@code eigenmill.simd} is {@code off}.
+ * picks one by the rule of {@link SimdChoice}.
  */
 public interface NearestKeys {
   /**
@@ -77,25 +75,14 @@ public interface NearestKeys {
 
   /** Lazy holder of the chosen kernel. */
   final class Chosen {
-    static final NearestKeys KERNEL = choose(System.getProperty("eigenmill.simd", "auto"),
-        ModuleLayer.boot().findModule("jdk.incubator.vector").isPresent());
+    static final NearestKeys KERNEL = choose(SimdChoice.SETTING, SimdChoice.MODULE);
 
     private Chosen() {}
 
-    /**
-     * The SIMD kernel unless {@code setting} is "off", the vector module is absent, it cannot be loaded, or it has
-     * fewer than 4 double lanes (where it would not pay); the scalar kernel otherwise.
-     */
+    /** By the rule of {@link SimdChoice}. */
     static NearestKeys choose(String setting, boolean moduleResolved) {
-      if ("off".equalsIgnoreCase(setting) || !moduleResolved) {
-        return new Scalar();
-      }
-      try {
-        LaneNearestKeys lanes = new LaneNearestKeys();
-        return lanes.lanes() >= 4 ? lanes : new Scalar();
-      } catch (LinkageError e) {
-        return new Scalar();
-      }
+      return SimdChoice.choose(setting, moduleResolved,
+          () -> LaneNearestKeys.lanes() >= SimdChoice.MIN_LANES ? new LaneNearestKeys() : null, new Scalar());
     }
   }
 }

@@ -24,8 +24,9 @@ public interface BlockAggregator<A extends Serializable> extends Serializable {
   }
 
   /**
-   * Adds a block whose values are {@code x - origin[j]}, {@code origin} being what {@link #origin} returned for it.
-   * Only called on aggregators whose {@link #origin} returns non-null values.
+   * Adds a block whose values are {@code x - origin[j]}, {@code origin} being what {@link #origin} returned for it;
+   * column d of the block (after the d feature columns) holds 1.0 in its first {@code rows} rows. Only called on
+   * aggregators whose {@link #origin} returns non-null values.
    */
   default void addShifted(A partial, double[] block, int rows, int ld, double[] origin) {
     throw new UnsupportedOperationException(getClass().getSimpleName() + " takes unshifted blocks only");

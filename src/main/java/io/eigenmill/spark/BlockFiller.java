@@ -32,14 +32,18 @@ final class BlockFiller<A extends Serializable> implements PartitionPasses.Slice
   BlockFiller(int d, int capacity, ReadMode mode, BlockPrep prep, BlockAggregator<A> aggregator) {
     this.d = d;
     this.capacity = capacity;
-    this.block = new double[capacity * Math.max(1, d)];
+    this.shifts = prep.isIdentity();
+    // shifted blocks carry a column of ones after the features (BlockAggregator.addShifted); compaction leaves it
+    this.block = new double[capacity * (shifts ? d + 1 : Math.max(1, d))];
+    if (shifts) {
+      Arrays.fill(block, capacity * d, capacity * (d + 1), 1.0);
+    }
     this.bad = new boolean[capacity];
     this.mode = mode;
     this.prep = prep;
     this.aggregator = aggregator;
     this.partial = aggregator.zero();
     this.counts = new ReadCounts(d);
-    this.shifts = prep.isIdentity();
   }
 
   @Override

@@ -54,14 +54,16 @@ class CommandLineTest extends SparkSuite {
   }
 
   @Test
-  void versionNamesTheBlasAndTheNearestCentroidKernel() {
+  void versionNamesTheBlasAndTheSimdKernels() {
     CommandRun o = CommandRun.of("version");
     assertEquals(0, o.code(), o.err());
-    // the suite's JVM resolves jdk.incubator.vector (the pom's argLine), so the kernel is the SIMD one
+    // the suite's JVM resolves jdk.incubator.vector (the pom's argLine), so the kernels are the SIMD ones
     assertTrue(o.out().matches("eigenmill \\S+ \\(BLAS .*, LAPACK .*; nearest-centroid kernel "
-        + "(SIMD, \\d+ double lanes|scalar)\\)\\n"), o.out());
+        + "(SIMD, \\d+ double lanes|scalar); column copy (SIMD, \\d+ double lanes|scalar)\\)\\n"), o.out());
     assertEquals(io.eigenmill.math.NearestKeys.best().describe(),
-        o.out().replaceAll("(?s).*nearest-centroid kernel (.*)\\)\\n", "$1"));
+        o.out().replaceAll("(?s).*nearest-centroid kernel (.*); column copy.*", "$1"));
+    assertEquals(io.eigenmill.math.ShiftedCopy.best().describe(),
+        o.out().replaceAll("(?s).*column copy (.*)\\)\\n", "$1"));
   }
 
   @Test

@@ -103,7 +103,7 @@ class MomentsTest {
   /**
    * Adds blocks to {@code m} the way the columnar reader does when the moments name an origin: the first block as
    * read, each later one with {@link Moments#nextOrigin} subtracted from its rows (the same subtraction, x - o, that
-   * the copy makes) through {@link Moments#addShiftedBlock}.
+   * the copy makes) and a column of ones after them, through {@link Moments#addShiftedBlock}.
    */
   static MathFixtures.BlockSink shifted(Moments m) {
     return (block, rows, ld) -> {
@@ -112,12 +112,16 @@ class MomentsTest {
         m.addBlock(block, rows, ld);
         return;
       }
-      for (int j = 0; j < origin.length; j++) {
+      int d = origin.length;
+      double[] withOnes = java.util.Arrays.copyOf(block, (d + 1) * ld);
+      for (int j = 0; j < d; j++) {
         for (int i = 0; i < rows; i++) {
-          block[j * ld + i] -= origin[j];
+          withOnes[j * ld + i] -= origin[j];
         }
       }
-      m.addShiftedBlock(block, rows, ld, origin);
+      java.util.Arrays.fill(withOnes, d * ld, d * ld + rows, 1.0);
+      java.util.Arrays.fill(withOnes, d * ld + rows, (d + 1) * ld, Double.NaN);
+      m.addShiftedBlock(withOnes, rows, ld, origin);
     };
   }
 
@@ -156,9 +160,16 @@ class MomentsTest {
         next[j * 200 + i] -= first[j];
       }
     }
+    next = java.util.Arrays.copyOf(next, (D + 1) * 200);
+    java.util.Arrays.fill(next, D * 200, (D + 1) * 200, 1.0);
     m.addShiftedBlock(next, 200, 200, first);
     assertArrayEquals(kept, first, 0.0, "the origin handed out is not changed by the block it shifted");
     assertTrue(m.nextOrigin() != first, "a new array for the next block");
+    double[] noOnes = java.util.Arrays.copyOf(MathFixtures.block(x, N, D, 500, 10, 10), (D + 1) * 10);
+    double[] origin = m.nextOrigin();
+    IllegalArgumentException e = assertThrows(IllegalArgumentException.class,
+        () -> m.addShiftedBlock(noOnes.clone(), 10, 10, origin));
+    assertEquals("column 9 of a shifted block of 10 rows must hold ones; its squares sum to 0.0", e.getMessage());
   }
 
   /**
