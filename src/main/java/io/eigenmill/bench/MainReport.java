@@ -27,6 +27,15 @@ final class MainReport {
         caseRows(r))).append('\n');
     s.append("### Ratios and targets\n\nRatios of median times (the last one of within-cluster sums of squares).\n\n");
     s.append(Report.table(List.of("ratio", "value", "target", "verdict"), ratioRows(r.ratios()))).append('\n');
+    List<String> pairs = inTurnLines(r.ratios());
+    if (!pairs.isEmpty()) {
+      s.append("Sides timed in turn, repetition by repetition (each repetition over the other side's repetition "
+          + "timed next to it: a slow spell of the machine falls on both):\n\n");
+      for (String line : pairs) {
+        s.append("- ").append(line).append('\n');
+      }
+      s.append('\n');
+    }
     if (!r.accuracy().isEmpty()) {
       s.append("### Accuracy\n\nExplained-variance ratios of the first components; the largest principal angle "
           + "between each method's loadings and the covariance method's, over all k = 10 components and over the "
@@ -49,6 +58,25 @@ final class MainReport {
           Integer.toString(c.timing().repetitions()), c.notes(), c.which().timed()));
     }
     return rows;
+  }
+
+  /** "fit-covariance / read-floor: 1.18, 1.10, 1.20 (target <= 1.20: met by 3 of 3)" for each ratio timed in turn. */
+  static List<String> inTurnLines(List<Ratio> ratios) {
+    List<String> lines = new ArrayList<>();
+    for (Ratio q : ratios) {
+      if (q.inTurn().length == 0) {
+        continue;
+      }
+      List<String> values = new ArrayList<>();
+      int met = 0;
+      for (double v : q.inTurn()) {
+        values.add(Report.number(v));
+        met += new Ratio(q.name(), v, q.target()).met() ? 1 : 0;
+      }
+      lines.add(q.name() + ": " + String.join(", ", values) + (q.target() == null ? ""
+          : " (target " + q.target().describe() + ": met by " + met + " of " + values.size() + ")"));
+    }
+    return lines;
   }
 
   static List<List<String>> ratioRows(List<Ratio> ratios) {
@@ -109,6 +137,9 @@ final class MainReport {
     for (Ratio q : r.ratios()) {
       System.out.printf(Locale.ROOT, "bench: %-48s %10s  %-8s %s%n", q.name(), Report.number(q.value()),
           q.target() == null ? "" : q.target().describe(), q.verdict());
+    }
+    for (String line : inTurnLines(r.ratios())) {
+      System.out.println("bench: in turn, " + line);
     }
     for (MethodAccuracy a : r.accuracy()) {
       System.out.printf(Locale.ROOT, "bench: accuracy %-12s ratios %s  largest angle k = 10: %s, first 3: %s; "

@@ -8,8 +8,18 @@ import java.util.Locale;
  * @param name what is divided by what, e.g. "fit-covariance / read-floor"
  * @param value the ratio of the medians (or of the within-SS for the quality ratio)
  * @param target null when the ratio is informative only
+ * @param inTurn when the two sides were timed in turn ({@link MainCases#PAIRS}), the ratio of each repetition pair
+ *     (repetition i of one side over repetition i of the other, timed next to each other); empty otherwise
  */
-public record Ratio(String name, double value, Target target) {
+public record Ratio(String name, double value, Target target, double[] inTurn) {
+
+  public Ratio {
+    inTurn = inTurn.clone();
+  }
+
+  public Ratio(String name, double value, Target target) {
+    this(name, value, target, new double[0]);
+  }
 
   /**
    * A bound on a ratio. {@code atMost}: met when value <= bound (our time over a floor); otherwise met when

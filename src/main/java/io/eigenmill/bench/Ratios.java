@@ -77,8 +77,27 @@ final class Ratios {
 
   private void over(BenchCase top, BenchCase bottom, Target target) {
     if (has(top, bottom)) {
-      add(top.word() + " / " + bottom.word(), median(top) / median(bottom), target);
+      out.add(new Ratio(top.word() + " / " + bottom.word(), median(top) / median(bottom), target,
+          inTurn(top, bottom)));
     }
+  }
+
+  /**
+   * Repetition i of {@code top} over repetition i of {@code bottom}, when the two were timed in turn (same number of
+   * repetitions, a pair of {@link MainCases#PAIRS}); empty otherwise.
+   */
+  private double[] inTurn(BenchCase top, BenchCase bottom) {
+    boolean paired = MainCases.PAIRS.get(top) == bottom || MainCases.PAIRS.get(bottom) == top;
+    double[] a = times.get(top).seconds();
+    double[] b = times.get(bottom).seconds();
+    if (!paired || a.length != b.length) {
+      return new double[0];
+    }
+    double[] r = new double[a.length];
+    for (int i = 0; i < r.length; i++) {
+      r[i] = a[i] / b[i];
+    }
+    return r;
   }
 
   private void add(String name, double value, Target target) {

@@ -57,6 +57,12 @@ class BenchmarkSmokeTest extends SparkSuite {
     assertEquals(13, r.ratios().size(), r.ratios().toString());
     for (Ratio q : r.ratios()) {
       assertTrue(Double.isFinite(q.value()) && q.value() > 0, q.name() + " = " + q.value());
+      // the two sides of these were timed in turn: one repetition each here, so the pair's ratio is the ratio
+      boolean paired = q.name().equals("fit-covariance / read-floor") || q.name().equals("builtin-kmeans / kmeans");
+      assertEquals(paired ? 1 : 0, q.inTurn().length, q.name());
+      if (paired) {
+        assertEquals(q.value(), q.inTurn()[0], 1e-12 * q.value(), q.name());
+      }
     }
     checkAccuracy(r);
     assertTrue(Double.isFinite(r.kmeans().ours()) && r.kmeans().ours() > 0, "our within-SS " + r.kmeans().ours());
@@ -170,6 +176,14 @@ class BenchmarkSmokeTest extends SparkSuite {
     assertTrue(text.contains("main two") && !text.contains("main one"), text);
     assertTrue(text.contains("wide one"), text);
     assertTrue(text.indexOf("main two") < text.indexOf("wide one"), "sections in order: " + text);
+  }
+
+  @Test
+  void inTurnLinesCountThePairsThatMeetTheTarget() {
+    Ratio fit = new Ratio("fit-covariance / read-floor", 1.15, Ratio.Target.atMost(1.2), new double[] {1.1, 1.3, 1.15});
+    Ratio plain = new Ratio("fit-covariance / sql-sum", 0.6, Ratio.Target.atMost(0.8));
+    assertEquals(List.of("fit-covariance / read-floor: 1.10, 1.30, 1.15 (target <= 1.20: met by 2 of 3)"),
+        MainReport.inTurnLines(List.of(fit, plain)));
   }
 
   @Test
