@@ -167,7 +167,7 @@ public final class Moments implements Serializable {
       } else {
         // variances only, of a block centred on the origin by the copy: the residual is its mean relative to it
         mu = origin[j];
-        ColumnSweeps.sums(block, off, rows, sums);
+        ColumnSweeps.centre(block, off, rows, 0.0, sums);
       }
       double res = sums[0] / rows;
       double offset = res;

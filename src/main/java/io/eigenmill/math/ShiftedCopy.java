@@ -11,7 +11,7 @@ package io.eigenmill.math;
 public interface ShiftedCopy {
   /**
    * Writes {@code src[from + i] - o} to {@code dst[off + i]} for {@code i < t}; returns whether one of those
-   * {@code src} values is NaN or infinite.
+   * {@code src} values is NaN or infinite. {@code dst} may be {@code src} at the same offset (a shift in place).
    */
   boolean copy(double[] src, int from, double[] dst, int off, int t, double o);
 

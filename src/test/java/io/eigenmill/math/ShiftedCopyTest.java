@@ -75,6 +75,31 @@ class ShiftedCopyTest {
   }
 
   @Test
+  void aShiftInPlaceGivesTheSameValuesAndAnswer() {
+    SplittableRandom r = new SplittableRandom(9);
+    for (ShiftedCopy kernel : kernels()) {
+      for (int t : new int[] {0, 3, 8, 13, 37}) {
+        double[] src = new double[t + 6];
+        for (int i = 0; i < src.length; i++) {
+          src[i] = r.nextDouble() * 1e3;
+        }
+        if (t > 4) {
+          src[3 + t / 2] = Double.NaN;
+        }
+        double[] inPlace = src.clone();
+        double[] apart = new double[src.length];
+        boolean a = kernel.copy(inPlace, 3, inPlace, 3, t, 250.5);
+        boolean b = kernel.copy(src, 3, apart, 3, t, 250.5);
+        assertEquals(b, a, kernel.describe() + ", " + t + " values");
+        for (int i = 0; i < t; i++) {
+          assertEquals(Double.doubleToRawLongBits(apart[3 + i]), Double.doubleToRawLongBits(inPlace[3 + i]),
+              kernel.describe() + ", value " + i);
+        }
+      }
+    }
+  }
+
+  @Test
   void valuesOutsideTheRunDoNotCount() {
     double[] src = {Double.NaN, 1, 2, 3, 4, 5, 6, 7, 8, 9, Double.POSITIVE_INFINITY};
     for (ShiftedCopy kernel : kernels()) {
