@@ -59,11 +59,14 @@ public final class MethodChoice {
 
   public static MemoryEstimate estimate(Method method, int d, int l, int blockRows, long driverHeap, long taskHeap) {
     long dd = B * d * d;
-    long block = B * blockRows * d;
+    // a block carries a column of ones after the d features (see BlockFiller)
+    long block = B * blockRows * (d + 1L);
     switch (method) {
       case COVARIANCE:
-        // task: its Gram + block; driver: two partials in the tree merge, the eigen copy and vectors
-        return new MemoryEstimate(4 * dd, dd + block, driverHeap, taskHeap, "d x d Gram, " + MemoryEstimate.human(dd));
+        // task: its Gram, the (d + 1) x (d + 1) Gram of one block with its column of ones, the block; driver: two
+        // partials in the tree merge, the eigen copy and vectors
+        return new MemoryEstimate(4 * dd, dd + B * (d + 1L) * (d + 1L) + block, driverHeap, taskHeap,
+            "d x d Gram, " + MemoryEstimate.human(dd));
       case TSQR:
         return new MemoryEstimate(4 * dd, 2 * dd + B * (blockRows + d) * d + block, driverHeap, taskHeap,
             "d x d R factor, " + MemoryEstimate.human(dd));

@@ -28,7 +28,8 @@ class MethodChoiceTest {
     MethodChoice.Choice c = MethodChoice.choose(reduce(""), 100, 2 * GIB, GIB);
     assertEquals(Method.COVARIANCE, c.method());
     assertTrue(c.reason().startsWith("auto: d = 100 <= reduce.covariance-max-features (4000)"), c.reason());
-    assertEquals(8L * 100 * 100, c.memory().taskBytes() - 8L * 1024 * 100, "task: one Gram plus one block");
+    assertEquals(8L * 100 * 100 + 8L * 101 * 101, c.memory().taskBytes() - 8L * 1024 * 101,
+        "task: the Gram, one block's Gram with its column of ones, one block with that column");
   }
 
   @Test
