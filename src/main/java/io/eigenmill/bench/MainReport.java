@@ -71,7 +71,7 @@ final class MainReport {
       int met = 0;
       for (double v : q.inTurn()) {
         values.add(Report.number(v));
-        met += new Ratio(q.name(), v, q.target()).met() ? 1 : 0;
+        met += q.target() == null || q.target().met(v) ? 1 : 0;
       }
       lines.add(q.name() + ": " + String.join(", ", values) + (q.target() == null ? ""
           : " (target " + q.target().describe() + ": met by " + met + " of " + values.size() + ")"));

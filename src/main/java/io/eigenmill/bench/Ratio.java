@@ -44,15 +44,17 @@ public record Ratio(String name, double value, Target target, double[] inTurn) {
     public String describe() {
       return (atMost ? "<= " : ">= ") + Report.number(bound);
     }
+
+    /** Whether {@code value} meets this bound. */
+    public boolean met(double value) {
+      // within-SS may differ from an equal one in the last bits: 1e-9 relative absorbs that
+      double slack = quality ? 1e-9 : 0.0;
+      return atMost ? value <= bound * (1 + slack) : value >= bound;
+    }
   }
 
   public boolean met() {
-    if (target == null) {
-      return true;
-    }
-    // within-SS may differ from an equal one in the last bits: 1e-9 relative absorbs that
-    double slack = target.quality() ? 1e-9 : 0.0;
-    return target.atMost() ? value <= target.bound() * (1 + slack) : value >= target.bound();
+    return target == null || target.met(value);
   }
 
   /** "met", or how far off: the factor by which our side must shrink (time), or how much higher it is (quality). */
