@@ -97,19 +97,34 @@ final class PartitionPasses {
    * next slice, as doubles (exact widening for integers and floats, {@code Decimal.toDouble} for decimals: the
    * values a cast to double gives) minus the sink's origin for the column (0 when it has none: x - 0 is x, bit for
    * bit), and reports the missing cells.
+   *
+   * <p>A null cell's value is never read: a vector decoded from dictionary pages keeps, at a null slot, whatever
+   * dictionary code an earlier batch left there, which can lie beyond the current row group's dictionary (Parquet
+   * written by other writers, with several row groups and nulls, made {@code getDouble} throw). Columns with nulls
+   * therefore take a loop that asks {@code isNullAt} first; columns without take the plain loops.
    */
   static void copyColumn(ColumnVector v, int kind, int start, int t, BlockSink filler, int j) {
     double[] dst = filler.block();
     int off = j * filler.ld() + filler.base();
     double[] origin = filler.origin();
     double o = origin == null ? 0.0 : origin[j];
-    switch (kind) {
-      case DOUBLE:
-      case FLOAT:
-        if (copyFloating(v, kind, start, t, dst, off, o) || v.hasNull()) {
-          markFloating(v, kind, start, t, filler, j);
+    if (kind == DOUBLE || kind == FLOAT) {
+      if (copyFloating(v, kind, start, t, dst, off, o) || v.hasNull()) {
+        markFloating(v, kind, start, t, filler, j);
+      }
+      return;
+    }
+    if (v.hasNull()) {
+      for (int i = 0; i < t; i++) {
+        if (v.isNullAt(start + i)) {
+          filler.markMissing(i, j);
+        } else {
+          dst[off + i] = exactValue(v, kind, start + i) - o;
         }
-        return;
+      }
+      return;
+    }
+    switch (kind) {
       case INT:
         for (int i = 0; i < t; i++) {
           dst[off + i] = v.getInt(start + i) - o;
@@ -120,30 +135,28 @@ final class PartitionPasses {
           dst[off + i] = v.getLong(start + i) - o;
         }
         break;
-      case SHORT:
-        for (int i = 0; i < t; i++) {
-          dst[off + i] = v.getShort(start + i) - o;
-        }
-        break;
-      case BYTE:
-        for (int i = 0; i < t; i++) {
-          dst[off + i] = v.getByte(start + i) - o;
-        }
-        break;
       default:
-        DecimalType dt = (DecimalType) v.dataType();
         for (int i = 0; i < t; i++) {
-          dst[off + i] = v.isNullAt(start + i) ? 0.0
-              : v.getDecimal(start + i, dt.precision(), dt.scale()).toDouble() - o;
+          dst[off + i] = exactValue(v, kind, start + i) - o;
         }
         break;
     }
-    if (v.hasNull()) {
-      for (int i = 0; i < t; i++) {
-        if (v.isNullAt(start + i)) {
-          filler.markMissing(i, j);
-        }
-      }
+  }
+
+  /** The value of non-null row r of an integer or decimal column, as a cast to double gives it. */
+  private static double exactValue(ColumnVector v, int kind, int r) {
+    switch (kind) {
+      case INT:
+        return v.getInt(r);
+      case LONG:
+        return v.getLong(r);
+      case SHORT:
+        return v.getShort(r);
+      case BYTE:
+        return v.getByte(r);
+      default:
+        DecimalType dt = (DecimalType) v.dataType();
+        return v.getDecimal(r, dt.precision(), dt.scale()).toDouble();
     }
   }
 
@@ -153,21 +166,18 @@ final class PartitionPasses {
    * Copies a double or float column minus {@code o} and reports whether a value read is NaN or infinite, with the
    * copy kernel ({@link ShiftedCopy}: SIMD where the JVM has the vector module). A column of doubles whose array Spark
    * lets us see ({@link HeapColumns}) is copied straight from it; other columns (floats, off-heap vectors,
-   * dictionaries) are first read value by value into the block, then shifted and checked in place: the same values.
+   * dictionaries) are first read value by value into the block (a null cell as 0, never read: see
+   * {@link #copyColumn}), then shifted and checked in place: the same values.
    */
   private static boolean copyFloating(ColumnVector v, int kind, int start, int t, double[] dst, int off, double o) {
     double[] values = kind == DOUBLE ? HeapColumns.doubles(v) : null;
     if (values != null) {
       return COPY.copy(values, start, dst, off, t, o);
     }
-    if (kind == DOUBLE) {
-      for (int i = 0; i < t; i++) {
-        dst[off + i] = v.getDouble(start + i);
-      }
-    } else {
-      for (int i = 0; i < t; i++) {
-        dst[off + i] = v.getFloat(start + i);
-      }
+    boolean nulls = v.hasNull();
+    for (int i = 0; i < t; i++) {
+      int r = start + i;
+      dst[off + i] = nulls && v.isNullAt(r) ? 0.0 : kind == DOUBLE ? v.getDouble(r) : v.getFloat(r);
     }
     return COPY.copy(dst, off, dst, off, t, o);
   }
