@@ -93,13 +93,8 @@ final class SpectrumCharts {
   static String heatmap(LoadingsModel m) {
     int rows = m.rows().size();
     int cols = m.components().size();
-    double font = 12;
-    double labelWidth = 0;
-    for (LoadingsModel.Row r : m.rows()) {
-      labelWidth = Math.max(labelWidth, Svg.textWidth(r.feature(), font));
-    }
-    labelWidth = Math.min(230, Math.max(80, labelWidth)) + 12;
-    int maxChars = (int) ((labelWidth - 12) / (font * Svg.CHAR_EM));
+    double labelWidth = labelWidth(m.rows().stream().map(LoadingsModel.Row::feature).toList());
+    int maxChars = labelChars(labelWidth);
     double cell = Math.max(40, Math.min(66, 560.0 / cols));
     double rowHeight = 19;
     double top = 46;
@@ -155,9 +150,10 @@ final class SpectrumCharts {
   static String topBars(LoadingsModel.TopList t, double scaleMax, int index) {
     int n = t.bars().size();
     double rowHeight = 24;
-    Svg svg = new Svg("chart-loadings-top-" + (index + 1), 340, 40 + rowHeight * n + 30,
+    double labelWidth = labelWidth(t.bars().stream().map(LoadingsModel.Bar::feature).toList());
+    int maxChars = labelChars(labelWidth);
+    Svg svg = new Svg("chart-loadings-top-" + (index + 1), labelWidth + 210, 40 + rowHeight * n + 30,
         "Largest loadings of " + t.component());
-    double labelWidth = 130;
     Plot p = new Plot(svg, labelWidth + 8, 32, 58, 30);
     Scale x = Scale.exact(-scaleMax, scaleMax, p.left, p.right);
     svg.text(0, 16, t.component() + (t.share().isEmpty() ? "" : " · " + t.share() + " of variance"), "start",
@@ -168,7 +164,7 @@ final class SpectrumCharts {
       double y = p.top + rowHeight * i;
       double end = x.map(b.value());
       svg.group("top-bar", b.feature() + ": " + b.text());
-      svg.text(labelWidth, y + rowHeight * 0.62, Html.shorten(b.feature(), 20), "end", "row-label");
+      svg.text(labelWidth, y + rowHeight * 0.62, Html.shorten(b.feature(), maxChars), "end", "row-label");
       svg.rect(Math.min(zero, end), y + 4, Math.abs(end - zero), rowHeight - 8,
           Palette.diverging(b.value() >= 0 ? 0.8 : -0.8));
       svg.text(svg.width() - 4, y + rowHeight * 0.62, b.text(), "end", "bar-label");
@@ -177,5 +173,24 @@ final class SpectrumCharts {
     svg.line(zero, p.top - 4, zero, p.bottom, "axis");
     p.xTicks(List.of(-scaleMax, 0.0, scaleMax), x, v -> Fmt.fixed(v, 2));
     return svg.close();
+  }
+
+  private static final double ROW_LABEL_FONT = 12;
+
+  /**
+   * Room for feature names right-aligned at the returned x: the widest name at the row-label font, between 80 and
+   * 230 units, plus a 12-unit margin on the left so that no name is cut at the edge of the drawing.
+   */
+  static double labelWidth(List<String> names) {
+    double widest = 0;
+    for (String name : names) {
+      widest = Math.max(widest, Svg.textWidth(name, ROW_LABEL_FONT));
+    }
+    return Math.min(230, Math.max(80, widest)) + 12;
+  }
+
+  /** How many characters of a name fit in {@link #labelWidth}: longer names end in an ellipsis (Html.shorten). */
+  static int labelChars(double labelWidth) {
+    return (int) ((labelWidth - 12) / (ROW_LABEL_FONT * Svg.CHAR_EM));
   }
 }
