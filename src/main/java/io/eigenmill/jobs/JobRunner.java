@@ -71,7 +71,11 @@ public final class JobRunner {
     JobSettings settings = plan.settings();
     Stopwatch clock = new Stopwatch();
     Map<String, Double> timings = new LinkedHashMap<>();
-    List<String> warnings = new ArrayList<>();
+    // settings without effect (found by the reader and the planner) lead the run's warnings
+    List<String> warnings = new ArrayList<>(plan.warnings());
+    for (String w : plan.warnings()) {
+      LOG.warn("settings: {}", w);
+    }
     if (!skipped.isEmpty()) {
       warnings.add(skipped);
     }
