@@ -2,6 +2,7 @@ package io.eigenmill.bench;
 
 import io.eigenmill.bench.ScalingRun.ScalingResult;
 import io.eigenmill.bench.WideRun.WideResult;
+import io.eigenmill.spark.WriterSession;
 import java.nio.file.Path;
 import java.util.List;
 import java.util.Locale;
@@ -111,6 +112,8 @@ public final class Benchmark {
         .config("spark.sql.session.timeZone", "UTC")
         .config("spark.sql.codegen.maxFields", "10000")
         .config("spark.executorEnv.OPENBLAS_NUM_THREADS", "1")
+        // the scores and the write floor write timestamps as the jobs do (WriterSession)
+        .config(WriterSession.TIMESTAMP_TYPE, WriterSession.MICROS)
         .getOrCreate();
   }
 }

@@ -56,6 +56,7 @@ public final class Main {
       out.println("eigenmill " + Version.current() + " (" + Linalg.describe() + "; nearest-centroid kernel "
           + io.eigenmill.math.NearestKeys.best().describe() + "; column copy "
           + io.eigenmill.math.ShiftedCopy.best().describe() + ")");
+      out.print(jvmFlags(Version.jvmFlags()));
       return OK;
     }
     Set<String> secrets = new LinkedHashSet<>(Redaction.secretValuesOfSets(a.sets()));
@@ -101,6 +102,20 @@ public final class Main {
     for (String problem : e.problems()) {
       err.println(Redaction.scrub("eigenmill: error: " + problem, secrets));
     }
+  }
+
+  /**
+   * The lines {@code version} prints after the first: the JVM flags for driver and executors ({@code flags}, from
+   * pom.xml's {@code spark.jvm.opens}) as spark-submit options one can paste, each on its own line.
+   */
+  static String jvmFlags(String flags) {
+    if (flags.isEmpty()) {
+      return "JVM flags: unknown (this build did not record pom.xml's spark.jvm.opens)\n";
+    }
+    return "JVM flags for driver and executors (Java 17: Spark's module openings, the SIMD vector module);"
+        + " spark-submit options:\n"
+        + "  --driver-java-options \"" + flags + "\"\n"
+        + "  --conf \"spark.executor.extraJavaOptions=" + flags + "\"\n";
   }
 
   /** The Spark settings of the job as one plan line, secret values masked. */

@@ -1,5 +1,6 @@
 package io.eigenmill.demo;
 
+import io.eigenmill.spark.WriterSession;
 import java.io.PrintStream;
 import java.time.LocalDate;
 import java.time.format.DateTimeParseException;
@@ -215,7 +216,10 @@ public final class FleetTelemetryGenerator {
    * ({@code spark.sql.codegen.factoryMode = NO_CODEGEN}, restored afterwards): compiling a projection of 20,000
    * columns cost minutes per task, interpreting it costs microseconds per row.
    */
-  public static void write(SparkSession spark, FleetSpec spec, String path) {
+  public static void write(SparkSession caller, FleetSpec spec, String path) {
+    // timestamps as Parquet TIMESTAMP (micros, UTC-adjusted), like every eigenmill table; the caller's session keeps
+    // its own setting
+    SparkSession spark = WriterSession.of(caller, Map.of());
     SparkContext sc = spark.sparkContext();
     String description = sc.getLocalProperty("spark.job.description");
     RuntimeConfig conf = spark.conf();

@@ -9,6 +9,7 @@ import io.eigenmill.spark.InputFiles;
 import io.eigenmill.spark.ModelStore;
 import io.eigenmill.spark.OutputCommit;
 import io.eigenmill.spark.TableLoader;
+import io.eigenmill.spark.WriterSession;
 import java.util.ArrayList;
 import java.util.LinkedHashMap;
 import java.util.List;
@@ -36,8 +37,13 @@ public final class JobRunner {
     return Planner.plan(spark, settings);
   }
 
-  public static RunResult run(SparkSession spark, JobSettings settings) {
+  /**
+   * Runs the job on a copy of {@code caller} that writes timestamps as Parquet TIMESTAMP (micros, UTC-adjusted)
+   * ({@link WriterSession}); {@code caller}'s own settings are unchanged.
+   */
+  public static RunResult run(SparkSession caller, JobSettings settings) {
     long started = System.nanoTime();
+    SparkSession spark = WriterSession.of(caller, settings.spark().conf());
     // every Parquet footer is read before anything else: an unreadable file fails the run here (exit 2, naming it)
     // or, with input.corrupt-files = skip, is left out and reported
     String skipped = InputFiles.check(spark, settings.input()).skipWarning();
@@ -65,7 +71,11 @@ public final class JobRunner {
     JobSettings settings = plan.settings();
     Stopwatch clock = new Stopwatch();
     Map<String, Double> timings = new LinkedHashMap<>();
-    List<String> warnings = new ArrayList<>();
+    // settings without effect (found by the reader and the planner) lead the run's warnings
+    List<String> warnings = new ArrayList<>(plan.warnings());
+    for (String w : plan.warnings()) {
+      LOG.warn("settings: {}", w);
+    }
     if (!skipped.isEmpty()) {
       warnings.add(skipped);
     }

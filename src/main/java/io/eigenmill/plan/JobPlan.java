@@ -10,6 +10,8 @@ import java.util.List;
  *
  * @param rowEstimate rows counted from Parquet footers, or -1 when not cheap to know
  * @param notes things the user should know that are not errors (columns skipped by a glob, ...)
+ * @param warnings settings that have no effect in this job, as the user should change them (the settings' own
+ *     warnings, then those found against the schema); a run keeps them among its warnings
  */
 public record JobPlan(
     JobSettings settings,
@@ -24,7 +26,16 @@ public record JobPlan(
     String methodReason,
     MemoryEstimate memory,
     List<String> outputs,
-    List<String> notes) {
+    List<String> notes,
+    List<String> warnings) {
+
+  /** A plan without warnings. */
+  public JobPlan(JobSettings settings, String kind, List<String> features, List<String> featureTypes,
+      List<String> keys, List<String> partitionColumns, long rowEstimate, long inputBytes, Method method,
+      String methodReason, MemoryEstimate memory, List<String> outputs, List<String> notes) {
+    this(settings, kind, features, featureTypes, keys, partitionColumns, rowEstimate, inputBytes, method,
+        methodReason, memory, outputs, notes, List.of());
+  }
 
   public int d() {
     return features.size();
@@ -45,16 +56,25 @@ public record JobPlan(
     line(s, "features (" + features.size() + ")", describeFeatures());
     line(s, "keys", keys.isEmpty() ? "(none)" : String.join(", ", keys));
     line(s, "missing values", j.prepare().missing().word());
-    line(s, "scaling", j.prepare().scaling().word());
-    line(s, "components", j.reduce().components().isPresent() ? "k = " + j.reduce().components().getAsInt()
-        : "smallest k reaching " + j.reduce().varianceTarget() + " of the variance (at most "
-            + j.reduce().maxComponents() + ")");
+    if (kind.equals("apply")) {
+      // an apply job centres and scales as the model was fitted and keeps its components (see method)
+      line(s, "scaling", "the model's");
+      line(s, "components", "the model's");
+    } else {
+      line(s, "scaling", j.prepare().scaling().word());
+      line(s, "components", j.reduce().components().isPresent() ? "k = " + j.reduce().components().getAsInt()
+          : "smallest k reaching " + j.reduce().varianceTarget() + " of the variance (at most "
+              + j.reduce().maxComponents() + ")");
+    }
     line(s, "method", method.word() + " - " + methodReason);
     line(s, "memory", memory.describe());
     line(s, "outputs", String.join(", ", outputs) + " under " + j.output().path() + " (" + j.output().mode().word()
         + ")");
     for (String note : notes) {
       line(s, "note", note);
+    }
+    for (String warning : warnings) {
+      line(s, "warning", warning);
     }
     return s.toString();
   }

@@ -8,9 +8,11 @@ import io.eigenmill.settings.JobSettings;
 import io.eigenmill.spark.ModelStore;
 import io.eigenmill.spark.TableLoader;
 import java.util.ArrayList;
+import java.util.LinkedHashMap;
 import java.util.LinkedHashSet;
 import java.util.List;
 import java.util.Locale;
+import java.util.Map;
 import java.util.Set;
 import java.util.regex.Pattern;
 import org.apache.hadoop.conf.Configuration;
@@ -89,17 +91,19 @@ public final class Planner {
         partitionColumns(table, settings), rowEstimate(spark, table, settings),
         TableLoader.sizeBytes(spark, settings.input().path()), Method.valueOf(model.method().toUpperCase(Locale.ROOT)),
         "apply: the saved model (" + model.method() + ", k = " + model.k() + ", fitted on "
-            + String.format(Locale.ROOT, "%,d", model.rows()) + " rows)", memory, outputs(settings), List.of());
+            + String.format(Locale.ROOT, "%,d", model.rows()) + " rows)", memory, outputs(settings), List.of(),
+        settings.warnings());
   }
 
   public static JobPlan plan(SparkSession spark, JobSettings settings, Dataset<Row> table) {
     List<String> problems = new ArrayList<>();
     List<String> notes = new ArrayList<>();
+    List<String> warnings = new ArrayList<>(settings.warnings());
     StructType schema = table.schema();
     checkDuplicates(schema, problems);
     List<String> partitionColumns = partitionColumns(table, settings);
     List<String> keys = resolveKeys(schema, settings.features().keys(), problems);
-    List<StructField> features = resolveFeatures(schema, settings.features(), keys, problems, notes);
+    List<StructField> features = resolveFeatures(schema, settings.features(), keys, problems, notes, warnings);
     if (features.isEmpty() && problems.isEmpty()) {
       problems.add("features.columns = " + settings.features().columns() + ": no numeric feature column is left"
           + " after features.exclude and features.keys");
@@ -121,7 +125,7 @@ public final class Planner {
     String kind = settings.apply().appliesModel() ? "apply" : "fit";
     return new JobPlan(settings, kind, names, types, keys, partitionColumns, rowEstimate(spark, table, settings),
         TableLoader.sizeBytes(spark, settings.input().path()), choice.method(), choice.reason(), choice.memory(),
-        outputs(settings), notes);
+        outputs(settings), notes, warnings);
   }
 
   private static void checkDuplicates(StructType schema, List<String> problems) {
@@ -147,9 +151,15 @@ public final class Planner {
     return out;
   }
 
+  /**
+   * The feature columns: those {@code features.columns} names or matches (all numeric columns when empty), less
+   * {@code features.exclude}. A glob never picks a key column; when the user's own glob matches a numeric key that
+   * {@code features.exclude} does not remove, a warning says that the column is used as a key only.
+   */
   private static List<StructField> resolveFeatures(StructType schema, JobSettings.Features f, List<String> keys,
-      List<String> problems, List<String> notes) {
+      List<String> problems, List<String> notes, List<String> warnings) {
     Set<String> chosen = new LinkedHashSet<>();
+    Map<String, String> keysMatched = new LinkedHashMap<>();
     List<String> patterns = f.columns().isEmpty() ? List.of("*") : f.columns();
     for (String pattern : patterns) {
       boolean glob = isGlob(pattern);
@@ -173,6 +183,9 @@ public final class Planner {
           continue;
         }
         if (glob && keys.contains(field.name())) {
+          if (!f.columns().isEmpty()) {
+            keysMatched.putIfAbsent(field.name(), pattern);
+          }
           continue;
         }
         chosen.add(field.name());
@@ -185,7 +198,11 @@ public final class Planner {
     for (String pattern : f.exclude()) {
       Pattern regex = globRegex(pattern);
       chosen.removeIf(name -> regex.matcher(name).matches());
+      keysMatched.keySet().removeIf(name -> regex.matcher(name).matches());
     }
+    keysMatched.forEach((key, pattern) -> warnings.add("features.columns: '" + pattern + "' matches " + key
+        + ", which is in features.keys: " + key + " is used as a key only, not as a feature (add it to"
+        + " features.exclude, or write features.columns so that no glob matches it, to silence this warning)"));
     List<StructField> out = new ArrayList<>();
     for (String name : chosen) {
       out.add(schema.apply(name));

@@ -16,6 +16,9 @@ import java.util.OptionalInt;
 /**
  * A job file read once and validated: immutable, with every default already filled in from {@code reference.conf}.
  * Built only by {@link SettingsReader}.
+ *
+ * @param warnings settings given by the user that have no effect in this job, each naming the key, its value and
+ *     why (shown by {@code plan}, logged by {@code run} and kept in the run's warnings)
  */
 public record JobSettings(
     String name,
@@ -28,7 +31,20 @@ public record JobSettings(
     Apply apply,
     Cluster cluster,
     Output output,
-    SparkSection spark) implements Serializable {
+    SparkSection spark,
+    List<String> warnings) implements Serializable {
+
+  /** Settings without warnings. */
+  public JobSettings(String name, String sourceFile, Input input, Features features, Prepare prepare, Reduce reduce,
+      Monitor monitor, Apply apply, Cluster cluster, Output output, SparkSection spark) {
+    this(name, sourceFile, input, features, prepare, reduce, monitor, apply, cluster, output, spark, List.of());
+  }
+
+  /** These settings with {@code warnings} in place of theirs. */
+  public JobSettings withWarnings(List<String> warnings) {
+    return new JobSettings(name, sourceFile, input, features, prepare, reduce, monitor, apply, cluster, output, spark,
+        List.copyOf(warnings));
+  }
 
   public record Input(String path, InputFormat format, CorruptFiles corruptFiles) implements Serializable {}
 

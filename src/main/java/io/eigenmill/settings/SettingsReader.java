@@ -88,10 +88,87 @@ public final class SettingsReader {
     checkUnknownKeys(user, sourceName, problems);
     Fields f = new Fields(merged, user, sourceName, problems);
     JobSettings settings = build(f, sourceName);
+    List<String> warnings = new ArrayList<>();
+    checkClusterKeys(user, merged, sourceName, problems, warnings);
+    checkFitOnlyKeys(user, merged, sourceName, warnings);
     if (!problems.isEmpty()) {
       throw new InvalidJobException(problems);
     }
-    return settings;
+    return settings.withWarnings(warnings);
+  }
+
+  /**
+   * {@code cluster.*} keys given by the user (job file, profile or {@code --set}; not defaults) while clustering is
+   * off have no effect. With {@code cluster.enabled} left at its default this is surely a mistake (the user wrote
+   * clustering settings and got no clustering): a problem. With {@code cluster.enabled = false} set by the user it
+   * is a deliberate switch (e.g. {@code --set cluster.enabled=false} for one run of a job file that clusters): a
+   * warning.
+   */
+  private void checkClusterKeys(Config user, Config merged, String source, List<String> problems,
+      List<String> warnings) {
+    boolean enabled;
+    try {
+      enabled = merged.getBoolean("cluster.enabled");
+    } catch (ConfigException e) {
+      return; // reported by the reader of cluster.enabled
+    }
+    List<Map.Entry<String, ConfigValue>> set = userKeys(user, path -> path.startsWith("cluster.")
+        && !path.equals("cluster.enabled"));
+    if (enabled || set.isEmpty()) {
+      return;
+    }
+    String keys = rendered(set);
+    if (user.hasPath("cluster.enabled")) {
+      warnings.add(where(source, set.get(0).getValue().origin()) + keys + ": ignored, because cluster.enabled = false ("
+          + where(source, user.getValue("cluster.enabled").origin()).replaceFirst(": $", "")
+          + "); set cluster.enabled = true to cluster, or remove " + (set.size() > 1 ? "these keys" : "the key"));
+    } else {
+      problems.add(where(source, set.get(0).getValue().origin()) + keys + ": has no effect while cluster.enabled is"
+          + " false (its default): no clustering would run; set cluster.enabled = true to cluster, or remove "
+          + (set.size() > 1 ? "these keys" : "the key"));
+    }
+  }
+
+  /**
+   * Keys that only a fit reads, given by the user in an apply job ({@code apply.model} set): the model's
+   * preparation (its means and scales) and its components are used, so {@code prepare.scaling} and the
+   * {@code reduce.*} keys other than {@code reduce.block-rows} (the scoring pass's block size) are ignored: a
+   * warning. {@code prepare.missing} applies to the scored rows and is not among them.
+   */
+  private void checkFitOnlyKeys(Config user, Config merged, String source, List<String> warnings) {
+    String model;
+    try {
+      model = merged.getString("apply.model");
+    } catch (ConfigException e) {
+      return; // reported by the reader of apply.model
+    }
+    if (model.isBlank()) {
+      return;
+    }
+    List<Map.Entry<String, ConfigValue>> set = userKeys(user, path -> path.equals("prepare.scaling")
+        || path.startsWith("reduce.") && !path.equals("reduce.block-rows"));
+    if (!set.isEmpty()) {
+      warnings.add(where(source, set.get(0).getValue().origin()) + rendered(set) + ": ignored in an apply job"
+          + " (apply.model is set): the model's preparation (its means and scaling, as fitted) and its components"
+          + " are used; remove " + (set.size() > 1 ? "these keys" : "the key") + " (prepare.missing still applies"
+          + " to the scored rows)");
+    }
+  }
+
+  /** The known keys the user set (not defaults, not null) whose path passes {@code test}, sorted by path. */
+  private List<Map.Entry<String, ConfigValue>> userKeys(Config user, java.util.function.Predicate<String> test) {
+    List<Map.Entry<String, ConfigValue>> out = new ArrayList<>();
+    for (Map.Entry<String, ConfigValue> e : sortedEntries(user)) {
+      if (test.test(e.getKey()) && reference.hasPathOrNull(e.getKey())) {
+        out.add(e);
+      }
+    }
+    return out;
+  }
+
+  private static String rendered(List<Map.Entry<String, ConfigValue>> entries) {
+    return entries.stream().map(e -> e.getKey() + " = " + e.getValue().render(
+        com.typesafe.config.ConfigRenderOptions.concise())).collect(Collectors.joining(", "));
   }
 
   private static String syntaxMessage(String source, ConfigException e) {
@@ -207,7 +284,8 @@ public final class SettingsReader {
   }
 
   static String where(String source, ConfigOrigin origin) {
-    if (origin != null && "--set".equals(origin.description())) {
+    // a --set value's origin reads "--set" (built from a value) or "--set: 1" (parsed from its text)
+    if (origin != null && (origin.description().equals("--set") || origin.description().startsWith("--set:"))) {
       return "--set: ";
     }
     int line = origin == null ? -1 : origin.lineNumber();

@@ -57,13 +57,52 @@ class CommandLineTest extends SparkSuite {
   void versionNamesTheBlasAndTheSimdKernels() {
     CommandRun o = CommandRun.of("version");
     assertEquals(0, o.code(), o.err());
+    String first = o.out().substring(0, o.out().indexOf('\n') + 1);
     // the suite's JVM resolves jdk.incubator.vector (the pom's argLine), so the kernels are the SIMD ones
-    assertTrue(o.out().matches("eigenmill \\S+ \\(BLAS .*, LAPACK .*; nearest-centroid kernel "
+    assertTrue(first.matches("eigenmill \\S+ \\(BLAS .*, LAPACK .*; nearest-centroid kernel "
         + "(SIMD, \\d+ double lanes|scalar); column copy (SIMD, \\d+ double lanes|scalar)\\)\\n"), o.out());
     assertEquals(io.eigenmill.math.NearestKeys.best().describe(),
-        o.out().replaceAll("(?s).*nearest-centroid kernel (.*); column copy.*", "$1"));
+        first.replaceAll("(?s).*nearest-centroid kernel (.*); column copy.*", "$1"));
     assertEquals(io.eigenmill.math.ShiftedCopy.best().describe(),
-        o.out().replaceAll("(?s).*column copy (.*)\\)\\n", "$1"));
+        first.replaceAll("(?s).*column copy (.*)\\)\\n", "$1"));
+  }
+
+  @Test
+  void versionPrintsPomsJvmFlagsForSparkSubmit() throws Exception {
+    CommandRun o = CommandRun.of("version");
+    assertEquals(0, o.code(), o.err());
+    // the outside source: pom.xml's spark.jvm.opens, read here as text
+    String pom = Files.readString(Path.of(System.getProperty("eigenmill.repo", "."), "pom.xml"));
+    java.util.regex.Matcher m = java.util.regex.Pattern.compile("<spark\\.jvm\\.opens>(.*?)</spark\\.jvm\\.opens>")
+        .matcher(pom);
+    assertTrue(m.find(), "pom.xml has spark.jvm.opens");
+    List<String> expected = List.of(m.group(1).trim().split("\\s+"));
+    // common practice, no source: Spark 3.5 on Java 17 needs java.base opened (sun.nio.ch among them); the vector
+    // module is the one the SIMD kernels use
+    assertTrue(expected.contains("--add-opens=java.base/sun.nio.ch=ALL-UNNAMED"), expected.toString());
+    assertTrue(expected.contains("--add-modules=jdk.incubator.vector"), expected.toString());
+    String driver = quoted(o.out(), "  --driver-java-options \"");
+    String executors = quoted(o.out(), "  --conf \"spark.executor.extraJavaOptions=");
+    assertEquals(expected, List.of(driver.split(" ")), o.out());
+    assertEquals(expected, List.of(executors.split(" ")), o.out());
+    // pasted as printed, a Java 17 JVM accepts every flag (an unknown option or module would exit non-zero)
+    List<String> cmd = new ArrayList<>(List.of(new File(System.getProperty("java.home"), "bin/java").getPath()));
+    cmd.addAll(List.of(driver.split(" ")));
+    cmd.add("-version");
+    Process p = new ProcessBuilder(cmd).redirectErrorStream(true).start();
+    String text = new String(p.getInputStream().readAllBytes(), StandardCharsets.UTF_8);
+    assertTrue(p.waitFor(60, TimeUnit.SECONDS));
+    assertEquals(0, p.exitValue(), text);
+  }
+
+  /** The text between {@code prefix} and the closing quote at the end of its line in {@code out}. */
+  private static String quoted(String out, String prefix) {
+    int at = out.indexOf(prefix);
+    assertTrue(at >= 0, "no line starting " + prefix + " in:\n" + out);
+    int end = out.indexOf('\n', at);
+    String line = out.substring(at + prefix.length(), end);
+    assertTrue(line.endsWith("\""), line);
+    return line.substring(0, line.length() - 1);
   }
 
   @Test
@@ -96,6 +135,70 @@ class CommandLineTest extends SparkSuite {
     assertEquals(2, o.code());
     assertEquals("eigenmill: error: input.path = " + dir.resolve("nothing-here") + ": no such file or folder\n",
         o.err());
+  }
+
+  @Test
+  void clusterKeysWithoutClusteringStopPlanAndRun() throws Exception {
+    Path f = job("cluster-off", "features.keys = [host]\ncluster { k = 4, entity = host }\noutput.path = \""
+        + dir.resolve("never-clustered") + "\"\n");
+    for (String command : List.of("plan", "run")) {
+      CommandRun o = CommandRun.of(command, f.toString());
+      assertEquals(2, o.code(), command + ": " + o.out());
+      assertEquals("eigenmill: error: cluster-off.conf:3: cluster.entity = \"host\", cluster.k = 4: has no effect"
+          + " while cluster.enabled is false (its default): no clustering would run; set cluster.enabled = true to"
+          + " cluster, or remove these keys\n", o.err(), command);
+    }
+    assertFalse(Files.exists(dir.resolve("never-clustered")));
+    // switched off on the command line for one run of a job file that clusters: a warning, and the plan goes on
+    Path on = job("cluster-on", "features.keys = [host]\ncluster { enabled = true, k = 4 }\noutput.path = \""
+        + dir.resolve("never-clustered") + "\"\n");
+    CommandRun off = CommandRun.of("plan", on.toString(), "--set", "cluster.enabled=false");
+    assertEquals(0, off.code(), off.err());
+    assertTrue(off.out().contains("warning:         cluster-on.conf:3: cluster.k = 4: ignored, because"
+        + " cluster.enabled = false (--set); set cluster.enabled = true to cluster, or remove the key\n"), off.out());
+  }
+
+  @Test
+  void settingsWithoutEffectAreWarnedInPlanRunAndSummary() throws Exception {
+    // a numeric key matched by a feature glob: used as a key only
+    Path fit = dir.resolve("warn-fit");
+    Path f = job("warn-fit", "features.columns = [\"cpu_*\", \"fan?_rpm\", mem_used_pct]\n"
+        + "features.keys = [host, fan1_rpm]\noutput.path = \"" + fit + "\"\n");
+    String keyWarning = "features.columns: 'fan?_rpm' matches fan1_rpm, which is in features.keys: fan1_rpm is"
+        + " used as a key only, not as a feature (add it to features.exclude, or write features.columns so that no"
+        + " glob matches it, to silence this warning)";
+    CommandRun plan = CommandRun.of("plan", f.toString());
+    assertEquals(0, plan.code(), plan.err());
+    assertTrue(plan.out().contains("features (3):    cpu_user_pct:double, cpu_system_pct:double, mem_used_pct:double"),
+        plan.out());
+    assertTrue(plan.out().contains("warning:         " + keyWarning + "\n"), plan.out());
+    CommandRun run = CommandRun.of("run", f.toString());
+    assertEquals(0, run.code(), run.err());
+    assertTrue(run.out().contains("warning: " + keyWarning + "\n"), run.out());
+    assertEquals(List.of(keyWarning), summaryWarnings(fit));
+
+    // prepare.scaling in an apply job: the model's preparation is used
+    Path applied = dir.resolve("warn-apply");
+    Path a = job("warn-apply", "features.keys = [host]\napply.model = \"" + fit + "\"\n"
+        + "prepare.scaling = standardize\noutput.path = \"" + applied + "\"\n");
+    String scalingWarning = "warn-apply.conf:4: prepare.scaling = \"standardize\": ignored in an apply job"
+        + " (apply.model is set): the model's preparation (its means and scaling, as fitted) and its components are"
+        + " used; remove the key (prepare.missing still applies to the scored rows)";
+    CommandRun applyPlan = CommandRun.of("plan", a.toString());
+    assertEquals(0, applyPlan.code(), applyPlan.err());
+    assertTrue(applyPlan.out().contains("warning:         " + scalingWarning + "\n"), applyPlan.out());
+    assertTrue(applyPlan.out().contains("scaling:         the model's\n"), applyPlan.out());
+    CommandRun applyRun = CommandRun.of("run", a.toString());
+    assertEquals(0, applyRun.code(), applyRun.err());
+    assertTrue(applyRun.out().contains("warning: " + scalingWarning + "\n"), applyRun.out());
+    assertEquals(List.of(scalingWarning), summaryWarnings(applied));
+  }
+
+  private static List<String> summaryWarnings(Path output) throws Exception {
+    var json = new com.fasterxml.jackson.databind.ObjectMapper().readTree(output.resolve("summary.json").toFile());
+    List<String> out = new ArrayList<>();
+    json.get("warnings").forEach(w -> out.add(w.asText()));
+    return out;
   }
 
   @Test
@@ -153,7 +256,8 @@ class CommandLineTest extends SparkSuite {
   @Test
   void separateJvmRunsLogsAndExits() throws Exception {
     Path out = dir.resolve("jvm-out");
-    Path f = job("jvm", "features.keys = [host]\noutput.path = \"" + out + "\"\n");
+    Path f = job("jvm", "features.keys = [host, fan1_rpm]\nfeatures.columns = [\"*\"]\noutput.path = \"" + out
+        + "\"\n");
     String repo = System.getProperty("eigenmill.repo", ".");
     List<String> cmd = new ArrayList<>(List.of(new File(System.getProperty("java.home"), "bin/java").getPath(),
         "-Xmx1g"));
@@ -168,6 +272,8 @@ class CommandLineTest extends SparkSuite {
     String err = Files.readString(dir.resolve("jvm.err"));
     assertEquals(0, p.exitValue(), err);
     assertTrue(err.contains("INFO progress: fit/moments: done, 400 rows"), "progress is logged:\n" + err);
+    assertTrue(err.contains("WARN JobRunner: settings: features.columns: '*' matches fan1_rpm, which is in"
+        + " features.keys"), "settings without effect are logged:\n" + err);
     assertTrue(Files.readString(dir.resolve("jvm.out")).contains("summary: "));
     assertTrue(Files.exists(out.resolve("summary.json")));
 

@@ -6,6 +6,7 @@ import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import io.eigenmill.demo.FleetTelemetryGenerator.FleetSpec;
+import io.eigenmill.spark.WriterSession;
 import io.eigenmill.testing.SparkSuite;
 import java.nio.file.Files;
 import java.nio.file.Path;
@@ -17,6 +18,11 @@ import java.util.Map;
 import java.util.TreeMap;
 import java.util.stream.Collectors;
 import java.util.stream.Stream;
+import org.apache.hadoop.conf.Configuration;
+import org.apache.parquet.hadoop.ParquetFileReader;
+import org.apache.parquet.hadoop.util.HadoopInputFile;
+import org.apache.parquet.schema.LogicalTypeAnnotation;
+import org.apache.parquet.schema.PrimitiveType.PrimitiveTypeName;
 import org.apache.spark.sql.Column;
 import org.apache.spark.sql.Dataset;
 import org.apache.spark.sql.Row;
@@ -274,6 +280,20 @@ class FleetTelemetryGeneratorTest extends SparkSuite {
     assertEquals(twoDays.columns(), back.columns().length);
     assertEquals(2, back.select("date").distinct().count());
     assertEquals(DataTypes.LongType, type(back.schema(), "tcp_connections"));
+    // Apache Parquet format, LogicalTypes.md: an instant is INT64 TIMESTAMP(isAdjustedToUTC = true, unit), which
+    // readers other than Spark understand (Spark 3.5's default, INT96, has no logical type)
+    try (Stream<Path> files = Files.walk(out)) {
+      Path part = files.filter(p -> p.getFileName().toString().endsWith(".parquet")).findFirst().orElseThrow();
+      try (ParquetFileReader reader = ParquetFileReader.open(HadoopInputFile.fromPath(
+          new org.apache.hadoop.fs.Path(part.toUri()), new Configuration()))) {
+        org.apache.parquet.schema.Type ts = reader.getFooter().getFileMetaData().getSchema().getType("ts");
+        assertEquals(PrimitiveTypeName.INT64, ts.asPrimitiveType().getPrimitiveTypeName(), part.toString());
+        assertEquals(LogicalTypeAnnotation.timestampType(true, LogicalTypeAnnotation.TimeUnit.MICROS),
+            ts.getLogicalTypeAnnotation(), part.toString());
+      }
+    }
+    assertFalse(WriterSession.MICROS.equals(spark.conf().get(WriterSession.TIMESTAMP_TYPE)),
+        "the caller's session keeps Spark's default");
 
     FleetSpec wide = SMALL.withRows(100).withExtraMetrics(FleetTelemetryGenerator.WIDE_COLUMNS).withPartitions(1);
     assertTrue(wide.columns() > FleetTelemetryGenerator.WIDE_COLUMNS);

@@ -74,7 +74,7 @@ class SettingsReaderTest {
     assertEquals(List.of("job.conf:3: output.report-sample = 1000000: must be an integer from 0 to 50000"),
         problems(MINIMAL + "output.report-sample = 1000000\n"));
     assertEquals(List.of("job.conf:3: cluster.init-sample = -1: must be an integer from 0 to 10000000"),
-        problems(MINIMAL + "cluster.init-sample = -1\n"));
+        problems(MINIMAL + "cluster.init-sample = -1\ncluster.enabled = true\n"));
   }
 
   @Test
@@ -137,10 +137,53 @@ class SettingsReaderTest {
 
   @Test
   void clusterRangeIsParsedAndChecked() {
-    JobSettings s = read(MINIMAL + "cluster.k-range = \"3..9\"\n");
+    JobSettings s = read(MINIMAL + "cluster.k-range = \"3..9\"\ncluster.enabled = true\n");
     assertEquals(3, s.cluster().kMin());
     assertEquals(9, s.cluster().kMax());
     assertEquals(List.of("job.conf:3: cluster.k-range = \"9..3\": must be a range \"LOW..HIGH\" with"
-        + " 2 <= LOW <= HIGH <= 1000"), problems(MINIMAL + "cluster.k-range = \"9..3\"\n"));
+        + " 2 <= LOW <= HIGH <= 1000"), problems(MINIMAL + "cluster.k-range = \"9..3\"\ncluster.enabled = true\n"));
+  }
+
+  @Test
+  void clusterKeysWithoutClusteringAreAnError() {
+    // the reported case: a cluster block without enabled; one problem naming every key set, its value and the fix
+    assertEquals(List.of("job.conf:3: cluster.entity = \"host\", cluster.k = 4: has no effect while"
+            + " cluster.enabled is false (its default): no clustering would run; set cluster.enabled = true to"
+            + " cluster, or remove these keys"),
+        problems(MINIMAL + "cluster { k = 4, entity = host }\n"));
+    // cluster.k-range has a default in reference.conf: only a value the user gives counts, from --set as well
+    assertEquals(List.of("--set: cluster.k-range = \"3..5\": has no effect while cluster.enabled is false (its"
+        + " default): no clustering would run; set cluster.enabled = true to cluster, or remove the key"),
+        problems(MINIMAL, "cluster.k-range=\"3..5\""));
+    assertTrue(read(MINIMAL).warnings().isEmpty(), "defaults alone are no finding");
+    // with clustering on, the same keys are simply used
+    JobSettings on = read(MINIMAL + "cluster { enabled = true, k = 4, entity = host }\n");
+    assertEquals(4, on.cluster().k().getAsInt());
+    assertTrue(on.warnings().isEmpty(), on.warnings().toString());
+  }
+
+  @Test
+  void clusteringSwitchedOffDeliberatelyIsAWarning() {
+    // cluster.enabled = false written by the user (here --set over a job file that clusters): the run goes on,
+    // and the warning names the keys left without effect and where clustering was switched off
+    JobSettings s = read(MINIMAL + "cluster { enabled = true, k = 4 }\n", "cluster.enabled=false");
+    assertFalse(s.cluster().enabled());
+    assertEquals(List.of("job.conf:3: cluster.k = 4: ignored, because cluster.enabled = false (--set); set"
+        + " cluster.enabled = true to cluster, or remove the key"), s.warnings());
+  }
+
+  @Test
+  void fitOnlyKeysInAnApplyJobAreAWarning() {
+    String apply = MINIMAL + "apply.model = \"/models/fleet\"\n";
+    JobSettings s = read(apply + "prepare.scaling = standardize\nprepare.missing = impute-mean\n"
+        + "reduce.components = 3\nreduce.block-rows = 512\n");
+    // prepare.missing (how scored rows with missing cells are treated) and reduce.block-rows (the scoring pass's
+    // block size) apply to the scored rows: only the fit-only keys are named
+    assertEquals(List.of("job.conf:4: prepare.scaling = \"standardize\", reduce.components = 3: ignored in an"
+        + " apply job (apply.model is set): the model's preparation (its means and scaling, as fitted) and its"
+        + " components are used; remove these keys (prepare.missing still applies to the scored rows)"),
+        s.warnings());
+    assertTrue(read(apply + "prepare.missing = impute-mean\n").warnings().isEmpty());
+    assertTrue(read(MINIMAL + "prepare.scaling = standardize\n").warnings().isEmpty(), "a fit uses it");
   }
 }
