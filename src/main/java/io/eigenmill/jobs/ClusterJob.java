@@ -162,18 +162,34 @@ public final class ClusterJob {
 
   /** One row per entity: the mean (and with entity-spread the sample sd, 0 for one row) of each point column. */
   private Dataset<Row> entityTable() {
+    return entityPoints(points, pointColumns, settings.entity(), settings.entitySpread(), null);
+  }
+
+  /**
+   * The entity points of {@code points}: one row per value of {@code entity}, with the mean of each point column
+   * (named as the column) and, with {@code spread}, its sample standard deviation ({@code <column>_sd}, 0 for a
+   * one-row entity), over the entity's rows that have no null or NaN coordinate. The fit clusters these, and an
+   * apply job labels them with the fit's centroids. One aggregation (a shuffle of the entities' partial sums).
+   *
+   * @param count a column to hold each entity's row count, or null for none
+   */
+  static Dataset<Row> entityPoints(Dataset<Row> points, List<String> pointColumns, String entity, boolean spread,
+      String count) {
     List<Column> aggs = new ArrayList<>();
     for (String c : pointColumns) {
       aggs.add(functions.avg(functions.col(NearestCentroid.quoted(c))).as(c));
     }
-    if (settings.entitySpread()) {
+    if (spread) {
       for (String c : pointColumns) {
         Column sd = functions.stddev_samp(functions.col(NearestCentroid.quoted(c)));
         aggs.add(functions.coalesce(functions.nanvl(sd, functions.lit(0.0)), functions.lit(0.0)).as(c + "_sd"));
       }
     }
+    if (count != null) {
+      aggs.add(functions.count(functions.lit(1)).as(count));
+    }
     Dataset<Row> clean = points.na().drop(pointColumns.toArray(new String[0]));
-    return clean.groupBy(functions.col(NearestCentroid.quoted(settings.entity())))
+    return clean.groupBy(functions.col(NearestCentroid.quoted(entity)))
         .agg(aggs.get(0), aggs.subList(1, aggs.size()).toArray(new Column[0]));
   }
 

@@ -37,23 +37,15 @@ final class ClusterStage {
   ClusterOutcome cluster(Dataset<Row> table, ScoringStage.Outcome scored) {
     var settings = plan.settings().cluster();
     List<String> keys = new ArrayList<>(plan.keys());
-    Dataset<Row> points;
     List<String> dims = new ArrayList<>();
     if (settings.space() == ClusterSpace.SCORES) {
       for (int c = 1; c <= model.k(); c++) {
         dims.add("pc_" + c);
       }
-      points = spark.read().parquet(scored.scoresPath()).select(columns(keys, dims));
     } else {
-      List<Column> cols = new ArrayList<>();
-      keys.forEach(k -> cols.add(functions.col(k)));
-      for (int j = 0; j < model.d(); j++) {
-        String f = model.features().get(j);
-        dims.add(f);
-        cols.add(functions.col(f).cast("double").minus(model.means()[j]).divide(model.scales()[j]).as(f));
-      }
-      points = table.select(cols.toArray(new Column[0]));
+      dims.addAll(model.features());
     }
+    Dataset<Row> points = points(table, scored, settings.space(), dims);
     if (!settings.entity().isEmpty() && !keys.contains(settings.entity())) {
       throw new InvalidJobException("cluster.entity = " + settings.entity() + ": the entity column must be one of"
           + " features.keys " + keys);
@@ -62,6 +54,24 @@ final class ClusterStage {
         settings.space().word()).execute();
     ClusterJob.writeTables(outcome, out.staged("clusters"));
     return outcome;
+  }
+
+  /**
+   * The keys and the point columns {@code dims} of every row: scores read back from the written {@code scores/},
+   * or features of {@code table} prepared as (x - mean) / scale with the model's means and scales.
+   */
+  private Dataset<Row> points(Dataset<Row> table, ScoringStage.Outcome scored, ClusterSpace space,
+      List<String> dims) {
+    if (space == ClusterSpace.SCORES) {
+      return spark.read().parquet(scored.scoresPath()).select(columns(plan.keys(), dims));
+    }
+    List<Column> cols = new ArrayList<>();
+    plan.keys().forEach(k -> cols.add(functions.col(k)));
+    for (String f : dims) {
+      int j = model.features().indexOf(f);
+      cols.add(functions.col(f).cast("double").minus(model.means()[j]).divide(model.scales()[j]).as(f));
+    }
+    return table.select(cols.toArray(new Column[0]));
   }
 
   private static Column[] columns(List<String> keys, List<String> dims) {
@@ -111,22 +121,74 @@ final class ClusterStage {
     return new ScoreSample(sample.keyNames(), sample.keyValues(), sample.scores(), clusters);
   }
 
-  /** Labels the scored rows with saved centroids: {@code labels/} = keys, cluster, distance. Returns the sizes. */
-  Map<Integer, Long> label(ScoringStage.Outcome scored, String centroidsPath) {
+  /**
+   * Labels the new data with saved centroids into {@code labels/}. Centroids of entities ({@code cluster.entity} in
+   * the fit, recorded in the centroids table) label each entity once: its point is built from all its rows in this
+   * job's input exactly as the fit built it ({@link ClusterJob#entityPoints}: mean, and with spread sd, of each
+   * coordinate), and {@code labels/} holds the entity, {@code rows}, {@code cluster}, {@code distance}. With
+   * {@code labelRows} each row is also labelled into {@code row-labels/} (keys, cluster, distance), as an entity of
+   * one row (its sds 0, as the fit has them for a one-row entity). Centroids of rows label each row into
+   * {@code labels/} (keys, cluster, distance). Cost: one aggregation (entities) or one pass (rows) over the points,
+   * plus a count of the written labels per cluster.
+   */
+  LabelResult label(Dataset<Row> table, ScoringStage.Outcome scored, String centroidsPath, boolean labelRows) {
     CentroidStore.StoredCentroids stored = CentroidStore.read(spark, centroidsPath);
     List<String> dims = stored.dimensions();
-    Dataset<Row> scores = spark.read().parquet(scored.scoresPath());
-    List<String> present = List.of(scores.columns());
-    for (String d : dims) {
+    List<String> base = stored.pointColumns();
+    ClusterSpace space = stored.space().equals(ClusterSpace.FEATURES.word()) ? ClusterSpace.FEATURES
+        : ClusterSpace.SCORES;
+    List<String> present = new ArrayList<>();
+    if (space == ClusterSpace.SCORES) {
+      present.addAll(List.of(spark.read().parquet(scored.scoresPath()).columns()));
+    } else {
+      present.addAll(model.features());
+    }
+    for (String d : base) {
       if (!present.contains(d)) {
         throw new InvalidJobException("apply.centroids = " + centroidsPath + ": the centroids have dimension " + d
-            + ", which the scores of this model lack (scores: " + String.join(", ", present) + ")");
+            + ", which the " + (space == ClusterSpace.SCORES ? "scores" : "features") + " of this model lack ("
+            + space.word() + ": " + String.join(", ", present) + ")");
       }
     }
-    Dataset<Row> labelled = NearestCentroid.label(scores.select(columns(plan.keys(), dims)), dims,
-        stored.centroids());
+    String entity = stored.entity();
+    if (!entity.isEmpty() && !plan.keys().contains(entity)) {
+      throw new InvalidJobException("apply.centroids = " + centroidsPath + ": the centroids cluster entities of"
+          + " column " + entity + " (cluster.entity of the fit), which is not among features.keys " + plan.keys()
+          + "; add " + entity + " to features.keys");
+    }
+    Dataset<Row> points = points(table, scored, space, base);
     String path = out.staged("labels");
-    labelled.drop(dims.toArray(new String[0])).write().parquet(path);
+    if (entity.isEmpty()) {
+      NearestCentroid.label(points, dims, stored.centroids()).drop(dims.toArray(new String[0])).write()
+          .parquet(path);
+    } else {
+      Dataset<Row> aggregates = ClusterJob.entityPoints(points, base, entity, stored.spread(), "rows");
+      NearestCentroid.label(aggregates, dims, stored.centroids())
+          .select(columns(List.of(entity, "rows", "cluster", "distance"), List.of())).write().parquet(path);
+    }
+    Map<Integer, Long> sizes = sizes(path);
+    Map<Integer, Long> rowSizes = null;
+    if (!entity.isEmpty() && labelRows) {
+      Dataset<Row> rows = points;
+      if (stored.spread()) {
+        for (String c : base) {
+          rows = rows.withColumn(c + "_sd", functions.lit(0.0));
+        }
+      }
+      String rowPath = out.staged("row-labels");
+      NearestCentroid.label(rows, dims, stored.centroids()).drop(dims.toArray(new String[0])).write()
+          .parquet(rowPath);
+      rowSizes = sizes(rowPath);
+    }
+    long unlabelled = sizes.getOrDefault(-1, 0L);
+    long labelled = sizes.values().stream().mapToLong(Long::longValue).sum() - unlabelled;
+    sizes.remove(-1);
+    return new LabelResult(centroidsPath, entity, stored.spread(), stored.space(), labelled, unlabelled, sizes,
+        rowSizes);
+  }
+
+  /** Labels per cluster in the written table at {@code path} (key -1: no label). */
+  private Map<Integer, Long> sizes(String path) {
     Map<Integer, Long> sizes = new java.util.TreeMap<>();
     for (Row r : spark.read().parquet(path).groupBy("cluster").count().collectAsList()) {
       sizes.put(r.isNullAt(0) ? -1 : r.getInt(0), r.getLong(1));

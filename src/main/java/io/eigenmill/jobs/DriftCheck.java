@@ -1,9 +1,13 @@
 package io.eigenmill.jobs;
 
 import io.eigenmill.math.PrincipalAngles;
+import io.eigenmill.settings.InvalidJobException;
+import io.eigenmill.settings.JobSettings;
+import io.eigenmill.spark.ModelStore;
 import java.util.ArrayList;
 import java.util.Comparator;
 import java.util.List;
+import org.apache.spark.sql.SparkSession;
 
 /**
  * Compares a model with an earlier one on the features they share: principal angles between their retained
@@ -12,6 +16,26 @@ import java.util.List;
  */
 final class DriftCheck {
   private DriftCheck() {}
+
+  /**
+   * Refuses {@code apply.compare-with} naming the model the job applies: the same folder (after resolving
+   * {@code model/} and the path's spelling) or an identical model ({@link PcaModel#contentFingerprint}) elsewhere.
+   * Such a comparison can only show zero angles and zero shifts.
+   *
+   * @throws InvalidJobException naming the setting, its value and the rule
+   */
+  static void refuseSelf(SparkSession spark, JobSettings.Apply apply, PcaModel applied, PcaModel other) {
+    String where = ModelStore.location(spark, apply.model());
+    boolean sameFolder = where.equals(ModelStore.location(spark, apply.compareWith()));
+    String fingerprint = applied.contentFingerprint();
+    if (sameFolder || fingerprint.equals(other.contentFingerprint())) {
+      throw new InvalidJobException("apply.compare-with = " + apply.compareWith() + ": is the model this job applies"
+          + " (apply.model = " + apply.model() + ", " + (sameFolder ? "the same folder " + where
+              : "an identical model, fingerprint " + fingerprint) + "); compare-with must name another model, e.g."
+          + " an earlier fit. The new data against apply.model is in every apply run (summary.json data_drift,"
+          + " data-drift/)");
+    }
+  }
 
   /** {@code earlier} is the reference (e.g. last week's model), {@code current} the model applied now. */
   static DriftResult compare(PcaModel earlier, PcaModel current, String earlierPath) {

@@ -34,7 +34,12 @@ public final class JobRunner {
   private JobRunner() {}
 
   public static JobPlan plan(SparkSession spark, JobSettings settings) {
-    return Planner.plan(spark, settings);
+    JobPlan plan = Planner.plan(spark, settings);
+    if (settings.apply().appliesModel() && !settings.apply().compareWith().isEmpty()) {
+      DriftCheck.refuseSelf(spark, settings.apply(), ModelStore.read(spark, "apply.model", settings.apply().model()),
+          ModelStore.read(spark, "apply.compare-with", settings.apply().compareWith()));
+    }
+    return plan;
   }
 
   /**
@@ -51,6 +56,9 @@ public final class JobRunner {
     PcaModel applied = applying ? ModelStore.read(spark, "apply.model", settings.apply().model()) : null;
     PcaModel earlier = settings.apply().compareWith().isEmpty() ? null
         : ModelStore.read(spark, "apply.compare-with", settings.apply().compareWith());
+    if (applying && earlier != null) {
+      DriftCheck.refuseSelf(spark, settings.apply(), applied, earlier);
+    }
     JobPlan plan = applying ? Planner.planApply(spark, settings, applied) : Planner.plan(spark, settings);
     OutputCommit out = OutputCommit.begin(spark, settings.output().path(), settings.output().mode());
     try {
@@ -110,10 +118,16 @@ public final class JobRunner {
       sample = clustering.colour(sample, outcome);
       clock.lap("cluster");
     }
+    LabelResult labels = null;
     if (labelling) {
-      Map<Integer, Long> sizes = clustering.label(scored, settings.apply().centroids());
-      LOG.info("labels: rows per saved cluster {}", sizes);
+      labels = clustering.label(table, scored, settings.apply().centroids(), settings.apply().labelRows());
+      LOG.info("labels: {} per saved cluster {}", labels.byEntity() ? labels.entity() + " values" : "rows",
+          labels.sizes());
       clock.lap("label");
+    }
+    DataDriftResult dataDrift = scored == null ? null : scored.dataDrift();
+    if (dataDrift != null) {
+      DataDriftTable.write(spark, dataDrift, out.staged("data-drift"));
     }
     ReconstructionResult reconstruction = null;
     if (settings.output().reconstruction()) {
@@ -128,6 +142,6 @@ public final class JobRunner {
     }
     timings.putAll(clock.timings());
     return new RunResult(plan, fit, model, monitor, reconstruction, drift, clusters, sample, out.finalPath(), timings,
-        warnings, (System.nanoTime() - started) / 1e9);
+        warnings, (System.nanoTime() - started) / 1e9, dataDrift, labels);
   }
 }

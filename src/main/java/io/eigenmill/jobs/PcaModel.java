@@ -45,6 +45,30 @@ public record PcaModel(
     return loadings[j + c * features.size()];
   }
 
+  /**
+   * SHA-256 (hex, first 16 bytes) of what the model computes with: features and types, scaling, method, row
+   * count, means, scales, k, loadings, eigenvalues and total variance (the product version is left out). Two
+   * models with the same fingerprint are the same fit, wherever they are stored.
+   */
+  public String contentFingerprint() {
+    try {
+      MessageDigest md = MessageDigest.getInstance("SHA-256");
+      md.update((String.join("\n", features) + "\u0000" + String.join("\n", featureTypes) + "\u0000" + scaling
+          + "\u0000" + method + "\u0000" + rows + "\u0000" + k + "\u0000").getBytes(StandardCharsets.UTF_8));
+      for (double[] a : new double[][] {means, scales, loadings, eigenvalues, {totalVariance}}) {
+        java.nio.ByteBuffer b = java.nio.ByteBuffer.allocate(8 * a.length + 4);
+        b.putInt(a.length);
+        for (double v : a) {
+          b.putDouble(v);
+        }
+        md.update(b.array());
+      }
+      return HexFormat.of().formatHex(md.digest(), 0, 16);
+    } catch (NoSuchAlgorithmException e) {
+      throw new IllegalStateException(e);
+    }
+  }
+
   /** SHA-256 (hex, first 16 bytes) of "name:type" of each feature in order. */
   public static String fingerprint(List<String> features, List<String> types) {
     try {

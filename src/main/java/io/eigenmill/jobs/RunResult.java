@@ -7,9 +7,12 @@ import java.util.Map;
 /**
  * Everything one run produced, for the summary and the report. Sections that a run does not have are null: a fit has
  * {@code fit}; an apply run has none; {@code monitor} exists when scores were written; {@code clusters} when
- * clustering ran; {@code reconstruction} and {@code drift} when asked for.
+ * clustering ran; {@code reconstruction} and {@code drift} when asked for; {@code dataDrift} in every apply run;
+ * {@code labels} when saved centroids labelled the new data.
  *
  * @param model the model fitted or applied
+ * @param drift the applied (or fitted) model against another model ({@code apply.compare-with})
+ * @param dataDrift the new data against the applied model
  * @param timings seconds per stage, in order
  * @param warnings every warning of the run, each saying what to do about it
  */
@@ -25,4 +28,15 @@ public record RunResult(
     String outputPath,
     Map<String, Double> timings,
     List<String> warnings,
-    double totalSeconds) {}
+    double totalSeconds,
+    DataDriftResult dataDrift,
+    LabelResult labels) {
+
+  /** A run without data drift or labels. */
+  public RunResult(JobPlan plan, FitResult fit, PcaModel model, MonitorResult monitor,
+      ReconstructionResult reconstruction, DriftResult drift, ClusterResult clusters, ScoreSample sample,
+      String outputPath, Map<String, Double> timings, List<String> warnings, double totalSeconds) {
+    this(plan, fit, model, monitor, reconstruction, drift, clusters, sample, outputPath, timings, warnings,
+        totalSeconds, null, null);
+  }
+}

@@ -48,8 +48,12 @@ final class ScoringStage {
     this.out = out;
   }
 
-  /** What scoring produced: the monitoring record, a sample for the score map, and where the scores are. */
-  record Outcome(MonitorResult monitor, ScoreSample sample, String scoresPath) {}
+  /**
+   * What scoring produced: the monitoring record, a sample for the score map, and where the scores are.
+   *
+   * @param dataDrift the scored rows against the model (new rows only; null for the fitted rows)
+   */
+  record Outcome(MonitorResult monitor, ScoreSample sample, String scoresPath, DataDriftResult dataDrift) {}
 
   Outcome score(Dataset<Row> table, boolean fittedRows) {
     JobSettings s = plan.settings();
@@ -57,6 +61,9 @@ final class ScoringStage {
     ScoringPass.Limits limits = ScoringPass.Limits.of(model, confidence, fittedRows);
     ScoringPass.Spec spec = ScoringPass.spec(model, s, limits, false);
     ScoringPass.Counters counters = ScoringPass.Counters.register(spark.sparkContext(), "scores", spec, TOP_ROWS);
+    if (!fittedRows) {
+      counters = counters.withDrift(spark.sparkContext(), "scores", spec);
+    }
     ScoringPass.Scored scored = ScoringPass.apply(table, plan.keys(), plan.partitionColumns(), spec, counters);
     LOG.info("score: reading {}", scored.readPath());
     String path = out.staged("scores");
@@ -70,7 +77,8 @@ final class ScoringStage {
         limits.t2Rule(), limits.q(), limits.qRule(), series(scored, counters), flagged(counters.top(), limits));
     LOG.info("score: {} rows, flagged T2 {}, Q {}, both {}", monitor.rowsScored(), monitor.flaggedT2(),
         monitor.flaggedQ(), monitor.flaggedBoth());
-    return new Outcome(monitor, sample(scored, counters), path);
+    DataDriftResult dataDrift = fittedRows ? null : DataDrift.of(model, counters.drift().value());
+    return new Outcome(monitor, sample(scored, counters), path, dataDrift);
   }
 
   private void write(Dataset<Row> scored, String path) {

@@ -52,6 +52,12 @@ public final class SummaryJson {
     if (run.clusters() != null) {
       m.put("clusters", clusterSection(run.clusters()));
     }
+    if (run.dataDrift() != null) {
+      m.put("data_drift", dataDriftSection(run.dataDrift()));
+    }
+    if (run.labels() != null) {
+      m.put("labels", labelSection(run.labels()));
+    }
     m.put("blas", io.eigenmill.math.Linalg.describe());
     m.put("timings_seconds", run.timings());
     m.put("warnings", run.warnings());
@@ -129,6 +135,66 @@ public final class SummaryJson {
     Map<String, Double> shifts = new LinkedHashMap<>();
     r.meanShifts().forEach(x -> shifts.put(x.feature(), x.shiftInOldSd()));
     m.put("mean_shift_in_old_sd", shifts);
+    return m;
+  }
+
+  static Map<String, Object> dataDriftSection(DataDriftResult r) {
+    Map<String, Object> m = new LinkedHashMap<>();
+    m.put("rows", r.rows());
+    m.put("model_rows", r.modelRows());
+    m.put("model_total_variance", r.modelTotalVariance());
+    m.put("new_total_variance", r.newTotalVariance());
+    m.put("total_variance_ratio", r.totalVarianceRatio());
+    m.put("model_inside_share", r.modelInsideShare());
+    m.put("new_inside_share", r.newInsideShare());
+    m.put("model_outside_share", r.modelOutsideShare());
+    m.put("new_outside_share", r.newOutsideShare());
+    List<Map<String, Object>> components = new java.util.ArrayList<>();
+    for (DataDriftResult.ComponentDrift c : r.components()) {
+      Map<String, Object> e = new LinkedHashMap<>();
+      e.put("component", c.component());
+      e.put("eigenvalue", c.eigenvalue());
+      e.put("new_variance", c.newVariance());
+      e.put("variance_ratio", c.varianceRatio());
+      e.put("score_mean_sd", c.scoreMeanSd());
+      e.put("model_share", c.modelShare());
+      e.put("new_share", c.newShare());
+      components.add(e);
+    }
+    m.put("components", components);
+    List<Map<String, Object>> features = new java.util.ArrayList<>();
+    for (DataDriftResult.FeatureDrift f : r.features()) {
+      Map<String, Object> e = new LinkedHashMap<>();
+      e.put("feature", f.feature());
+      e.put("model_mean", f.modelMean());
+      e.put("model_sd", f.modelSd());
+      e.put("new_mean", f.newMean());
+      e.put("new_sd", f.newSd());
+      e.put("mean_shift_sd", f.meanShiftSd());
+      e.put("variance_ratio", f.varianceRatio());
+      features.add(e);
+    }
+    m.put("features", features);
+    return m;
+  }
+
+  static Map<String, Object> labelSection(LabelResult r) {
+    Map<String, Object> m = new LinkedHashMap<>();
+    m.put("centroids", r.centroids());
+    m.put("by", r.byEntity() ? r.entity() : "row");
+    m.put("entity_spread", r.spread());
+    m.put("space", r.space().isEmpty() ? "scores" : r.space());
+    m.put("window", r.byEntity() ? "input" : "row");
+    m.put("labelled", r.labelled());
+    m.put("unlabelled", r.unlabelled());
+    Map<String, Long> sizes = new LinkedHashMap<>();
+    r.sizes().forEach((c, n) -> sizes.put(Integer.toString(c), n));
+    m.put("sizes", sizes);
+    if (r.rowSizes() != null) {
+      Map<String, Long> rows = new LinkedHashMap<>();
+      r.rowSizes().forEach((c, n) -> rows.put(c < 0 ? "none" : Integer.toString(c), n));
+      m.put("row_label_sizes", rows);
+    }
     return m;
   }
 

@@ -89,6 +89,14 @@ public final class Scorer implements Serializable {
     return z[j * rows + i];
   }
 
+  /**
+   * The prepared residuals of the last {@link #score} call on {@code rows} rows: column-major {@code rows x d},
+   * leading dimension {@code rows}, valid until the next call. Read only.
+   */
+  public double[] residuals() {
+    return z;
+  }
+
   /** Reconstruction of row i, feature j in original units: mean + scale * (x - residual) in prepared units. */
   public double reconstructed(double[] x, int ld, int i, int j, int rows) {
     double prepared = (x[j * ld + i] - means[j]) / scales[j];

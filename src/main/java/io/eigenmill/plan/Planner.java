@@ -279,6 +279,7 @@ public final class Planner {
     List<String> out = new ArrayList<>(List.of("summary.json", "report.html"));
     if (s.apply().appliesModel()) {
       out.add("scores/");
+      out.add("data-drift/");
       if (!s.apply().compareWith().isEmpty()) {
         out.add("drift/");
       }
@@ -297,6 +298,9 @@ public final class Planner {
     }
     if (!s.apply().centroids().isEmpty()) {
       out.add("labels/");
+      if (s.apply().labelRows()) {
+        out.add("row-labels/ (entity centroids)");
+      }
     }
     return out;
   }

@@ -35,6 +35,7 @@ public final class HtmlReport {
     Sections.monitoring(b, m.monitoring());
     Sections.clusters(b, m.clusters());
     Sections.compression(b, m.compression());
+    Sections.dataDrift(b, m.dataDrift());
     Sections.drift(b, m.drift());
     b.append("</main>\n<footer>Made by eigenmill ").append(Html.esc(m.header().productVersion()))
         .append(" from the run's result records; the same numbers are in summary.json.</footer>\n</body>\n</html>\n");
@@ -64,7 +65,8 @@ public final class HtmlReport {
       case "section-monitoring" -> "Monitoring";
       case "section-clusters" -> "Clusters";
       case "section-compression" -> "Compression";
-      default -> "Drift";
+      case "section-data-drift" -> "New data";
+      default -> "Other model";
     };
   }
 

@@ -19,7 +19,8 @@ public record ReportModel(
     MonitoringModel monitoring,
     ClusterModel clusters,
     CompressionModel compression,
-    DriftModel drift) {
+    DriftModel drift,
+    DataDriftModel dataDrift) {
 
   /** Pure: reads the records, never Spark or the file system. */
   public static ReportModel of(RunResult run) {
@@ -27,7 +28,7 @@ public record ReportModel(
     List<String> warnings = run.warnings() == null ? List.of() : List.copyOf(run.warnings());
     return new ReportModel("eigenmill report: " + run.plan().settings().name(), HeaderModel.of(run, scree), warnings,
         scree, LoadingsModel.of(run, scree), ScoreMapModel.of(run, scree), MonitoringModel.of(run),
-        ClusterModel.of(run), CompressionModel.of(run), DriftModel.of(run));
+        ClusterModel.of(run), CompressionModel.of(run), DriftModel.of(run), DataDriftModel.of(run));
   }
 
   /** The ids of the sections this report has, in page order. */
@@ -41,6 +42,7 @@ public record ReportModel(
     add(ids, monitoring != null, "section-monitoring");
     add(ids, clusters != null, "section-clusters");
     add(ids, compression != null, "section-compression");
+    add(ids, dataDrift != null, "section-data-drift");
     add(ids, drift != null, "section-drift");
     return ids;
   }

@@ -221,13 +221,40 @@ final class Sections {
     return i < texts.size() ? texts.get(i) : "";
   }
 
+  static void dataDrift(StringBuilder b, DataDriftModel m) {
+    if (m == null) {
+      return;
+    }
+    HtmlReport.open(b, "section-data-drift", "New data against the model", "The rows this run scored compared"
+        + " with the rows the model was fitted on: how much of their variance the model's components still hold,"
+        + " each component's variance against its eigenvalue, and the features whose mean moved most, in the"
+        + " model's standard deviations.");
+    HtmlReport.facts(b, m.facts());
+    HtmlReport.table(b, "data-drift-components", List.of("component", "eigenvalue", "new variance", "new / eigenvalue",
+        "mean score (sd)", "share, fitted", "share, new"), 1, m.components());
+    if (!m.shifts().isEmpty()) {
+      b.append("<h3>Largest mean shifts</h3>\n");
+      HtmlReport.table(b, "data-drift-shifts", List.of("feature", "model mean", "new mean", "shift (model sd)",
+          "variance, new / model"), 1, m.shifts());
+      if (m.shifts().size() < m.shiftsTotal()) {
+        b.append("<p class=\"lead\">The ").append(m.shifts().size()).append(" largest of ").append(m.shiftsTotal())
+            .append(" features; all are in data-drift/ and summary.json.</p>\n");
+      }
+    }
+    if (!m.labels().isEmpty()) {
+      b.append("<h3>Labels from saved centroids</h3>\n");
+      HtmlReport.facts(b, m.labels());
+    }
+    HtmlReport.close(b);
+  }
+
   static void drift(StringBuilder b, DriftModel m) {
     if (m == null) {
       return;
     }
-    HtmlReport.open(b, "section-drift", "Drift against the earlier model", "Compared with " + m.otherModel()
-        + ". Small principal angles mean the components point the same way; mean shifts are in standard "
-        + "deviations of the earlier model.");
+    HtmlReport.open(b, "section-drift", "The model against another model", "This run's model compared with "
+        + m.otherModel() + " (apply.compare-with). Small principal angles mean the components point the same way;"
+        + " mean shifts are in standard deviations of the other model.");
     b.append("<div class=\"row\">");
     HtmlReport.figure(b, ChangeCharts.angles(m), null);
     HtmlReport.figure(b, ChangeCharts.explained(m), null);

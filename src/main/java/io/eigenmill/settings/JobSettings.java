@@ -66,7 +66,8 @@ public record JobSettings(
 
   public record Monitor(double confidence) implements Serializable {}
 
-  public record Apply(String model, String compareWith, String centroids) implements Serializable {
+  /** @param labelRows with entity centroids, also label each row ({@code apply.label-rows}) */
+  public record Apply(String model, String compareWith, String centroids, boolean labelRows) implements Serializable {
     public boolean appliesModel() {
       return !model.isEmpty();
     }

@@ -317,7 +317,7 @@ public final class SettingsReader {
         f.longValue("reduce.randomized.seed"));
     var monitor = new JobSettings.Monitor(f.openFraction("monitor.confidence"));
     var apply = new JobSettings.Apply(f.string("apply.model"), f.string("apply.compare-with"),
-        f.string("apply.centroids"));
+        f.string("apply.centroids"), f.bool("apply.label-rows"));
     int[] kRange = f.range("cluster.k-range");
     var cluster = new JobSettings.Cluster(f.bool("cluster.enabled"),
         f.choice("cluster.space", Choices.ClusterSpace.values()), f.optionalInt("cluster.k", 1, 10_000),

@@ -6,6 +6,7 @@ import java.util.List;
 import org.apache.spark.sql.Dataset;
 import org.apache.spark.sql.Row;
 import org.apache.spark.sql.SparkSession;
+import org.apache.spark.sql.types.Metadata;
 import org.apache.spark.sql.types.NumericType;
 import org.apache.spark.sql.types.StructField;
 
@@ -17,8 +18,30 @@ import org.apache.spark.sql.types.StructField;
 public final class CentroidStore {
   private CentroidStore() {}
 
-  /** The centroids in the clustered space, row c being cluster c, and the names of their dimensions. */
-  public record StoredCentroids(List<String> dimensions, double[][] centroids) {}
+  /** Metadata key of the {@code cluster} column: the entity column clustered, "" for rows. */
+  public static final String ENTITY = "eigenmill.entity";
+  /** Metadata key: true when entity points carry the sd of each coordinate ({@code cluster.entity-spread}). */
+  public static final String SPREAD = "eigenmill.entity_spread";
+  /** Metadata key: the clustered space, "scores" or "features". */
+  public static final String SPACE = "eigenmill.space";
+
+  /**
+   * The centroids in the clustered space, row c being cluster c, the names of their dimensions, and what was
+   * clustered.
+   *
+   * @param entity the entity column whose aggregates were clustered, "" for rows (also for centroids written before
+   *     the table said so)
+   * @param spread entity points are the means followed by the sds of the first half of {@code dimensions}
+   * @param space "scores" or "features"; "" when the table does not say
+   */
+  public record StoredCentroids(List<String> dimensions, double[][] centroids, String entity, boolean spread,
+      String space) {
+
+    /** The coordinates whose per-entity means (and sds) are the dimensions. */
+    public List<String> pointColumns() {
+      return spread ? dimensions.subList(0, dimensions.size() / 2) : dimensions;
+    }
+  }
 
   /**
    * Reads the centroids at {@code path}: a {@code centroids/} folder, or a folder holding one (a run's
@@ -77,6 +100,11 @@ public final class CentroidStore {
         centroids[c][l] = x;
       }
     }
-    return new StoredCentroids(List.copyOf(dims), centroids);
+    Metadata kind = fields[cluster].metadata();
+    String entity = kind.contains(ENTITY) ? kind.getString(ENTITY) : "";
+    boolean spread = !entity.isEmpty() && kind.contains(SPREAD) && kind.getBoolean(SPREAD)
+        && dims.size() % 2 == 0;
+    String space = kind.contains(SPACE) ? kind.getString(SPACE) : "";
+    return new StoredCentroids(List.copyOf(dims), centroids, entity, spread, space);
   }
 }

@@ -9,15 +9,24 @@ import org.apache.spark.sql.Row;
 import org.apache.spark.sql.RowFactory;
 import org.apache.spark.sql.SparkSession;
 import org.apache.spark.sql.types.DataTypes;
+import org.apache.spark.sql.types.Metadata;
+import org.apache.spark.sql.types.MetadataBuilder;
 import org.apache.spark.sql.types.StructType;
 
 /** Builds the small tables of a clustering run from its result record (on the driver, one partition each). */
 public final class ClusterTables {
   private ClusterTables() {}
 
-  /** {@code cluster}, one column per dimension, {@code orig_<feature>} per feature. */
+  /**
+   * {@code cluster}, one column per dimension, {@code orig_<feature>} per feature. The {@code cluster} column's
+   * metadata says what was clustered ({@link CentroidStore#ENTITY}, {@link CentroidStore#SPREAD},
+   * {@link CentroidStore#SPACE}), so that an apply job labels the same kind of point (Parquet keeps it in the
+   * footer's Spark schema).
+   */
   public static Dataset<Row> centroids(SparkSession spark, ClusterResult r) {
-    StructType schema = new StructType().add("cluster", DataTypes.IntegerType, false);
+    Metadata kind = new MetadataBuilder().putString(CentroidStore.ENTITY, r.entity() == null ? "" : r.entity())
+        .putBoolean(CentroidStore.SPREAD, spread(r)).putString(CentroidStore.SPACE, r.space()).build();
+    StructType schema = new StructType().add("cluster", DataTypes.IntegerType, false, kind);
     for (String dim : r.dimensions()) {
       schema = schema.add(dim, DataTypes.DoubleType, false);
     }
@@ -38,6 +47,21 @@ public final class ClusterTables {
       rows.add(RowFactory.create(v));
     }
     return spark.createDataFrame(rows, schema).coalesce(1);
+  }
+
+  /** Entity points with their spread: the dimensions are c_1..c_p followed by c_1_sd..c_p_sd. */
+  private static boolean spread(ClusterResult r) {
+    List<String> dims = r.dimensions();
+    if (r.entity() == null || r.entity().isEmpty() || dims.size() % 2 != 0) {
+      return false;
+    }
+    int p = dims.size() / 2;
+    for (int i = 0; i < p; i++) {
+      if (!dims.get(p + i).equals(dims.get(i) + "_sd")) {
+        return false;
+      }
+    }
+    return true;
   }
 
   /** One row per cluster and distinguishing feature. */

@@ -107,6 +107,21 @@ public final class ModelStore {
         toDoubles(r.getList(r.fieldIndex("sds"))));
   }
 
+  /**
+   * Where the model table of {@code path} is ({@code path/model} when that exists, else {@code path}), as a fully
+   * qualified path with {@code .} and {@code ..} resolved and no trailing slash: two spellings of one folder give
+   * the same text.
+   */
+  public static String location(SparkSession spark, String path) {
+    String modelPath = TableLoader.exists(spark, path + "/model") ? path + "/model" : path;
+    try {
+      org.apache.hadoop.fs.Path p = new org.apache.hadoop.fs.Path(modelPath);
+      return p.getFileSystem(spark.sparkContext().hadoopConfiguration()).makeQualified(p).toString();
+    } catch (java.io.IOException | IllegalArgumentException e) {
+      return modelPath;
+    }
+  }
+
   private static double[] toDoubles(List<?> values) {
     double[] out = new double[values.size()];
     for (int i = 0; i < out.length; i++) {

@@ -1,5 +1,6 @@
 package io.eigenmill.spark;
 
+import io.eigenmill.math.DriftMoments;
 import io.eigenmill.math.HashSample;
 import io.eigenmill.math.Scorer;
 import io.eigenmill.math.SeedStream;
@@ -85,6 +86,9 @@ abstract class ScoreBlocks implements Iterator<InternalRow>, BlockSink {
   private final long seriesStream = SeedStream.mix(ScoringPass.SERIES_SEED + GOLDEN);
   private final long sampleStream = SeedStream.mix(ScoringPass.SAMPLE_SEED + GOLDEN);
   private List<Function1<Object, Object>> toExternal;
+  /** The partition's moments against the model, when the pass gathers them (new data); else null. */
+  private final DriftMoments drift;
+  private final double[] modelMeans;
 
   /** @param passOrdinals where the reader's source row holds pass-through column c */
   ScoreBlocks(ScoringPass.Spec spec, ScoringPass.Layout layout, ScoringPass.Counters counters, int[] passOrdinals) {
@@ -115,6 +119,11 @@ abstract class ScoreBlocks implements Iterator<InternalRow>, BlockSink {
         : null;
     int[] keyOrdinals = Arrays.copyOf(this.passOrdinals, layout.keys());
     this.keyHash = new KeyHash(keyOrdinals, Arrays.copyOf(layout.types(), layout.keys()));
+    this.drift = scoring && counters.drift() != null ? new DriftMoments(d, k) : null;
+    this.modelMeans = new double[d];
+    for (int j = 0; j < d; j++) {
+      modelMeans[j] = scorer.mean(j);
+    }
   }
 
   /** Starts a new block and fills it; false when the partition has no rows left. */
@@ -205,6 +214,9 @@ abstract class ScoreBlocks implements Iterator<InternalRow>, BlockSink {
     } else {
       flagAndCollect();
       gather();
+      if (drift != null) {
+        drift.addBlock(x, m, count, modelMeans, scores, scorer.residuals());
+      }
     }
   }
 
@@ -372,6 +384,9 @@ abstract class ScoreBlocks implements Iterator<InternalRow>, BlockSink {
     }
     if (sample != null && !sample.isEmpty()) {
       counters.sample().add(sample);
+    }
+    if (drift != null) {
+      counters.drift().addPartition(org.apache.spark.TaskContext.getPartitionId(), drift);
     }
   }
 

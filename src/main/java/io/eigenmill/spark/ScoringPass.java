@@ -100,10 +100,22 @@ public final class ScoringPass {
   /** A row of the score sample: key values (Spark's internal form) and the first scores. */
   public record SampledRow(Object[] keys, double[] scores) implements Serializable {}
 
-  /** Driver-side accumulators of one pass. */
+  /**
+   * Driver-side accumulators of one pass.
+   *
+   * @param drift the moments of the scored rows against the model ({@link #withDrift}), or null when not gathered
+   */
   public record Counters(LongAccumulator scored, LongAccumulator dropped, LongAccumulator flaggedT2,
       LongAccumulator flaggedQ, LongAccumulator flaggedBoth, TopRows top, FeatureErrors errors, SeriesMaxima series,
-      RowSample<double[]> seriesSample, RowSample<SampledRow> sample) implements Serializable {
+      RowSample<double[]> seriesSample, RowSample<SampledRow> sample, DriftPartials drift) implements Serializable {
+
+    /** These counters, also gathering the moments of the scored rows against the model (new data only). */
+    public Counters withDrift(org.apache.spark.SparkContext sc, String stage, Spec spec) {
+      DriftPartials partials = new DriftPartials(spec.scorer().dimension(), spec.scorer().components());
+      sc.register(partials, "eigenmill data drift (" + stage + ")");
+      return new Counters(scored, dropped, flaggedT2, flaggedQ, flaggedBoth, top, errors, series, seriesSample, sample,
+          partials);
+    }
 
     public static Counters register(org.apache.spark.SparkContext sc, String stage, Spec spec, int topRows) {
       TopRows top = new TopRows(topRows);
@@ -118,7 +130,7 @@ public final class ScoringPass {
       sc.register(sample, "eigenmill score sample (" + stage + ")");
       return new Counters(sc.longAccumulator(stage + " scored"), sc.longAccumulator(stage + " dropped"),
           sc.longAccumulator(stage + " flagged T2"), sc.longAccumulator(stage + " flagged Q"),
-          sc.longAccumulator(stage + " flagged both"), top, errors, series, seriesSample, sample);
+          sc.longAccumulator(stage + " flagged both"), top, errors, series, seriesSample, sample, null);
     }
   }
 

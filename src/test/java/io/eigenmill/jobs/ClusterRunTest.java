@@ -51,17 +51,27 @@ class ClusterRunTest extends SparkSuite {
     assertEquals(c.withinSs(), summary.get("clusters").get("within_ss").asDouble(), 0.0);
     assertTrue(Files.readString(fit.resolve("report.html")).contains("section-clusters"));
 
-    // Labelling: the fitted rows scored by the same model and labelled with the saved centroids of the k-means run.
-    // Clustering ran on the prepared features, so the saved centroids have the feature dimensions and the scores
-    // (pc_*) cannot be labelled with them: the message says so, naming the setting.
+    // Labelling: the fitted rows labelled with the saved centroids of the k-means run. Clustering ran on the prepared
+    // features, and the centroids table says so, so the apply job prepares the features with the model's means and
+    // scales as the fit did: every row's nearest centroid and distance are those of the fit's assignments (which are
+    // the nearest-centroid labels of the final centroids), as a multiset (the table has no keys): the same clusters,
+    // and distances equal within 1e-9 (exact Euclidean distances recomputed in another chunk of rows; values O(1))
     Path apply = dir.resolve("apply");
-    var e = org.junit.jupiter.api.Assertions.assertThrows(io.eigenmill.settings.InvalidJobException.class,
-        () -> JobRunner.run(spark, JobFiles.settings("input.path = \"" + csv + "\"\ninput.format = csv\n"
-            + "apply.model = \"" + fit + "\"\napply.centroids = \"" + fit.resolve("clusters") + "\"\n"
-            + "output.path = \"" + apply + "\"\n")));
-    assertTrue(e.getMessage().startsWith("apply.centroids = " + fit.resolve("clusters") + ": the centroids have"
-        + " dimension alcohol"), e.getMessage());
-    assertTrue(Files.notExists(apply));
+    RunResult applied = JobRunner.run(spark, JobFiles.settings("input.path = \"" + csv + "\"\ninput.format = csv\n"
+        + "apply.model = \"" + fit + "\"\napply.centroids = \"" + fit.resolve("clusters") + "\"\n"
+        + "output.path = \"" + apply + "\"\n"));
+    assertEquals("features", applied.labels().space());
+    Dataset<Row> labels = spark.read().parquet(apply.resolve("labels").toString()).select("cluster", "distance");
+    Dataset<Row> assignments = spark.read().parquet(fit.resolve("clusters/assignments").toString())
+        .select("cluster", "distance");
+    assertEquals(178, labels.count());
+    List<Row> got = labels.orderBy("cluster", "distance").collectAsList();
+    List<Row> want = assignments.orderBy("cluster", "distance").collectAsList();
+    assertEquals(want.size(), got.size());
+    for (int i = 0; i < want.size(); i++) {
+      assertEquals(want.get(i).getInt(0), got.get(i).getInt(0), "cluster of the row ranked " + i);
+      assertEquals(want.get(i).getDouble(1), got.get(i).getDouble(1), 1e-9, "distance of the row ranked " + i);
+    }
   }
 
   @Test
