@@ -86,6 +86,9 @@ public final class SummaryJson {
     m.put("t2_limit_rule", r.t2LimitRule());
     m.put("q_limit", r.qLimit());
     m.put("q_limit_rule", r.qLimitRule());
+    m.put("q_rule", r.qRule());
+    m.put("q_h0", Double.isNaN(r.qH0()) ? null : r.qH0());
+    m.put("expected_flagged_share", 1 - r.confidence());
     List<Map<String, Object>> top = new java.util.ArrayList<>();
     for (MonitorResult.FlaggedRow row : r.top()) {
       Map<String, Object> t = new LinkedHashMap<>();

@@ -48,7 +48,8 @@ public record JobSettings(
       int powerIterations,
       long seed) implements Serializable {}
 
-  public record Monitor(double confidence) implements Serializable {}
+  /** @param qLimit how the Q control limit is computed ({@code monitor.q-limit}) */
+  public record Monitor(double confidence, Choices.QLimit qLimit) implements Serializable {}
 
   public record Apply(String model, String compareWith, String centroids) implements Serializable {
     public boolean appliesModel() {

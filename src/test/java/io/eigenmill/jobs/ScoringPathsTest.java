@@ -106,7 +106,7 @@ class ScoringPathsTest extends SparkSuite {
     spark.conf().set(VECTORIZED, String.valueOf(vectorized));
     try {
       ScoringPass.Limits limits = reconstruct ? ScoringPass.Limits.none()
-          : ScoringPass.Limits.of(model, settings.monitor().confidence(), false);
+          : ScoringPass.Limits.of(model, settings.monitor(), false);
       ScoringPass.Spec spec = ScoringPass.spec(model, settings, limits, reconstruct);
       ScoringPass.Counters counters = ScoringPass.Counters.register(spark.sparkContext(), "test", spec, 20);
       ScoringPass.Scored scored = ScoringPass.apply(spark.read().parquet(input), List.of("host", "ts"),

@@ -185,8 +185,9 @@ class HtmlReportTest {
   void edgeCasesRenderWithoutFailing() {
     PcaModel one = FleetFixture.model(List.of("a", "b"), 1, new double[] {1, 0});
     RunResult bare = FleetFixture.applyRun(one, List.of());
-    MonitorResult empty = new MonitorResult(0.95, 1, 0, 0, 0, 0, 1, "rule", 1, "rule",
-        new MonitorResult.Series("row", new double[0], new double[0], new double[0]), List.of());
+    MonitorResult empty = new MonitorResult(0.95, 1, 0, 0, 0, 0, 1, "rule", 1, "rule", "box", -0.5, false,
+        MonitorResult.Series.ofRows("row", new double[0], new double[0], new double[0]), List.of(), List.of(),
+        List.of());
     RunResult run = new RunResult(bare.plan(), null, one, empty, null, null, null,
         new io.eigenmill.jobs.ScoreSample(List.of("host"), List.of(List.of("h")), new double[][] {{0.0}}, null),
         "/o", Map.of(), List.of(), 0);
