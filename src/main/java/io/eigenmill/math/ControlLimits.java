@@ -166,7 +166,8 @@ public final class ControlLimits {
       double z = new NormalDistribution(null, 0, 1).inverseCumulativeProbability(1 - EXCESS_TAIL);
       upper = Math.ceil(n * p + z * Math.sqrt(n * p * (1 - p)));
     }
-    return Math.max(EXCESS_FLOOR, (long) Math.max(upper, Math.ceil(EXCESS_FACTOR * n * p)));
+    // a count is above x when it is above floor(x); 1e-6 absorbs the rounding of 1 - confidence
+    return Math.max(EXCESS_FLOOR, (long) Math.max(upper, Math.floor(EXCESS_FACTOR * n * p + 1e-6)));
   }
 
   /** Jackson-Mudholkar Q limit; 0 when nothing is discarded (Q is then identically zero). */
