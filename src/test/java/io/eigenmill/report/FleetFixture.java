@@ -225,6 +225,11 @@ final class FleetFixture {
    * their times as ISO-8601 text.
    */
   MonitorResult monitorBuckets() {
+    return monitorBuckets(-1);
+  }
+
+  /** {@link #monitorBuckets()} with every row of bucket {@code burst} (if >= 0) above the Q limit: a bad hour. */
+  MonitorResult monitorBuckets(int burst) {
     MonitorResult m = monitor();
     int buckets = (int) ((N - 1) * 300L / BUCKET) + 1;
     double[] at = new double[buckets];
@@ -242,6 +247,11 @@ final class FleetFixture {
       overT2[b] += t2[i] > m.t2Limit() ? 1 : 0;
       overQ[b] += q[i] > m.qLimit() ? 1 : 0;
     }
+    long extra = 0;
+    if (burst >= 0) {
+      extra = rows[burst] - overQ[burst];
+      overQ[burst] = rows[burst];
+    }
     List<MonitorResult.FlaggedRow> top = new ArrayList<>();
     for (MonitorResult.FlaggedRow r : m.top()) {
       String ts = java.time.LocalDateTime.parse(r.keys().get(1).replace(' ', 'T')).toInstant(java.time.ZoneOffset.UTC)
@@ -249,7 +259,8 @@ final class FleetFixture {
       top.add(new MonitorResult.FlaggedRow(List.of(r.keys().get(0), ts, ts.substring(0, 10)), r.t2(), r.q(),
           r.flaggedT2(), r.flaggedQ(), r.qContributions()));
     }
-    return new MonitorResult(m.confidence(), m.k(), m.rowsScored(), m.flaggedT2(), m.flaggedQ(), m.flaggedBoth(),
+    return new MonitorResult(m.confidence(), m.k(), m.rowsScored(), m.flaggedT2(), m.flaggedQ() + extra,
+        m.flaggedBoth(),
         m.t2Limit(), m.t2LimitRule(), m.qLimit(), m.qLimitRule(), m.qRule(), m.qH0(), false,
         new MonitorResult.Series("ts (buckets of 3600 s, 1.00 hours)", at, maxT2, maxQ, rows, overT2, overQ),
         List.of("host", "ts", "day"), top, List.of());
@@ -399,8 +410,13 @@ final class FleetFixture {
   }
 
   RunResult applyWithBuckets() {
+    return applyWithBuckets(-1);
+  }
+
+  /** An apply run with the hourly series of {@link #monitorBuckets(int)}. */
+  RunResult applyWithBuckets(int burst) {
     JobPlan plan = plan(settings("apply.model = \"/data/edge-fleet/pca/2026-02/model\"\n"), "apply");
-    return new RunResult(plan, null, model, monitorBuckets(), null, null, null, sample(false),
+    return new RunResult(plan, null, model, monitorBuckets(burst), null, null, null, sample(false),
         "/data/edge-fleet/apply/03-02", timings(), List.of(), 33.0);
   }
 
