@@ -25,12 +25,13 @@ import org.apache.commons.math3.distribution.NormalDistribution;
  * h0 falls to 0 (the power 1 / h0 explodes) and is meaningless for h0 <= 0, which many small discarded eigenvalues
  * after one larger one give (h0 <= 1/3 always, with equality for equal eigenvalues, since theta2^2 <= theta1
  * theta3). {@code auto} therefore takes Jackson-Mudholkar only when h0 >= {@value #H0_SAFE}, Box otherwise. The
- * threshold is measured, not published: over 120 discarded spectra (one to three large eigenvalues over many equal
- * ones, geometric decays), the share of simulated Q = sum lambda_i z_i^2 above each limit at 0.99 (numpy, 300,000
- * draws each), Jackson-Mudholkar's worst relative error exceeded Box's for h0 below 0.15 (h0 in (0.10, 0.15]: 0.41
- * against 0.29 in |log(share / 0.01)|; h0 in (0.15, 0.20]: 0.33 against 0.19 but 0.22 against 0.17 on average;
- * h0 in (0.25, 1/3]: 0.10 against 0.13), and for h0 <= 0 it flagged 98.6% to 99.99% of the rows while Box flagged
- * 1.4% to 2.1%.
+ * threshold is measured, not published (numpy, the share of Q = sum lambda_i z_i^2 above each limit at 0.99, 300,000
+ * draws per spectrum, 280 spectra: one to three large eigenvalues over many equal ones, geometric decays): for
+ * h0 <= 0 Jackson-Mudholkar flagged 98.6% to 99.99% of the rows and Box 1.4% to 2.1%; for h0 in (0, 0.1] it flagged
+ * 0.5% to 0.94% (worst |log(share / 0.01)| 0.68) against Box's 1.24% to 1.38% (0.32), and it degrades quickly
+ * toward 0; for h0 in (0.14, 0.16] its worst error was 0.35 (0.71% flagged, on the side of fewer alarms) against
+ * Box's 0.24, but its average 0.19 against 0.22, and above 0.16 it is the better of the two on average
+ * (0.05 to 0.14 against 0.08 to 0.19). DEVELOPERS.md has the table.
  */
 public final class ControlLimits {
   /** Smallest h0 at which {@code auto} takes Jackson and Mudholkar's Q limit (see the class comment). */
