@@ -186,7 +186,16 @@ final class ScoringStage {
         at[i] = points.starts()[i];
       }
       String width = bucketWords(points.width(), scored.timeInDays());
-      return new MonitorResult.Series(time + (width.equals("day") ? " (per day)" : " (buckets of " + width + ")"), at, points.maxA(), points.maxB(), points.rows(), points.overA(), points.overB());
+      // rows at a coarser spacing than the buckets (every 5 minutes in buckets of 1 s): say so, or a reader takes
+      // the width for the spacing
+      long gap = Long.MAX_VALUE;
+      for (int i = 1; i < points.starts().length; i++) {
+        gap = Math.min(gap, points.starts()[i] - points.starts()[i - 1]);
+      }
+      String apart = gap != Long.MAX_VALUE && gap > points.width() && !width.equals("day")
+          ? ", at least " + bucketWords(gap, scored.timeInDays()) + " apart" : "";
+      return new MonitorResult.Series(time + (width.equals("day") ? " (per day)" : " (buckets of " + width + apart
+          + ")"), at, points.maxA(), points.maxB(), points.rows(), points.overA(), points.overB());
     }
     List<HashSample.Entry<double[]>> rows = counters.seriesSample().value().entries();
     double[] at = new double[rows.size()];
