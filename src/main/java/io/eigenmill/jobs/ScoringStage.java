@@ -107,7 +107,7 @@ final class ScoringStage {
         percent(1 - confidence), bound);
     String why;
     if (!fittedRows) {
-      why = "new data: the rows may have drifted from the model (apply.compare-with compares it with a model fitted"
+      why = "new data: the rows may have drifted from the model (apply.compare-with compares the model with one fitted"
           + " on recent data), or the limit does not hold for this data";
     } else if (statistic.equals("Q") && limits.qMethod().equals("jackson-mudholkar")
         && !(limits.qH0() >= ControlLimits.H0_SAFE)) {
