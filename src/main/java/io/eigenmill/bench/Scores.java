@@ -21,7 +21,7 @@ final class Scores {
   /** Scores {@code table} into {@code path} (overwritten) and returns the rows scored. */
   static long write(SparkSession spark, Dataset<Row> table, List<String> keys, PcaModel model,
       JobSettings settings, String path) {
-    ScoringPass.Limits limits = ScoringPass.Limits.of(model, settings.monitor().confidence(), false);
+    ScoringPass.Limits limits = ScoringPass.Limits.of(model, settings.monitor(), false);
     ScoringPass.Spec spec = ScoringPass.spec(model, settings, limits, false);
     ScoringPass.Counters counters = ScoringPass.Counters.register(spark.sparkContext(), "benchmark scores", spec,
         20);

@@ -21,8 +21,8 @@ final class Outcome {
     if (run.monitor() != null) {
       var m = run.monitor();
       s.append(String.format(Locale.ROOT, "scores: %,d rows scored with k = %d; flagged by T2 %,d, by Q %,d, by both "
-          + "%,d (confidence %s)%n", m.rowsScored(), m.k(), m.flaggedT2(), m.flaggedQ(), m.flaggedBoth(),
-          m.confidence()));
+          + "%,d (confidence %s; Q limit by %s, h0 = %.4g)%n", m.rowsScored(), m.k(), m.flaggedT2(), m.flaggedQ(),
+          m.flaggedBoth(), m.confidence(), m.qRule(), m.qH0()));
     }
     if (run.clusters() != null) {
       s.append(String.format(Locale.ROOT, "clusters: k = %d (%s), silhouette %.4f%n", run.clusters().k(),

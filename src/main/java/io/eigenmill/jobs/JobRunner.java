@@ -106,6 +106,7 @@ public final class JobRunner {
     if (applied != null || settings.output().scores() || settings.cluster().enabled() || labelling) {
       scored = scoring.score(table, applied == null);
       monitor = scored.monitor();
+      warnings.addAll(monitor.warnings());
       sample = scored.sample();
       clock.lap("score");
     }

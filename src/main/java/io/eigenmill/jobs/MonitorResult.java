@@ -6,10 +6,15 @@ import java.util.List;
  * Hotelling T2 and Q (squared prediction error) of scored rows, their control limits and what they flagged.
  *
  * @param t2LimitRule how the T2 limit was computed, in words (F distribution for new rows, beta for fitted rows)
- * @param qLimitRule how the Q limit was computed (Jackson and Mudholkar 1979; with all discarded eigenvalues or
- *     from trace identities)
- * @param series T2 and Q along row order or time, a bounded sample for plotting
+ * @param qLimitRule how the Q limit was computed, in words (Jackson and Mudholkar 1979 or Box 1954, why, and from
+ *     all discarded eigenvalues or from trace identities)
+ * @param qRule the Q rule applied: {@code jackson-mudholkar}, {@code box}, or {@code none} (nothing discarded)
+ * @param qH0 Jackson and Mudholkar's h0 of the discarded eigenvalues (NaN when nothing is discarded)
+ * @param fittedRows true when the scored rows are the rows the model was fitted on
+ * @param series T2 and Q per time bucket (with the bucket's row and flagged counts), or along a sample of rows
+ * @param topColumns the columns of each top row's {@code keys}
  * @param top the rows with the largest Q or T2 relative to their limits, with the features that drive their Q
+ * @param warnings flagged shares far above 1 - confidence ({@code io.eigenmill.math.ControlLimits#flaggedAbove})
  */
 public record MonitorResult(
     double confidence,
@@ -22,11 +27,33 @@ public record MonitorResult(
     String t2LimitRule,
     double qLimit,
     String qLimitRule,
+    String qRule,
+    double qH0,
+    boolean fittedRows,
     Series series,
-    List<FlaggedRow> top) {
+    List<String> topColumns,
+    List<FlaggedRow> top,
+    List<String> warnings) {
 
-  /** Plot points: {@code position} is seconds since the epoch when {@code positionLabel} is a time column. */
-  public record Series(String positionLabel, double[] position, double[] t2, double[] q) {}
+  /**
+   * Plot points: {@code position} is seconds since the epoch when {@code positionLabel} is a time column. Per time
+   * bucket: {@code t2}, {@code q} are the bucket's maxima, {@code rows} its rows and {@code flaggedT2},
+   * {@code flaggedQ} its rows above each limit; for a row sample (no time column) {@code t2}, {@code q} are each
+   * sampled row's values and the three count arrays are empty.
+   */
+  public record Series(String positionLabel, double[] position, double[] t2, double[] q, long[] rows,
+      long[] flaggedT2, long[] flaggedQ) {
+
+    /** A series of sampled rows (no counts). */
+    public static Series ofRows(String positionLabel, double[] position, double[] t2, double[] q) {
+      return new Series(positionLabel, position, t2, q, new long[0], new long[0], new long[0]);
+    }
+
+    /** True when the points are time buckets with counts, false for a row sample. */
+    public boolean buckets() {
+      return rows.length > 0 && rows.length == position.length;
+    }
+  }
 
   public record FlaggedRow(List<String> keys, double t2, double q, boolean flaggedT2, boolean flaggedQ,
       List<Contribution> qContributions) {}

@@ -1,5 +1,6 @@
 package io.eigenmill.jobs;
 
+import io.eigenmill.math.ControlLimits;
 import io.eigenmill.math.HashSample;
 import io.eigenmill.math.TimeBuckets;
 import io.eigenmill.plan.JobPlan;
@@ -13,6 +14,7 @@ import io.eigenmill.spark.ScoringPass;
 import io.eigenmill.spark.TopRows;
 import java.util.ArrayList;
 import java.util.List;
+import java.util.Locale;
 import org.apache.spark.sql.Column;
 import org.apache.spark.sql.Dataset;
 import org.apache.spark.sql.Row;
@@ -58,7 +60,8 @@ final class ScoringStage {
   Outcome score(Dataset<Row> table, boolean fittedRows) {
     JobSettings s = plan.settings();
     double confidence = s.monitor().confidence();
-    ScoringPass.Limits limits = ScoringPass.Limits.of(model, confidence, fittedRows);
+    ScoringPass.Limits limits = ScoringPass.Limits.of(model, s.monitor(), fittedRows);
+    LOG.info("score: Q limit {} by {} (h0 = {}): {}", limits.q(), limits.qMethod(), limits.qH0(), limits.qRule());
     ScoringPass.Spec spec = ScoringPass.spec(model, s, limits, false);
     ScoringPass.Counters counters = ScoringPass.Counters.register(spark.sparkContext(), "scores", spec, TOP_ROWS);
     if (!fittedRows) {
@@ -72,13 +75,64 @@ final class ScoringStage {
       progress.done(counters.scored().value());
     }
     failOnMissing(counters.dropped().value(), s.prepare().missing());
-    MonitorResult monitor = new MonitorResult(confidence, model.k(), counters.scored().value(),
-        counters.flaggedT2().value(), counters.flaggedQ().value(), counters.flaggedBoth().value(), limits.t2(),
-        limits.t2Rule(), limits.q(), limits.qRule(), series(scored, counters), flagged(counters.top(), limits));
+    long rows = counters.scored().value();
+    long flaggedT2 = counters.flaggedT2().value();
+    long flaggedQ = counters.flaggedQ().value();
+    List<String> warnings = new ArrayList<>();
+    excess("T2", flaggedT2, rows, confidence, fittedRows, limits, warnings);
+    if (limits.q() > 0) {
+      excess("Q", flaggedQ, rows, confidence, fittedRows, limits, warnings);
+    }
+    MonitorResult monitor = new MonitorResult(confidence, model.k(), rows, flaggedT2, flaggedQ,
+        counters.flaggedBoth().value(), limits.t2(), limits.t2Rule(), limits.q(), limits.qRule(), limits.qMethod(),
+        limits.qH0(), fittedRows, series(scored, counters), scored.passThrough(), flagged(counters.top(), limits),
+        List.copyOf(warnings));
     LOG.info("score: {} rows, flagged T2 {}, Q {}, both {}", monitor.rowsScored(), monitor.flaggedT2(),
         monitor.flaggedQ(), monitor.flaggedBoth());
+    for (String w : warnings) {
+      LOG.warn("score: {}", w);
+    }
     DataDriftResult dataDrift = fittedRows ? null : DataDrift.of(model, counters.drift().value());
     return new Outcome(monitor, sample(scored, counters), path, dataDrift);
+  }
+
+  /**
+   * Adds a warning when {@code flagged} of {@code rows} exceeds {@link ControlLimits#flaggedAbove} (a binomial
+   * bound at 1 - confidence, three times the expected count, 10 rows). On the fitted rows a limit that holds
+   * flags about 1 - confidence of them, so the excess says the limit does not hold for this data; on new rows it
+   * may also be drift, and the warning says "new data".
+   */
+  private static void excess(String statistic, long flagged, long rows, double confidence, boolean fittedRows,
+      ScoringPass.Limits limits, List<String> warnings) {
+    long bound = ControlLimits.flaggedAbove(rows, confidence);
+    if (flagged <= bound) {
+      return;
+    }
+    double expected = rows * (1 - confidence);
+    String counts = String.format(Locale.ROOT, "%,d of %,d %s (%s) are above the %s limit at confidence %s, where"
+        + " about %,.0f (%s) are expected and more than %,d is not chance", flagged, rows,
+        fittedRows ? "fitted rows" : "new rows", percent(flagged / (double) rows), statistic, confidence, expected,
+        percent(1 - confidence), bound);
+    String why;
+    if (!fittedRows) {
+      why = "new data: the rows may have drifted from the model (apply.compare-with compares the model with one fitted"
+          + " on recent data), or the limit does not hold for this data";
+    } else if (statistic.equals("Q") && limits.qMethod().equals("jackson-mudholkar")
+        && !(limits.qH0() >= ControlLimits.H0_SAFE)) {
+      why = String.format(Locale.ROOT, "the Q limit is Jackson and Mudholkar's with h0 = %.4g, below %s where"
+          + " that formula fails: set monitor.q-limit = auto (or box)", limits.qH0(), ControlLimits.H0_SAFE);
+    } else if (statistic.equals("Q")) {
+      why = "the Q limit (" + limits.qMethod() + ") assumes roughly normal residuals: heavy tails, outliers or"
+          + " groups in the data flag more; read the flagged rows' largest contributions before trusting the flags";
+    } else {
+      why = "the T2 limit assumes roughly normal scores: heavy tails, outliers or groups in the data flag more;"
+          + " read the score map before trusting the flags";
+    }
+    warnings.add("flagged share far above the expected: " + counts + "; " + why);
+  }
+
+  private static String percent(double share) {
+    return String.format(Locale.ROOT, "%.3g%%", 100 * share);
   }
 
   private void write(Dataset<Row> scored, String path) {
@@ -121,16 +175,17 @@ final class ScoringStage {
   }
 
   /**
-   * T2 and Q along time when a key is a timestamp or date: the maximum per bucket of a power-of-two number of
-   * seconds, the narrowest for which at most {@value #SERIES_POINTS} buckets hold rows; else along a sample of
-   * {@value #SERIES_POINTS} rows chosen by a seeded hash of their keys (in that hash's order).
+   * T2 and Q along time when a key is a timestamp or date: per bucket of a power-of-two number of seconds, the
+   * narrowest for which at most {@value #SERIES_POINTS} buckets hold rows, the bucket's rows, its rows above each
+   * limit and its maxima; else along a sample of {@value #SERIES_POINTS} rows chosen by a seeded hash of their keys
+   * (in that hash's order), each with its own T2 and Q.
    */
   private static MonitorResult.Series series(ScoringPass.Scored scored, ScoringPass.Counters counters) {
     String time = scored.timeColumn();
     if (time != null) {
       TimeBuckets buckets = counters.series().value();
       if (buckets.isEmpty()) {
-        return new MonitorResult.Series(time, new double[0], new double[0], new double[0]);
+        return MonitorResult.Series.ofRows(time, new double[0], new double[0], new double[0]);
       }
       buckets.coarsenToAtMost(SERIES_POINTS);
       TimeBuckets.Points points = buckets.points();
@@ -138,8 +193,17 @@ final class ScoringStage {
       for (int i = 0; i < at.length; i++) {
         at[i] = points.starts()[i];
       }
-      return new MonitorResult.Series(time + " (maximum per " + bucketWords(points.width(), scored.timeInDays())
-          + ")", at, points.maxA(), points.maxB());
+      String width = bucketWords(points.width(), scored.timeInDays());
+      // rows at a coarser spacing than the buckets (every 5 minutes in buckets of 1 s): say so, or a reader takes
+      // the width for the spacing
+      long gap = Long.MAX_VALUE;
+      for (int i = 1; i < points.starts().length; i++) {
+        gap = Math.min(gap, points.starts()[i] - points.starts()[i - 1]);
+      }
+      String apart = gap != Long.MAX_VALUE && gap > points.width() && !width.equals("day")
+          ? ", at least " + bucketWords(gap, scored.timeInDays()) + " apart" : "";
+      return new MonitorResult.Series(time + (width.equals("day") ? " (per day)" : " (buckets of " + width + apart
+          + ")"), at, points.maxA(), points.maxB(), points.rows(), points.overA(), points.overB());
     }
     List<HashSample.Entry<double[]>> rows = counters.seriesSample().value().entries();
     double[] at = new double[rows.size()];
@@ -150,7 +214,7 @@ final class ScoringStage {
       t2[i] = rows.get(i).value()[0];
       q[i] = rows.get(i).value()[1];
     }
-    return new MonitorResult.Series("row (seeded sample)", at, t2, q);
+    return MonitorResult.Series.ofRows("row (seeded sample)", at, t2, q);
   }
 
   private List<MonitorResult.FlaggedRow> flagged(TopRows top, ScoringPass.Limits limits) {

@@ -92,6 +92,11 @@ public final class SummaryJson {
     m.put("t2_limit_rule", r.t2LimitRule());
     m.put("q_limit", r.qLimit());
     m.put("q_limit_rule", r.qLimitRule());
+    m.put("q_rule", r.qRule());
+    m.put("q_h0", Double.isNaN(r.qH0()) ? null : r.qH0());
+    // 1 - confidence in decimal (0.01, not the binary difference 0.010000000000000009)
+    m.put("expected_flagged_share", java.math.BigDecimal.ONE.subtract(java.math.BigDecimal.valueOf(r.confidence()))
+        .doubleValue());
     List<Map<String, Object>> top = new java.util.ArrayList<>();
     for (MonitorResult.FlaggedRow row : r.top()) {
       Map<String, Object> t = new LinkedHashMap<>();

@@ -4,8 +4,9 @@ import java.io.Serializable;
 import java.util.Arrays;
 
 /**
- * The maxima of two statistics (T2 and Q) per time bucket, gathered in one pass over rows whose time range is not
- * known in advance, and mergeable across partitions.
+ * The maxima of two statistics (T2 and Q) per time bucket, the bucket's row count and the counts of its rows above
+ * each statistic's limit, gathered in one pass over rows whose time range is not known in advance, and mergeable
+ * across partitions.
  *
  * <p>Buckets lie on a fixed grid: at level j a bucket is {@code [b 2^j, (b + 1) 2^j)} seconds, b = floor(t / 2^j)
  * (an arithmetic shift). A summary starts at level 0 (one-second buckets); when it holds more than {@code limit}
@@ -14,10 +15,12 @@ import java.util.Arrays;
  * gives the same result whatever the partitioning and merge order, provided {@code points <= limit}: a summary only
  * leaves level j when a subset of the rows already fills more than {@code limit >= points} buckets at level j, so
  * the whole table needs a level above j too; and the final level is the smallest one at which the whole table fits
- * in {@code points} buckets, each holding the exact maximum of its rows (maxima merge exactly).
+ * in {@code points} buckets, each holding the exact maximum of its rows (maxima merge exactly) and the exact counts
+ * (integer sums, in any order).
  *
  * <p>Storage: an open-addressing table of bucket numbers with a capacity of at least {@code 2 (limit + 1)} slots
- * (load <= 1/2); adding a row is one probe in the common case, no allocation. Maxima follow {@link Math#max}, so a
+ * (load <= 1/2), each holding a key, two maxima and three counts; adding a row is one probe in the common case, no
+ * allocation. Maxima follow {@link Math#max}, so a
  * NaN statistic makes its bucket's maximum NaN (as SQL's {@code max}, which orders NaN above every number).
  */
 public final class TimeBuckets implements Serializable {
@@ -32,6 +35,9 @@ public final class TimeBuckets implements Serializable {
   private boolean[] used;
   private double[] maxA;
   private double[] maxB;
+  private long[] rows;
+  private long[] overA;
+  private long[] overB;
   /** The slot of the last bucket touched (rows often come in time order), or -1. */
   private int lastSlot = -1;
   private long lastKey;
@@ -58,6 +64,9 @@ public final class TimeBuckets implements Serializable {
     used = new boolean[capacity];
     maxA = new double[capacity];
     maxB = new double[capacity];
+    rows = new long[capacity];
+    overA = new long[capacity];
+    overB = new long[capacity];
     size = 0;
     lastSlot = -1;
   }
@@ -85,8 +94,16 @@ public final class TimeBuckets implements Serializable {
     return size == 0;
   }
 
-  /** Adds a row at {@code seconds} with statistics {@code a} and {@code b}. */
+  /** Adds a row at {@code seconds} with statistics {@code a} and {@code b}, above neither limit. */
   public void add(long seconds, double a, double b) {
+    add(seconds, a, b, false, false);
+  }
+
+  /**
+   * Adds a row at {@code seconds} with statistics {@code a} and {@code b}; {@code aOver}, {@code bOver}: whether the
+   * row is above the limit of a, of b (counted per bucket).
+   */
+  public void add(long seconds, double a, double b, boolean aOver, boolean bOver) {
     long key = seconds >> level;
     int slot;
     if (lastSlot >= 0 && key == lastKey) {
@@ -94,7 +111,7 @@ public final class TimeBuckets implements Serializable {
     } else {
       slot = slotOf(key);
       if (!used[slot]) {
-        insert(slot, key, a, b);
+        insert(slot, key, a, b, 1, aOver ? 1 : 0, bOver ? 1 : 0);
         if (size > limit) {
           coarsenUntilFits();
         }
@@ -105,6 +122,9 @@ public final class TimeBuckets implements Serializable {
     }
     maxA[slot] = Math.max(maxA[slot], a);
     maxB[slot] = Math.max(maxB[slot], b);
+    rows[slot]++;
+    overA[slot] += aOver ? 1 : 0;
+    overB[slot] += bOver ? 1 : 0;
   }
 
   /** The slot holding {@code key}, or the free slot where it belongs. */
@@ -117,24 +137,33 @@ public final class TimeBuckets implements Serializable {
     return slot;
   }
 
-  private void insert(int slot, long key, double a, double b) {
+  private void insert(int slot, long key, double a, double b, long n, long na, long nb) {
     used[slot] = true;
     keys[slot] = key;
     maxA[slot] = a;
     maxB[slot] = b;
+    rows[slot] = n;
+    overA[slot] = na;
+    overB[slot] = nb;
     size++;
     lastSlot = slot;
     lastKey = key;
   }
 
-  /** Puts bucket {@code key} (at the current level) with maxima a, b, merging with a bucket already there. */
-  private void put(long key, double a, double b) {
+  /**
+   * Puts bucket {@code key} (at the current level) with maxima a, b and counts n, na, nb, merging with a bucket
+   * already there.
+   */
+  private void put(long key, double a, double b, long n, long na, long nb) {
     int slot = slotOf(key);
     if (used[slot]) {
       maxA[slot] = Math.max(maxA[slot], a);
       maxB[slot] = Math.max(maxB[slot], b);
+      rows[slot] += n;
+      overA[slot] += na;
+      overB[slot] += nb;
     } else {
-      insert(slot, key, a, b);
+      insert(slot, key, a, b, n, na, nb);
     }
   }
 
@@ -157,11 +186,14 @@ public final class TimeBuckets implements Serializable {
     boolean[] oldUsed = used;
     double[] oldA = maxA;
     double[] oldB = maxB;
+    long[] oldRows = rows;
+    long[] oldOverA = overA;
+    long[] oldOverB = overB;
     allocate(oldKeys.length);
     level = target;
     for (int s = 0; s < oldKeys.length; s++) {
       if (oldUsed[s]) {
-        put(oldKeys[s] >> shift, oldA[s], oldB[s]);
+        put(oldKeys[s] >> shift, oldA[s], oldB[s], oldRows[s], oldOverA[s], oldOverB[s]);
       }
     }
   }
@@ -182,7 +214,7 @@ public final class TimeBuckets implements Serializable {
     int shift = level - other.level;
     for (int s = 0; s < other.keys.length; s++) {
       if (other.used[s]) {
-        put(other.keys[s] >> shift, other.maxA[s], other.maxB[s]);
+        put(other.keys[s] >> shift, other.maxA[s], other.maxB[s], other.rows[s], other.overA[s], other.overB[s]);
         if (size > limit) {
           coarsenTo(level + 1);
           shift++;
@@ -200,6 +232,9 @@ public final class TimeBuckets implements Serializable {
     c.used = used.clone();
     c.maxA = maxA.clone();
     c.maxB = maxB.clone();
+    c.rows = rows.clone();
+    c.overA = overA.clone();
+    c.overB = overB.clone();
     return c;
   }
 
@@ -209,7 +244,10 @@ public final class TimeBuckets implements Serializable {
     allocate(capacityFor(limit));
   }
 
-  /** The buckets in time order: start in seconds, maximum of the first and of the second statistic. */
+  /**
+   * The buckets in time order: start in seconds, maximum of the first and of the second statistic, rows, rows above
+   * the first and the second statistic's limit.
+   */
   public Points points() {
     long[] starts = new long[size];
     int n = 0;
@@ -221,15 +259,25 @@ public final class TimeBuckets implements Serializable {
     Arrays.sort(starts);
     double[] a = new double[size];
     double[] b = new double[size];
+    long[] r = new long[size];
+    long[] ra = new long[size];
+    long[] rb = new long[size];
     for (int i = 0; i < size; i++) {
       int slot = slotOf(starts[i]);
       a[i] = maxA[slot];
       b[i] = maxB[slot];
+      r[i] = rows[slot];
+      ra[i] = overA[slot];
+      rb[i] = overB[slot];
       starts[i] = starts[i] << level;
     }
-    return new Points(width(), starts, a, b);
+    return new Points(width(), starts, a, b, r, ra, rb);
   }
 
-  /** Buckets of {@code width} seconds starting at {@code starts}, ascending. */
-  public record Points(long width, long[] starts, double[] maxA, double[] maxB) {}
+  /**
+   * Buckets of {@code width} seconds starting at {@code starts}, ascending: maxima, rows, and rows above the limit
+   * of the first ({@code overA}) and of the second statistic ({@code overB}).
+   */
+  public record Points(long width, long[] starts, double[] maxA, double[] maxB, long[] rows, long[] overA,
+      long[] overB) {}
 }

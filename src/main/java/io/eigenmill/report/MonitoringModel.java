@@ -5,29 +5,51 @@ import io.eigenmill.jobs.RunResult;
 import java.util.ArrayList;
 import java.util.Comparator;
 import java.util.List;
+import org.apache.commons.math3.distribution.BinomialDistribution;
 
 /**
- * Monitoring: T2 and Q along row order or time with their control limits, the counts the monitor flagged, the
+ * Monitoring: T2 and Q along time (per bucket: the share of rows above each limit against the expected
+ * 1 - confidence) or along a row sample (each row's value against its limit), the counts the monitor flagged, the
  * limit rules, and the top flagged rows with the features that drive their Q.
  *
  * @param counts rows scored and flagged, as the monitor counted them
  * @param limits the two limits with their rules
  * @param time true when positions are seconds since the epoch (see {@link #isTime})
- * @param keyNames names of the key columns, for the table header
+ * @param buckets true when the points are time buckets with counts ({@code rows}, {@code overT2}, {@code overQ});
+ *     false when each point is one row ({@code t2}, {@code q} its values)
+ * @param t2 per point: the row's T2, or the bucket's maximum T2
+ * @param rows rows per bucket (empty for a row series)
+ * @param overT2 rows above the T2 limit per bucket (empty for a row series)
+ * @param overQ rows above the Q limit per bucket (empty for a row series)
+ * @param expected the share of rows a limit that holds flags: 1 - confidence
+ * @param caption what a point of the two charts is, in words
+ * @param keyNames names of the columns of the top rows' keys, for the table header
  */
 public record MonitoringModel(
     List<Fact> counts,
     List<Fact> limits,
     String positionLabel,
     boolean time,
+    boolean buckets,
     double[] position,
     double[] t2,
     double[] q,
+    long[] rows,
+    long[] overT2,
+    long[] overQ,
     double t2Limit,
     double qLimit,
+    double expected,
     String confidence,
+    String caption,
     List<String> keyNames,
     List<TopRow> top) {
+
+  /**
+   * A bucket is drawn as "more flagged than chance" when its flagged count exceeds the quantile at this probability
+   * of Binomial(rows of the bucket, 1 - confidence): with a limit that holds, about one bucket in a thousand.
+   */
+  static final double BUCKET_CHANCE = 0.999;
 
   /** Contributions listed per flagged row. */
   static final int CONTRIBUTIONS = 5;
@@ -47,20 +69,51 @@ public record MonitoringModel(
         new Fact("Flagged by both", Fmt.count(m.flaggedBoth())),
         new Fact("Confidence of the limits", Fmt.percent(m.confidence(), 1)),
         new Fact("Components (k)", Fmt.count(m.k())));
-    List<Fact> limits = List.of(
+    List<Fact> limits = new ArrayList<>(List.of(
         new Fact("T2 limit", Fmt.num(m.t2Limit()) + " — " + m.t2LimitRule()),
-        new Fact("Q limit", Fmt.num(m.qLimit()) + " — " + m.qLimitRule()));
+        new Fact("Q limit", Fmt.num(m.qLimit()) + " — " + m.qLimitRule())));
+    if (m.qRule() != null) {
+      limits.add(new Fact("Q rule", m.qRule() + (Double.isNaN(m.qH0()) ? "" : ", h0 = " + Fmt.num(m.qH0(), 3))));
+    }
     MonitorResult.Series s = m.series();
     double[] empty = new double[0];
+    long[] none = new long[0];
     double[] pos = s == null ? empty : s.position();
     String label = s == null ? "row" : s.positionLabel();
+    boolean buckets = s != null && s.buckets();
     List<TopRow> top = new ArrayList<>();
     for (MonitorResult.FlaggedRow r : m.top()) {
       top.add(topRow(r));
     }
-    return new MonitoringModel(counts, limits, label, isTime(label, pos), pos, s == null ? empty : s.t2(),
-        s == null ? empty : s.q(), m.t2Limit(), m.qLimit(), Fmt.percent(m.confidence(), 1),
-        keyNames(run, m), top);
+    boolean time = isTime(label, pos);
+    return new MonitoringModel(counts, List.copyOf(limits), label, time, buckets, pos, s == null ? empty : s.t2(),
+        s == null ? empty : s.q(), buckets ? s.rows() : none, buckets ? s.flaggedT2() : none,
+        buckets ? s.flaggedQ() : none, m.t2Limit(), m.qLimit(), 1 - m.confidence(), Fmt.percent(m.confidence(), 1),
+        caption(m, label, pos.length, buckets, buckets ? s.rows() : none), keyNames(run, m), top);
+  }
+
+  /** What a point of the charts is: a time bucket's share of flagged rows, or one row (sampled or not). */
+  static String caption(MonitorResult m, String label, int points, boolean buckets, long[] rows) {
+    String expected = Fmt.percent(1 - m.confidence(), 1);
+    if (buckets) {
+      long least = Long.MAX_VALUE;
+      long most = 0;
+      for (long r : rows) {
+        least = Math.min(least, r);
+        most = Math.max(most, r);
+      }
+      return "Each point is one time bucket of " + label + ": the share of the bucket's rows above the row limit ("
+          + Fmt.count(points) + " buckets of " + Fmt.count(least) + (least == most ? "" : " to " + Fmt.count(most))
+          + " rows). The dashed line is the share a limit that holds flags, 1 - confidence = " + expected
+          + ". Triangles are buckets with more flagged rows than chance explains (above the "
+          + Fmt.percent(BUCKET_CHANCE, 1) + " quantile of a binomial count at " + expected + ").";
+    }
+    String rowsText = points >= m.rowsScored() ? "one of the " + Fmt.count(m.rowsScored()) + " scored rows"
+        : "one row of a seeded sample of " + Fmt.count(points) + " of the " + Fmt.count(m.rowsScored())
+            + " scored rows (chosen by a hash of their keys" + (label.startsWith("row") ? ", drawn in that order, not"
+            + " in time)" : ")");
+    return "Each point is " + rowsText + ", with its own value against the row limit: a limit that holds puts about "
+        + expected + " of the points above it.";
   }
 
   private static TopRow topRow(MonitorResult.FlaggedRow r) {
@@ -74,10 +127,12 @@ public record MonitoringModel(
     return new TopRow(r.keys(), Fmt.num(r.t2()), Fmt.num(r.q()), by, contributions);
   }
 
+  /** The columns of the top rows' keys as the scoring pass named them; "key i" only for a record without them. */
   private static List<String> keyNames(RunResult run, MonitorResult m) {
-    List<String> names = run.plan().keys();
-    int width = m.top().isEmpty() ? names.size() : m.top().get(0).keys().size();
-    if (names.size() == width) {
+    int width = m.top().isEmpty() ? -1 : m.top().get(0).keys().size();
+    List<String> names = m.topColumns() != null && (width < 0 || m.topColumns().size() == width) ? m.topColumns()
+        : run.plan().keys();
+    if (width < 0 || names.size() == width) {
       return names;
     }
     List<String> out = new ArrayList<>();
@@ -103,12 +158,33 @@ public record MonitoringModel(
     return true;
   }
 
-  /** Points above the T2 limit: drawn highlighted, as the monitor flags them. */
+  /** Points above the T2 limit (a row series): drawn highlighted, as the monitor flags them. */
   public boolean t2Over(int i) {
     return t2[i] > t2Limit;
   }
 
   public boolean qOver(int i) {
     return q[i] > qLimit;
+  }
+
+  /** The share of bucket i's rows above the limit of T2 ({@code t2} true) or Q; 0 for an empty bucket. */
+  public double share(boolean t2, int i) {
+    return rows[i] == 0 ? 0 : (t2 ? overT2[i] : overQ[i]) / (double) rows[i];
+  }
+
+  /**
+   * Whether bucket i has more rows above the limit than chance explains: its count exceeds the
+   * {@value #BUCKET_CHANCE} quantile of Binomial(rows, 1 - confidence) (Commons Math).
+   */
+  public boolean bucketExcess(boolean t2, int i) {
+    long n = rows[i];
+    long over = t2 ? overT2[i] : overQ[i];
+    if (n == 0 || over == 0 || !(expected > 0)) {
+      return false;
+    }
+    if (n > Integer.MAX_VALUE) {
+      return over > n * expected + 3.1 * Math.sqrt(n * expected * (1 - expected));
+    }
+    return over > new BinomialDistribution(null, (int) n, expected).inverseCumulativeProbability(BUCKET_CHANCE);
   }
 }

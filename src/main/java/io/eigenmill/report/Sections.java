@@ -93,8 +93,9 @@ final class Sections {
       return;
     }
     HtmlReport.open(b, "section-monitoring", "Monitoring: T2 and Q", "T2 measures how far a row lies from the "
-        + "centre inside the model's components; Q measures what the components cannot explain. Points above a "
-        + "limit (orange triangles) are unusual at the " + m.confidence() + " confidence level.");
+        + "centre inside the model's components; Q measures what the components cannot explain. A row above a "
+        + "limit is unusual at the " + m.confidence() + " confidence level; with limits that hold, "
+        + Fmt.percent(m.expected(), 1) + " of ordinary rows are above each limit by chance.");
     b.append("<div class=\"figures\">");
     for (Fact f : m.counts()) {
       b.append("<div class=\"figure-card\"><span class=\"v\">").append(Html.esc(f.value()))
@@ -103,9 +104,8 @@ final class Sections {
     b.append("</div>\n");
     HtmlReport.facts(b, m.limits());
     if (m.position().length > 0) {
-      String caption = Fmt.count(m.position().length) + " plotted rows (a bounded sample of the scored rows).";
-      HtmlReport.figure(b, MonitorCharts.series(m, "t2"), caption);
-      HtmlReport.figure(b, MonitorCharts.series(m, "q"), caption);
+      HtmlReport.figure(b, MonitorCharts.series(m, "t2"), m.caption());
+      HtmlReport.figure(b, MonitorCharts.series(m, "q"), m.caption());
     } else {
       b.append("<p class=\"note\">No series was recorded for plotting.</p>\n");
     }

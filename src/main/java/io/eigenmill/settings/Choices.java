@@ -64,4 +64,12 @@ public final class Choices {
     KSelection(String word) { this.word = word; }
     @Override public String word() { return word; }
   }
+
+  /** {@code monitor.q-limit}: Jackson and Mudholkar (1979), Box (1954), or chosen from h0 (ControlLimits). */
+  public enum QLimit implements Word {
+    JACKSON_MUDHOLKAR("jackson-mudholkar"), BOX("box"), AUTO("auto");
+    private final String word;
+    QLimit(String word) { this.word = word; }
+    @Override public String word() { return word; }
+  }
 }

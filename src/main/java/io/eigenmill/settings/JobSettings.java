@@ -64,7 +64,8 @@ public record JobSettings(
       int powerIterations,
       long seed) implements Serializable {}
 
-  public record Monitor(double confidence) implements Serializable {}
+  /** @param qLimit how the Q control limit is computed ({@code monitor.q-limit}) */
+  public record Monitor(double confidence, Choices.QLimit qLimit) implements Serializable {}
 
   /** @param labelRows with entity centroids, also label each row ({@code apply.label-rows}) */
   public record Apply(String model, String compareWith, String centroids, boolean labelRows) implements Serializable {

@@ -315,7 +315,8 @@ public final class SettingsReader {
         f.intIn("reduce.block-rows", 16, 1 << 20), f.intIn("reduce.covariance-max-features", 1, 200_000),
         f.intIn("reduce.randomized.oversample", 0, 1000), f.intIn("reduce.randomized.power-iterations", 1, 50),
         f.longValue("reduce.randomized.seed"));
-    var monitor = new JobSettings.Monitor(f.openFraction("monitor.confidence"));
+    var monitor = new JobSettings.Monitor(f.openFraction("monitor.confidence"),
+        f.choice("monitor.q-limit", Choices.QLimit.values()));
     var apply = new JobSettings.Apply(f.string("apply.model"), f.string("apply.compare-with"),
         f.string("apply.centroids"), f.bool("apply.label-rows"));
     int[] kRange = f.range("cluster.k-range");

@@ -6,6 +6,10 @@ import io.eigenmill.math.Scorer;
 import io.eigenmill.math.SeedStream;
 import io.eigenmill.math.TimeBuckets;
 import io.eigenmill.settings.Choices.MissingPolicy;
+import java.time.Instant;
+import java.time.LocalDate;
+import java.time.LocalDateTime;
+import java.time.ZoneOffset;
 import java.util.ArrayList;
 import java.util.Arrays;
 import java.util.Iterator;
@@ -18,6 +22,7 @@ import org.apache.spark.sql.catalyst.expressions.GenericInternalRow;
 import org.apache.spark.sql.catalyst.util.ArrayData;
 import org.apache.spark.sql.catalyst.util.MapData;
 import org.apache.spark.sql.types.DataType;
+import org.apache.spark.sql.types.DataTypes;
 import org.apache.spark.sql.types.Decimal;
 import org.apache.spark.sql.vectorized.ColumnVector;
 import org.apache.spark.sql.vectorized.ColumnarBatch;
@@ -249,12 +254,15 @@ abstract class ScoreBlocks implements Iterator<InternalRow>, BlockSink {
     }
   }
 
-  /** Row i as a most-severe candidate: keys as text (as the external row value prints), its largest residuals. */
+  /**
+   * Row i as a most-severe candidate: keys as text ({@link #keyText}), its largest residuals. Only rows more severe
+   * than the current top rows come here.
+   */
   private TopRows.Candidate candidate(int i, double severity) {
     InternalRow src = source(i);
     List<String> keys = new ArrayList<>(p);
     for (int c = 0; c < p; c++) {
-      keys.add(String.valueOf(external(src, c)));
+      keys.add(keyText(src, c));
     }
     int top = Math.min(TOP_FEATURES, d);
     int[] idx = new int[top];
@@ -277,6 +285,33 @@ abstract class ScoreBlocks implements Iterator<InternalRow>, BlockSink {
     return new TopRows.Candidate(keys, severity, t2[i], q[i], idx, val);
   }
 
+  /**
+   * Pass-through value c of {@code src} as text: a timestamp as an ISO-8601 instant in UTC
+   * ({@code 2026-11-20T22:50:00Z}), a timestamp without time zone as an ISO-8601 local date-time, a date as
+   * {@code 2026-11-20}, anything else as its external value prints; "null" for null.
+   */
+  private String keyText(InternalRow src, int c) {
+    int o = passOrdinals[c];
+    DataType type = layout.types()[c];
+    if (src.isNullAt(o)) {
+      return "null";
+    }
+    if (type.equals(DataTypes.TimestampType)) {
+      long micros = src.getLong(o);
+      return Instant.ofEpochSecond(Math.floorDiv(micros, MICROS_PER_SECOND),
+          Math.floorMod(micros, MICROS_PER_SECOND) * 1000L).toString();
+    }
+    if (type.equals(DataTypes.TimestampNTZType)) {
+      long micros = src.getLong(o);
+      return LocalDateTime.ofEpochSecond(Math.floorDiv(micros, MICROS_PER_SECOND),
+          (int) (Math.floorMod(micros, MICROS_PER_SECOND) * 1000L), ZoneOffset.UTC).toString();
+    }
+    if (type.equals(DataTypes.DateType)) {
+      return LocalDate.ofEpochDay(src.getInt(o)).toString();
+    }
+    return String.valueOf(external(src, c));
+  }
+
   private Object external(InternalRow src, int c) {
     if (toExternal == null) {
       toExternal = new ArrayList<>();
@@ -296,11 +331,13 @@ abstract class ScoreBlocks implements Iterator<InternalRow>, BlockSink {
     }
     int time = buckets == null ? -1 : passOrdinals[layout.timeColumn()];
     boolean days = layout.timeInDays();
+    double t2Limit = spec.t2Limit();
+    double qLimit = spec.qLimit();
     for (int i = 0; i < count; i++) {
       InternalRow src = source(i);
       if (time >= 0 && !src.isNullAt(time)) {
         long seconds = days ? src.getInt(time) * SECONDS_PER_DAY : Math.floorDiv(src.getLong(time), MICROS_PER_SECOND);
-        buckets.add(seconds, t2[i], q[i]);
+        buckets.add(seconds, t2[i], q[i], t2[i] > t2Limit, qLimit > 0 && q[i] > qLimit);
       }
       if (keyed) {
         long h = keyHash.of(src);

@@ -8,6 +8,7 @@ import io.eigenmill.settings.JobSettings;
 import java.io.Serializable;
 import java.util.ArrayList;
 import java.util.List;
+import java.util.Locale;
 import org.apache.spark.api.java.JavaRDD;
 import org.apache.spark.sql.Column;
 import org.apache.spark.sql.Dataset;
@@ -44,15 +45,23 @@ public final class ScoringPass {
 
   private ScoringPass() {}
 
-  /** The control limits of a pass and how they were computed, in words. */
-  public record Limits(double t2, String t2Rule, double q, String qRule) implements Serializable {
+  /**
+   * The control limits of a pass and how they were computed, in words.
+   *
+   * @param qMethod the Q rule applied: {@code jackson-mudholkar}, {@code box}, or {@code none} (nothing discarded)
+   * @param qH0 Jackson and Mudholkar's h0 of the discarded eigenvalues (NaN when nothing is discarded)
+   */
+  public record Limits(double t2, String t2Rule, double q, String qRule, String qMethod, double qH0)
+      implements Serializable {
 
     /**
-     * T2 (beta for the fitted rows, F for new rows) and Q (Jackson and Mudholkar) limits of {@code model} at
-     * {@code confidence}.
+     * T2 (beta for the fitted rows, F for new rows) and Q limits of {@code model} at {@code monitor}'s confidence,
+     * Q by {@code monitor.q-limit} ({@link ControlLimits#qLimit}). The randomized method's thetas beyond the
+     * computed eigenvalues are estimated from the trace; both rules use them the same way (theta1 exact).
      */
-    public static Limits of(PcaModel model, double confidence, boolean fittedRows) {
+    public static Limits of(PcaModel model, JobSettings.Monitor monitor, boolean fittedRows) {
       int k = model.k();
+      double confidence = monitor.confidence();
       double t2 = fittedRows ? ControlLimits.t2Fitted(k, model.rows(), confidence)
           : ControlLimits.t2New(k, model.rows(), confidence);
       String t2Rule = fittedRows
@@ -60,20 +69,35 @@ public final class ScoringPass {
           : "new rows: k(n-1)(n+1)/(n(n-k)) F(k, n-k) at " + confidence;
       ControlLimits.Thetas thetas = ControlLimits.thetas(model.eigenvalues(), k, model.eigenvaluesComplete(),
           model.d(), model.totalVariance());
-      double q = ControlLimits.q(thetas, confidence);
-      String qRule = "Jackson and Mudholkar (1979) at " + confidence + (thetas.exact()
+      ControlLimits.QLimit q = ControlLimits.qLimit(thetas, confidence,
+          ControlLimits.QRule.valueOf(monitor.qLimit().name()));
+      if (q.rule() == null || !(q.value() > 0)) {
+        return new Limits(t2, t2Rule, 0.0, "no discarded variance (k = d): Q is zero for every row and flags nothing",
+            "none", q.h0());
+      }
+      String h0 = String.format(Locale.ROOT, "%.4g", q.h0());
+      String formula = q.rule() == ControlLimits.QRule.BOX
+          ? "Box (1954) scaled chi-square g chi2(h), g = theta2/theta1 = "
+              + String.format(Locale.ROOT, "%.4g", thetas.theta2() / thetas.theta1()) + ", h = theta1^2/theta2 = "
+              + String.format(Locale.ROOT, "%.4g", thetas.theta1() * thetas.theta1() / thetas.theta2())
+          : "Jackson and Mudholkar (1979)";
+      String why = switch (monitor.qLimit()) {
+        case AUTO -> q.rule() == ControlLimits.QRule.BOX
+            ? " (monitor.q-limit = auto: h0 = " + h0 + " is below " + ControlLimits.H0_SAFE
+                + ", where Jackson and Mudholkar's formula is unreliable)"
+            : " (monitor.q-limit = auto: h0 = " + h0 + " is at least " + ControlLimits.H0_SAFE + ")";
+        default -> " (monitor.q-limit = " + monitor.qLimit().word() + ", h0 = " + h0 + ")";
+      };
+      String qRule = formula + " at " + confidence + why + (thetas.exact()
           ? ", from all " + (model.eigenvalues().length - k) + " discarded eigenvalues"
           : ", discarded eigenvalues beyond the " + model.eigenvalues().length + " computed estimated from the trace"
               + " (theta1 exact; theta2, theta3 assume an even spread)");
-      if (!(q > 0)) {
-        qRule = "no discarded variance (k = d): Q is zero for every row and flags nothing";
-      }
-      return new Limits(t2, t2Rule, q, qRule);
+      return new Limits(t2, t2Rule, q.value(), qRule, q.rule().word(), q.h0());
     }
 
     /** No limits (reconstruction): nothing is flagged. */
     public static Limits none() {
-      return new Limits(Double.MAX_VALUE, "none", 0, "none");
+      return new Limits(Double.MAX_VALUE, "none", 0, "none", "none", Double.NaN);
     }
   }
 
@@ -154,9 +178,11 @@ public final class ScoringPass {
    * @param timeColumn the pass-through column the series runs along, or null (then the series is a row sample)
    * @param timeInDays true when that column is a date (its values are whole days)
    * @param keySchema the key columns (names and types) of the sampled rows
+   * @param passThrough the pass-through columns in order (keys, then partition columns not among them): the
+   *     columns of the most severe rows' key text
    */
   public record Scored(Dataset<Row> rows, boolean columnar, String timeColumn, boolean timeInDays,
-      StructType keySchema) {
+      StructType keySchema, List<String> passThrough) {
     public String readPath() {
       return columnar ? "columnar Parquet batches" : "rows (no columnar scan for this input)";
     }
@@ -217,7 +243,7 @@ public final class ScoringPass {
     // wraps the internal rows as they are, where a public constructor would need Rows and an encoder
     Dataset<Row> scored = table.sparkSession().internalCreateDataFrame(rows.rdd(), out, false);
     return new Scored(scored, columnar, time < 0 || spec.reconstruct() ? null : passThrough.get(time),
-        layout.timeInDays(), keySchema);
+        layout.timeInDays(), keySchema, List.copyOf(passThrough));
   }
 
   private static StructType scoreColumns(StructType out, Spec spec) {

@@ -106,7 +106,7 @@ class ScoringPathsTest extends SparkSuite {
     spark.conf().set(VECTORIZED, String.valueOf(vectorized));
     try {
       ScoringPass.Limits limits = reconstruct ? ScoringPass.Limits.none()
-          : ScoringPass.Limits.of(model, settings.monitor().confidence(), false);
+          : ScoringPass.Limits.of(model, settings.monitor(), false);
       ScoringPass.Spec spec = ScoringPass.spec(model, settings, limits, reconstruct);
       ScoringPass.Counters counters = ScoringPass.Counters.register(spark.sparkContext(), "test", spec, 20);
       ScoringPass.Scored scored = ScoringPass.apply(spark.read().parquet(input), List.of("host", "ts"),
@@ -228,23 +228,33 @@ class ScoringPathsTest extends SparkSuite {
   }
 
   @Test
-  void seriesIsTheMaximumPerBucketOfTheWrittenScores() {
+  void seriesIsTheMaximumAndTheCountsPerBucketOfTheWrittenScores() {
     RunResult r = apply(table("series", 3), "[host, ts]", "series-out");
     MonitorResult.Series s = r.monitor().series();
-    Matcher m = Pattern.compile("ts \\(maximum per (\\d+) s\\)").matcher(s.positionLabel());
+    assertTrue(s.buckets());
+    Matcher m = Pattern.compile("ts \\(buckets of (\\d+) s\\)").matcher(s.positionLabel());
     assertTrue(m.matches(), s.positionLabel());
     long width = Long.parseLong(m.group(1));
     // brute force over the written scores: bucket = floor(seconds / width) * width, maxima per bucket
     Dataset<Row> scores = spark.read().parquet(dir.resolve("series-out/scores").toString());
     Column seconds = functions.col("ts").cast("long");
     List<Row> expected = scores.groupBy(functions.floor(seconds.divide(width)).multiply(width).as("at"))
-        .agg(functions.max("t2"), functions.max("q")).orderBy("at").collectAsList();
+        .agg(functions.max("t2"), functions.max("q"), functions.count("*"),
+            functions.sum(functions.col("flag_t2").cast("long")), functions.sum(functions.col("flag_q").cast("long")))
+        .orderBy("at").collectAsList();
     assertEquals(expected.size(), s.position().length);
+    long flaggedQ = 0;
     for (int i = 0; i < expected.size(); i++) {
       assertEquals(expected.get(i).getLong(0), s.position()[i], 0.0, "bucket " + i);
       assertEquals(expected.get(i).getDouble(1), s.t2()[i], 0.0, "max T2 of bucket " + i);
       assertEquals(expected.get(i).getDouble(2), s.q()[i], 0.0, "max Q of bucket " + i);
+      assertEquals(expected.get(i).getLong(3), s.rows()[i], "rows of bucket " + i);
+      assertEquals(expected.get(i).getLong(4), s.flaggedT2()[i], "rows above the T2 limit in bucket " + i);
+      assertEquals(expected.get(i).getLong(5), s.flaggedQ()[i], "rows above the Q limit in bucket " + i);
+      flaggedQ += s.flaggedQ()[i];
     }
+    assertEquals(r.monitor().flaggedQ(), flaggedQ, "the buckets hold every flagged row");
+    assertTrue(flaggedQ > 0, "the table has rows off the model's plane");
     // the narrowest power-of-two width that fits in 600 buckets (brute force: the next narrower one does not)
     assertEquals(Long.bitCount(width), 1, "a power of two");
     assertTrue(expected.size() <= ScoringStage.SERIES_POINTS);
@@ -278,6 +288,16 @@ class ScoringPathsTest extends SparkSuite {
     assertEquals(60, a.sample().keyValues().size());
     assertEquals(a.monitor().series().positionLabel(), b.monitor().series().positionLabel());
     assertArrayEquals(a.monitor().series().t2(), b.monitor().series().t2(), 1e-12, "series maxima of T2");
+    // counts are integer sums: exactly equal (no row's T2 or Q lies within rounding of a limit here)
+    assertArrayEquals(a.monitor().series().rows(), b.monitor().series().rows(), "rows per bucket");
+    assertArrayEquals(a.monitor().series().flaggedT2(), b.monitor().series().flaggedT2(), "T2 flags per bucket");
+    assertArrayEquals(a.monitor().series().flaggedQ(), b.monitor().series().flaggedQ(), "Q flags per bucket");
+    // the most unusual rows: their key columns by name (keys, then the partition column), times as ISO-8601
+    assertEquals(List.of("host", "ts", "day"), a.monitor().topColumns());
+    List<String> keys = a.monitor().top().get(0).keys();
+    assertTrue(keys.get(1).matches("2026-11-0[23]T\\d\\d:\\d\\d:\\d\\dZ"), "an instant in UTC: " + keys);
+    assertTrue(keys.get(2).matches("2026-11-0[23]"), "a date as a date: " + keys);
+    assertEquals(keys.get(1).substring(0, 10), keys.get(2), "the day partition is the UTC date of ts: " + keys);
     assertEquals(a.sample().keyValues(), b.sample().keyValues(), "the same rows, in the same order");
     for (int i = 0; i < 60; i++) {
       // the same row scored in blocks of other rows: the dgemm kernels may round differently at another row count

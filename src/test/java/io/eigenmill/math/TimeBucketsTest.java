@@ -13,8 +13,9 @@ import org.junit.jupiter.api.Test;
 
 /**
  * {@link TimeBuckets} against a brute-force computation in the test: a sorted map from floor(t / 2^j) to the
- * maxima of the rows in it, for the level the summary reports, and the smallest level at which the rows fit in the
- * wanted number of buckets. Maxima are exact (no arithmetic), so every comparison is exact.
+ * maxima of the rows in it, its row count and its counts of rows above a limit of a and of b, for the level the
+ * summary reports, and the smallest level at which the rows fit in the wanted number of buckets. Maxima are exact
+ * (no arithmetic) and counts are integers, so every comparison is exact.
  */
 class TimeBucketsTest {
 
@@ -38,15 +39,23 @@ class TimeBucketsTest {
     return ((row[1] >>> 16) & 0xffff) / 3.0;
   }
 
-  /** Brute force: per bucket of width 2^level, the maxima of a and b. */
+  /** Limits of a and b for the counts: above them are about 15% and 8% of the rows. */
+  private static final double A_LIMIT = 8000;
+  private static final double B_LIMIT = 20000;
+
+  /** Brute force: per bucket of width 2^level, the maxima of a and b, rows, rows above A_LIMIT and B_LIMIT. */
   private static TreeMap<Long, double[]> bruteForce(List<long[]> rows, int level) {
     TreeMap<Long, double[]> out = new TreeMap<>();
     long w = 1L << level;
     for (long[] row : rows) {
       long start = Math.floorDiv(row[0], w) * w;
-      double[] m = out.computeIfAbsent(start, s -> new double[] {Double.NEGATIVE_INFINITY, Double.NEGATIVE_INFINITY});
+      double[] m = out.computeIfAbsent(start, s -> new double[] {Double.NEGATIVE_INFINITY, Double.NEGATIVE_INFINITY,
+          0, 0, 0});
       m[0] = Math.max(m[0], a(row));
       m[1] = Math.max(m[1], b(row));
+      m[2]++;
+      m[3] += a(row) > A_LIMIT ? 1 : 0;
+      m[4] += b(row) > B_LIMIT ? 1 : 0;
     }
     return out;
   }
@@ -68,6 +77,9 @@ class TimeBucketsTest {
       assertEquals(e.getKey(), p.starts()[i], what + ": start of bucket " + i);
       assertEquals(e.getValue()[0], p.maxA()[i], 0.0, what + ": max a of bucket " + i);
       assertEquals(e.getValue()[1], p.maxB()[i], 0.0, what + ": max b of bucket " + i);
+      assertEquals((long) e.getValue()[2], p.rows()[i], what + ": rows of bucket " + i);
+      assertEquals((long) e.getValue()[3], p.overA()[i], what + ": rows above the a limit in bucket " + i);
+      assertEquals((long) e.getValue()[4], p.overB()[i], what + ": rows above the b limit in bucket " + i);
       i++;
     }
   }
@@ -75,9 +87,13 @@ class TimeBucketsTest {
   private static TimeBuckets summary(List<long[]> rows, int limit) {
     TimeBuckets s = new TimeBuckets(limit);
     for (long[] row : rows) {
-      s.add(row[0], a(row), b(row));
+      add(s, row);
     }
     return s;
+  }
+
+  private static void add(TimeBuckets s, long[] row) {
+    s.add(row[0], a(row), b(row), a(row) > A_LIMIT, b(row) > B_LIMIT);
   }
 
   @Test
@@ -87,7 +103,7 @@ class TimeBucketsTest {
     List<long[]> seen = new ArrayList<>();
     for (int i = 0; i < rows.size(); i++) {
       long[] row = rows.get(i);
-      s.add(row[0], a(row), b(row));
+      add(s, row);
       seen.add(row);
       assertTrue(s.size() <= 40, "never more than the limit");
       if (i % 500 == 499) {
@@ -180,7 +196,7 @@ class TimeBucketsTest {
     }
     List<long[]> more = new ArrayList<>(rows);
     for (long[] row : times(5, 500)) {
-      back.add(row[0], a(row), b(row));
+      add(back, row);
       more.add(row);
     }
     assertMatches(bruteForce(more, back.level()), back, "after deserialization");
@@ -199,5 +215,25 @@ class TimeBucketsTest {
     assertEquals(16, p.width());
     assertArrayEquals(new long[] {-16, 0}, p.starts());
     assertArrayEquals(new double[] {1, 3}, p.maxA(), 0.0);
+    assertArrayEquals(new long[] {1, 2}, p.rows(), "the three-argument add counts the row");
+    assertArrayEquals(new long[] {0, 0}, p.overA(), "... above neither limit");
+  }
+
+  @Test
+  void countsAddUpToTheRowsWhateverThePartitioning() {
+    List<long[]> rows = List.of(times(6, 7000));
+    long overA = rows.stream().filter(r -> a(r) > A_LIMIT).count();
+    assertTrue(overA > 500 && overA < rows.size() - 500, "the a limit splits the rows: " + overA);
+    for (int parts : new int[] {1, 4, 13}) {
+      TimeBuckets merged = new TimeBuckets(50);
+      for (int p = parts - 1; p >= 0; p--) {
+        merged.merge(summary(rows.subList(p * rows.size() / parts, (p + 1) * rows.size() / parts), 50));
+      }
+      merged.coarsenToAtMost(25);
+      TimeBuckets.Points pts = merged.points();
+      assertEquals(rows.size(), java.util.Arrays.stream(pts.rows()).sum(), parts + " partitions: every row once");
+      assertEquals(overA, java.util.Arrays.stream(pts.overA()).sum(), parts + " partitions: rows above a");
+      assertMatches(bruteForce(rows, smallestLevel(rows, 25)), merged, parts + " contiguous partitions");
+    }
   }
 }

@@ -212,8 +212,58 @@ final class FleetFixture {
           q[i] > qLimit, cs));
     }
     return new MonitorResult(0.99, k, N, ft2, fq, both, t2Limit, "F distribution (new rows), k = " + k + ", n = " + N,
-        qLimit, "Jackson and Mudholkar (1979), all discarded eigenvalues", new MonitorResult.Series("ts", pos,
-            t2.clone(), q.clone()), top);
+        qLimit, "Jackson and Mudholkar (1979), all discarded eigenvalues", "jackson-mudholkar", 0.21, false,
+        MonitorResult.Series.ofRows("ts", pos, t2.clone(), q.clone()), List.of("host", "ts"), top, List.of());
+  }
+
+  /** Seconds per bucket of {@link #monitorBuckets}: an hour, 12 of the fixture's five-minute rows. */
+  static final long BUCKET = 3600;
+
+  /**
+   * {@link #monitor()} as the scoring pass records it on a table partitioned by {@code day}: the series per hour
+   * (counted here from the rows and the limits) and the top rows keyed by host, ts and the partition column day,
+   * their times as ISO-8601 text.
+   */
+  MonitorResult monitorBuckets() {
+    return monitorBuckets(-1);
+  }
+
+  /** {@link #monitorBuckets()} with every row of bucket {@code burst} (if >= 0) above the Q limit: a bad hour. */
+  MonitorResult monitorBuckets(int burst) {
+    MonitorResult m = monitor();
+    int buckets = (int) ((N - 1) * 300L / BUCKET) + 1;
+    double[] at = new double[buckets];
+    double[] maxT2 = new double[buckets];
+    double[] maxQ = new double[buckets];
+    long[] rows = new long[buckets];
+    long[] overT2 = new long[buckets];
+    long[] overQ = new long[buckets];
+    for (int i = 0; i < N; i++) {
+      int b = (int) (i * 300L / BUCKET);
+      at[b] = START + b * BUCKET;
+      maxT2[b] = Math.max(maxT2[b], t2[i]);
+      maxQ[b] = Math.max(maxQ[b], q[i]);
+      rows[b]++;
+      overT2[b] += t2[i] > m.t2Limit() ? 1 : 0;
+      overQ[b] += q[i] > m.qLimit() ? 1 : 0;
+    }
+    long extra = 0;
+    if (burst >= 0) {
+      extra = rows[burst] - overQ[burst];
+      overQ[burst] = rows[burst];
+    }
+    List<MonitorResult.FlaggedRow> top = new ArrayList<>();
+    for (MonitorResult.FlaggedRow r : m.top()) {
+      String ts = java.time.LocalDateTime.parse(r.keys().get(1).replace(' ', 'T')).toInstant(java.time.ZoneOffset.UTC)
+          .toString();
+      top.add(new MonitorResult.FlaggedRow(List.of(r.keys().get(0), ts, ts.substring(0, 10)), r.t2(), r.q(),
+          r.flaggedT2(), r.flaggedQ(), r.qContributions()));
+    }
+    return new MonitorResult(m.confidence(), m.k(), m.rowsScored(), m.flaggedT2(), m.flaggedQ() + extra,
+        m.flaggedBoth(),
+        m.t2Limit(), m.t2LimitRule(), m.qLimit(), m.qLimitRule(), m.qRule(), m.qH0(), false,
+        new MonitorResult.Series("ts (buckets of 3600 s, 1.00 hours)", at, maxT2, maxQ, rows, overT2, overQ),
+        List.of("host", "ts", "day"), top, List.of());
   }
 
   ScoreSample sample(boolean clustered) {
@@ -357,6 +407,17 @@ final class FleetFixture {
     JobPlan plan = plan(settings("apply.model = \"/data/edge-fleet/pca/2026-02/model\"\n"), "apply");
     return new RunResult(plan, null, model, monitor(), null, null, null, sample(false), "/data/edge-fleet/apply/03-02",
         timings(), List.of(), 33.0);
+  }
+
+  RunResult applyWithBuckets() {
+    return applyWithBuckets(-1);
+  }
+
+  /** An apply run with the hourly series of {@link #monitorBuckets(int)}. */
+  RunResult applyWithBuckets(int burst) {
+    JobPlan plan = plan(settings("apply.model = \"/data/edge-fleet/pca/2026-02/model\"\n"), "apply");
+    return new RunResult(plan, null, model, monitorBuckets(burst), null, null, null, sample(false),
+        "/data/edge-fleet/apply/03-02", timings(), List.of(), 33.0);
   }
 
   RunResult withClusters() {

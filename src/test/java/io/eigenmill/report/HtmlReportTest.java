@@ -118,6 +118,31 @@ class HtmlReportTest {
   }
 
   @Test
+  void bucketChartsDrawSharesAndTheTableNamesItsColumns() {
+    RunResult run = FLEET.applyWithBuckets(20);
+    MonitoringModel m = ReportModel.of(run).monitoring();
+    String html = HtmlReport.render(run);
+    assertTrue(html.contains("expected 1.0% (1 - confidence)"), "the expected share is the reference line");
+    assertTrue(html.contains("<figcaption>" + Html.esc(m.caption()) + "</figcaption>"), "the caption says what a "
+        + "point is");
+    assertFalse(html.contains("a bounded sample"));
+    int excess = 0;
+    for (int b = 0; b < m.position().length; b++) {
+      excess += (m.bucketExcess(true, b) ? 1 : 0) + (m.bucketExcess(false, b) ? 1 : 0);
+    }
+    assertTrue(excess >= 1, "the bad hour is above chance");
+    assertEquals(excess, count(html, "class=\"pt-flagged\""), "buckets above chance, highlighted");
+    assertTrue(html.contains("Share of rows above the Q (squared prediction error) limit (" + Fmt.num(m.qLimit())
+        + ") · " + excess), "the title counts them");
+    assertTrue(html.contains("<th>host</th><th>ts</th><th>day</th><th class=\"num\">T2</th>"), "column names");
+    assertFalse(html.contains("key 3"));
+    assertTrue(Pattern.compile("<td class=\"key\">2026-03-\\d\\dT\\d\\d:\\d\\d:00Z</td><td class=\"key\">"
+        + "2026-03-\\d\\d</td>").matcher(html).find(), "ISO-8601 instants and dates");
+    assertSvgWellFormed(html);
+    assertNoNonFinite(html);
+  }
+
+  @Test
   void everyTextIsEscaped() {
     List<String> names = List.of("<script>alert(1)</script>", "a&b", "\"quoted\" 'single'", "temp>90");
     PcaModel model = FleetFixture.model(names, 2, new double[] {3, 2, 1, 0.5});
@@ -185,8 +210,9 @@ class HtmlReportTest {
   void edgeCasesRenderWithoutFailing() {
     PcaModel one = FleetFixture.model(List.of("a", "b"), 1, new double[] {1, 0});
     RunResult bare = FleetFixture.applyRun(one, List.of());
-    MonitorResult empty = new MonitorResult(0.95, 1, 0, 0, 0, 0, 1, "rule", 1, "rule",
-        new MonitorResult.Series("row", new double[0], new double[0], new double[0]), List.of());
+    MonitorResult empty = new MonitorResult(0.95, 1, 0, 0, 0, 0, 1, "rule", 1, "rule", "box", -0.5, false,
+        MonitorResult.Series.ofRows("row", new double[0], new double[0], new double[0]), List.of(), List.of(),
+        List.of());
     RunResult run = new RunResult(bare.plan(), null, one, empty, null, null, null,
         new io.eigenmill.jobs.ScoreSample(List.of("host"), List.of(List.of("h")), new double[][] {{0.0}}, null),
         "/o", Map.of(), List.of(), 0);

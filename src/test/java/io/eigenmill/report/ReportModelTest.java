@@ -240,6 +240,66 @@ class ReportModelTest {
     assertEquals(r.flaggedT2(), over, "the fixture's series is every scored row");
   }
 
+  /** P(X <= m) for X ~ Binomial(n, p), by summing the probability mass function (brute force). */
+  private static double binomialCdf(long n, double p, long m) {
+    double sum = 0;
+    for (long x = 0; x <= m; x++) {
+      double c = 1;
+      for (long i = 0; i < x; i++) {
+        c = c * (n - i) / (i + 1);
+      }
+      sum += c * Math.pow(p, x) * Math.pow(1 - p, n - x);
+    }
+    return sum;
+  }
+
+  @Test
+  void bucketSeriesShowsSharesAgainstTheExpectedShareAndNamesTheKeyColumns() {
+    RunResult run = FLEET.applyWithBuckets();
+    MonitorResult r = run.monitor();
+    MonitoringModel m = ReportModel.of(run).monitoring();
+    assertTrue(m.buckets() && m.time());
+    assertEquals(0.01, m.expected(), 1e-15);
+    // brute force over the fixture's rows: rows five minutes apart, hour buckets from START
+    int excess = 0;
+    for (boolean t2 : new boolean[] {true, false}) {
+      for (int b = 0; b < m.position().length; b++) {
+        long rows = 0;
+        long over = 0;
+        for (int i = 0; i < FleetFixture.N; i++) {
+          if (i * 300L / FleetFixture.BUCKET == b) {
+            rows++;
+            over += t2 ? (FLEET.t2[i] > r.t2Limit() ? 1 : 0) : (FLEET.q[i] > r.qLimit() ? 1 : 0);
+          }
+        }
+        assertEquals(over / (double) rows, m.share(t2, b), 0.0, "share of bucket " + b);
+        // above chance: the count exceeds the 0.999 quantile of Binomial(rows, 0.01): P(X <= over - 1) >= 0.999
+        boolean expected = over > 0 && binomialCdf(rows, 0.01, over - 1) >= MonitoringModel.BUCKET_CHANCE;
+        assertEquals(expected, m.bucketExcess(t2, b), "bucket " + b + ": " + over + " of " + rows);
+        excess += expected ? 1 : 0;
+      }
+    }
+    assertEquals(0, excess, "the fixture's rows are ordinary hour by hour (at most 2 of 12 flagged)");
+    MonitoringModel burst = ReportModel.of(FLEET.applyWithBuckets(20)).monitoring();
+    assertTrue(burst.bucketExcess(false, 20), "12 of 12 rows flagged in an hour: P(X >= 12) = 1e-24");
+    assertEquals(1.0, burst.share(false, 20), 0.0);
+    assertTrue(m.caption().startsWith("Each point is one time bucket of ts (buckets of 3600 s, 1.00 hours): the "
+        + "share of the bucket's rows above the row limit (67 buckets of 8 to 12 rows)"), m.caption());
+    // 800 rows five minutes apart: 66 full hours of 12 rows and a last hour of 8 (brute force: 800 = 66 x 12 + 8)
+    assertTrue(m.caption().contains("1 - confidence = 1.0%"), m.caption());
+    assertEquals(List.of("host", "ts", "day"), m.keyNames(), "the columns by name, the partition column too");
+    assertTrue(m.top().get(0).keys().get(1).matches("2026-03-\\d\\dT\\d\\d:\\d\\d:00Z"), m.top().get(0).keys().toString());
+    assertTrue(Fact.find(m.limits(), "Q rule").startsWith("jackson-mudholkar, h0 = 0.21"));
+  }
+
+  @Test
+  void rowSeriesCaptionSaysEachPointIsARow() {
+    MonitoringModel m = ReportModel.of(FLEET.fitWithMonitor()).monitoring();
+    assertFalse(m.buckets());
+    assertEquals("Each point is one of the 800 scored rows, with its own value against the row limit: a limit that "
+        + "holds puts about 1.0% of the points above it.", m.caption());
+  }
+
   @Test
   void rowOrderIsNotMistakenForTime() {
     assertFalse(MonitoringModel.isTime("row", new double[] {2e8, 3e8}));

@@ -43,6 +43,7 @@ class SettingsReaderTest {
     assertEquals(ref.getInt("reduce.randomized.power-iterations"), s.reduce().powerIterations());
     assertEquals(ref.getLong("reduce.randomized.seed"), s.reduce().seed());
     assertEquals(ref.getDouble("monitor.confidence"), s.monitor().confidence());
+    assertEquals(ref.getString("monitor.q-limit"), s.monitor().qLimit().word());
     assertEquals(ref.getString("output.mode"), s.output().mode().word());
     assertEquals(ref.getBoolean("output.scores"), s.output().scores());
     assertEquals(ref.getBoolean("cluster.enabled"), s.cluster().enabled());
