@@ -1,14 +1,14 @@
 package io.eigenmill.cli;
 
 import io.eigenmill.Version;
-import io.eigenmill.jobs.JobRunner;
-import io.eigenmill.jobs.RunResult;
+import io.eigenmill.io.InputFiles;
 import io.eigenmill.math.Linalg;
 import io.eigenmill.plan.JobPlan;
+import io.eigenmill.record.RunResult;
+import io.eigenmill.run.JobRunner;
 import io.eigenmill.settings.InvalidJobException;
 import io.eigenmill.settings.JobSettings;
 import io.eigenmill.settings.SettingsReader;
-import io.eigenmill.spark.InputFiles;
 import java.io.File;
 import java.io.PrintStream;
 import java.io.PrintWriter;
@@ -54,7 +54,7 @@ public final class Main {
     }
     if (a.command().equals("version")) {
       out.println("eigenmill " + Version.current() + " (" + Linalg.describe() + "; nearest-centroid kernel "
-          + io.eigenmill.math.NearestKeys.best().describe() + "; column copy "
+          + io.eigenmill.kmeans.math.NearestKeys.best().describe() + "; column copy "
           + io.eigenmill.math.ShiftedCopy.best().describe() + ")");
       out.print(jvmFlags(Version.jvmFlags()));
       return OK;

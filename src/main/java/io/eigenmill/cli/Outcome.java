@@ -1,7 +1,7 @@
 package io.eigenmill.cli;
 
-import io.eigenmill.jobs.FitResult;
-import io.eigenmill.jobs.RunResult;
+import io.eigenmill.pca.FitResult;
+import io.eigenmill.record.RunResult;
 import java.util.Locale;
 
 /** The few lines {@code run} prints when it succeeds. */

@@ -1,6 +1,6 @@
 package io.eigenmill.demo;
 
-import io.eigenmill.spark.WriterSession;
+import io.eigenmill.io.WriterSession;
 import java.io.PrintStream;
 import java.time.LocalDate;
 import java.time.format.DateTimeParseException;

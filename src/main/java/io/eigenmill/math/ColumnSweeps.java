@@ -1,18 +1,20 @@
 package io.eigenmill.math;
 
+import io.eigenmill.pca.math.RFactor;
+
 /**
  * The column sweeps that centre a block of rows in memory, shared by {@link Moments} and {@link RFactor}. Sums run in
  * independent chains so that a sweep is bound by loads, not by the latency of one adder (Java keeps the order of
  * floating-point additions, so a single-chain sum cannot be vectorised).
  */
-final class ColumnSweeps {
+public final class ColumnSweeps {
   private ColumnSweeps() {}
 
   /**
    * Sum of {@code rows} values from {@code off}, in eight independent chains (no wait on one adder; measured: 0.4 ns
    * a value against 0.6 with four chains, on data in L2).
    */
-  static double sum(double[] a, int off, int rows) {
+  public static double sum(double[] a, int off, int rows) {
     double s0 = 0;
     double s1 = 0;
     double s2 = 0;
@@ -44,7 +46,7 @@ final class ColumnSweeps {
    * their squares (four chains each; measured: 0.7 ns a value against 1.8 with two chains, which left the sweep
    * waiting on the adders).
    */
-  static void centre(double[] a, int off, int rows, double mu, double[] out) {
+  public static void centre(double[] a, int off, int rows, double mu, double[] out) {
     double s0 = 0;
     double s1 = 0;
     double s2 = 0;

@@ -63,7 +63,7 @@ public final class Linalg {
   }
 
   /** Throws with the routine's name when a LAPACK call reports {@code info != 0}. */
-  static void check(String routine, intW info) {
+  public static void check(String routine, intW info) {
     if (info.val != 0) {
       throw new ArithmeticException("LAPACK " + routine + " returned info = " + info.val
           + (info.val < 0 ? " (argument " + (-info.val) + " is invalid)" : " (no convergence)"));

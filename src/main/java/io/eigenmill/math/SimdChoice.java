@@ -1,5 +1,6 @@
 package io.eigenmill.math;
 
+import io.eigenmill.kmeans.math.NearestKeys;
 import java.util.function.Supplier;
 
 /**
@@ -8,11 +9,11 @@ import java.util.function.Supplier;
  * for spark-submit), it loads, and it has at least 4 double lanes (below that it would not pay), unless the system
  * property {@code eigenmill.simd} is {@code off}; the scalar form otherwise.
  */
-final class SimdChoice {
+public final class SimdChoice {
   /** The system property's value, "auto" when unset. */
-  static final String SETTING = System.getProperty("eigenmill.simd", "auto");
+  public static final String SETTING = System.getProperty("eigenmill.simd", "auto");
   /** Whether the JVM resolved the vector module. */
-  static final boolean MODULE = ModuleLayer.boot().findModule("jdk.incubator.vector").isPresent();
+  public static final boolean MODULE = ModuleLayer.boot().findModule("jdk.incubator.vector").isPresent();
 
   private SimdChoice() {}
 
@@ -22,7 +23,7 @@ final class SimdChoice {
    * not a method reference), so that the class loads here, where a JVM without the module only gets a
    * {@link LinkageError}.
    */
-  static <K> K choose(String setting, boolean moduleResolved, Supplier<K> simd, K scalar) {
+  public static <K> K choose(String setting, boolean moduleResolved, Supplier<K> simd, K scalar) {
     if ("off".equalsIgnoreCase(setting) || !moduleResolved) {
       return scalar;
     }
@@ -35,5 +36,5 @@ final class SimdChoice {
   }
 
   /** Fewer double lanes than this do not pay for a SIMD kernel. */
-  static final int MIN_LANES = 4;
+  public static final int MIN_LANES = 4;
 }

@@ -1,12 +1,12 @@
 package io.eigenmill.plan;
 
-import io.eigenmill.jobs.PcaModel;
+import io.eigenmill.io.ModelStore;
+import io.eigenmill.io.PcaModel;
+import io.eigenmill.io.TableLoader;
 import io.eigenmill.settings.Choices.InputFormat;
 import io.eigenmill.settings.Choices.Method;
 import io.eigenmill.settings.InvalidJobException;
 import io.eigenmill.settings.JobSettings;
-import io.eigenmill.spark.ModelStore;
-import io.eigenmill.spark.TableLoader;
 import java.util.ArrayList;
 import java.util.LinkedHashMap;
 import java.util.LinkedHashSet;

@@ -1,7 +1,7 @@
 package io.eigenmill.report;
 
-import io.eigenmill.jobs.ClusterResult;
-import io.eigenmill.jobs.RunResult;
+import io.eigenmill.kmeans.ClusterResult;
+import io.eigenmill.record.RunResult;
 import java.util.ArrayList;
 import java.util.List;
 

@@ -1,8 +1,8 @@
 package io.eigenmill.report;
 
-import io.eigenmill.jobs.DataDriftResult;
-import io.eigenmill.jobs.LabelResult;
-import io.eigenmill.jobs.RunResult;
+import io.eigenmill.kmeans.LabelResult;
+import io.eigenmill.monitor.DataDriftResult;
+import io.eigenmill.record.RunResult;
 import java.util.ArrayList;
 import java.util.Comparator;
 import java.util.List;

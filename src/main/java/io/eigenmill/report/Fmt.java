@@ -12,7 +12,7 @@ import java.util.Locale;
  * Number formatting of the report: locale-independent (a dot for decimals, a comma between thousands), so that the
  * page reads the same on every machine. Formatting only; no value is derived here.
  */
-final class Fmt {
+public final class Fmt {
   /** Significant digits of report numbers: enough to compare runs by eye, few enough to read. */
   static final int DIGITS = 4;
 
@@ -98,7 +98,7 @@ final class Fmt {
   }
 
   /** Seconds since the epoch as a UTC time; to the day when {@code dayOnly}. */
-  static String time(double epochSeconds, boolean dayOnly) {
+  public static String time(double epochSeconds, boolean dayOnly) {
     Instant t = Instant.ofEpochMilli(Math.round(epochSeconds * 1000));
     return (dayOnly ? DAYS : MINUTES).format(t);
   }

@@ -1,10 +1,10 @@
 package io.eigenmill.report;
 
 import io.eigenmill.Version;
-import io.eigenmill.jobs.FitResult;
-import io.eigenmill.jobs.PcaModel;
-import io.eigenmill.jobs.RunResult;
+import io.eigenmill.io.PcaModel;
+import io.eigenmill.pca.FitResult;
 import io.eigenmill.plan.JobPlan;
+import io.eigenmill.record.RunResult;
 import io.eigenmill.settings.JobSettings;
 import java.util.ArrayList;
 import java.util.List;

@@ -1,6 +1,6 @@
 package io.eigenmill.report;
 
-import io.eigenmill.jobs.RunResult;
+import io.eigenmill.record.RunResult;
 import java.util.List;
 
 /**

@@ -1,7 +1,7 @@
 package io.eigenmill.report;
 
-import io.eigenmill.jobs.PcaModel;
-import io.eigenmill.jobs.RunResult;
+import io.eigenmill.io.PcaModel;
+import io.eigenmill.record.RunResult;
 import java.util.ArrayList;
 import java.util.Comparator;
 import java.util.List;

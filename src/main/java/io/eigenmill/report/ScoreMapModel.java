@@ -1,8 +1,8 @@
 package io.eigenmill.report;
 
-import io.eigenmill.jobs.ClusterResult;
-import io.eigenmill.jobs.RunResult;
-import io.eigenmill.jobs.ScoreSample;
+import io.eigenmill.kmeans.ClusterResult;
+import io.eigenmill.monitor.ScoreSample;
+import io.eigenmill.record.RunResult;
 import java.util.ArrayList;
 import java.util.List;
 

@@ -1,8 +1,8 @@
 package io.eigenmill.report;
 
-import io.eigenmill.jobs.PcaModel;
-import io.eigenmill.jobs.RunResult;
-import io.eigenmill.math.Spectrum;
+import io.eigenmill.io.PcaModel;
+import io.eigenmill.pca.math.Spectrum;
+import io.eigenmill.record.RunResult;
 import java.util.ArrayList;
 import java.util.List;
 

@@ -6,7 +6,7 @@ import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import io.eigenmill.demo.FleetTelemetryGenerator.FleetSpec;
-import io.eigenmill.spark.WriterSession;
+import io.eigenmill.io.WriterSession;
 import io.eigenmill.testing.SparkSuite;
 import java.nio.file.Files;
 import java.nio.file.Path;

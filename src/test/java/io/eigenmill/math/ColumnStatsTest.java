@@ -1,10 +1,11 @@
 package io.eigenmill.math;
 
-import static io.eigenmill.math.MathFixtures.gamma;
+import static io.eigenmill.testing.MathFixtures.gamma;
 import static org.junit.jupiter.api.Assertions.assertArrayEquals;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
+import io.eigenmill.testing.MathFixtures;
 import java.util.Arrays;
 import java.util.Random;
 import org.apache.commons.math3.stat.descriptive.moment.Mean;

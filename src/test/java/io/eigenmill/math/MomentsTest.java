@@ -1,12 +1,14 @@
 package io.eigenmill.math;
 
-import static io.eigenmill.math.MathFixtures.U;
-import static io.eigenmill.math.MathFixtures.gamma;
+import static io.eigenmill.testing.MathFixtures.U;
+import static io.eigenmill.testing.MathFixtures.gamma;
 import static org.junit.jupiter.api.Assertions.assertArrayEquals;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
+import io.eigenmill.pca.math.Spectrum;
+import io.eigenmill.testing.MathFixtures;
 import java.util.Random;
 import org.apache.commons.math3.stat.correlation.Covariance;
 import org.junit.jupiter.api.Test;

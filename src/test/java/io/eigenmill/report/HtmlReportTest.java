@@ -5,9 +5,10 @@ import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 import static org.junit.jupiter.api.Assertions.fail;
 
-import io.eigenmill.jobs.MonitorResult;
-import io.eigenmill.jobs.PcaModel;
-import io.eigenmill.jobs.RunResult;
+import io.eigenmill.io.PcaModel;
+import io.eigenmill.monitor.MonitorResult;
+import io.eigenmill.record.RunResult;
+import io.eigenmill.testing.FleetFixture;
 import java.io.ByteArrayInputStream;
 import java.nio.charset.StandardCharsets;
 import java.util.ArrayList;
@@ -214,7 +215,7 @@ class HtmlReportTest {
         MonitorResult.Series.ofRows("row", new double[0], new double[0], new double[0]), List.of(), List.of(),
         List.of());
     RunResult run = new RunResult(bare.plan(), null, one, empty, null, null, null,
-        new io.eigenmill.jobs.ScoreSample(List.of("host"), List.of(List.of("h")), new double[][] {{0.0}}, null),
+        new io.eigenmill.monitor.ScoreSample(List.of("host"), List.of(List.of("h")), new double[][] {{0.0}}, null),
         "/o", Map.of(), List.of(), 0);
     String html = HtmlReport.render(run);
     assertTrue(html.contains("id=\"chart-scores-pc1\""));

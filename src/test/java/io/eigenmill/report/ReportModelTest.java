@@ -6,11 +6,12 @@ import static org.junit.jupiter.api.Assertions.assertNotNull;
 import static org.junit.jupiter.api.Assertions.assertNull;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
-import io.eigenmill.jobs.ClusterResult;
-import io.eigenmill.jobs.MonitorResult;
-import io.eigenmill.jobs.PcaModel;
-import io.eigenmill.jobs.ReconstructionResult;
-import io.eigenmill.jobs.RunResult;
+import io.eigenmill.io.PcaModel;
+import io.eigenmill.kmeans.ClusterResult;
+import io.eigenmill.monitor.MonitorResult;
+import io.eigenmill.monitor.ReconstructionResult;
+import io.eigenmill.record.RunResult;
+import io.eigenmill.testing.FleetFixture;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.Map;
@@ -207,7 +208,7 @@ class ReportModelTest {
     PcaModel model = FleetFixture.model(List.of("a", "b", "c"), 1, new double[] {2, 1, 0.5});
     RunResult bare = FleetFixture.applyRun(model, List.of());
     RunResult run = new RunResult(bare.plan(), null, model, null, null, null, null,
-        new io.eigenmill.jobs.ScoreSample(List.of("host"), List.of(List.of("h1"), List.of("h2")),
+        new io.eigenmill.monitor.ScoreSample(List.of("host"), List.of(List.of("h1"), List.of("h2")),
             new double[][] {{0.5}, {-0.5}}, null), "/o", Map.of(), List.of(), 1);
     ScoreMapModel s = ReportModel.of(run).scores();
     assertEquals(1, s.plots().size());

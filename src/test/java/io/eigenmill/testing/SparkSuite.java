@@ -31,14 +31,14 @@ public abstract class SparkSuite {
   }
 
   @BeforeAll
-  static void startSpark() {
+  public static void startSpark() {
     borrowed = new Borrowed();
     borrowed.runBefore();
     spark = borrowed.spark();
   }
 
   @AfterAll
-  static void stopSpark() {
+  public static void stopSpark() {
     JavaDataFrameSuiteBase.runAfterClass();
     SparkSession.clearActiveSession();
     SparkSession.clearDefaultSession();

@@ -1,0 +1,107 @@
+package io.eigenmill.engine;
+
+import io.eigenmill.math.BlockPrep;
+import java.io.Serializable;
+import java.util.List;
+import org.apache.spark.api.java.JavaRDD;
+import org.apache.spark.sql.Column;
+import org.apache.spark.sql.Dataset;
+import org.apache.spark.sql.Row;
+import org.apache.spark.sql.functions;
+import org.apache.spark.sql.vectorized.ColumnarBatch;
+import org.apache.spark.util.LongAccumulator;
+
+/**
+ * The feature columns of the input table as a source of blocks for one or more passes.
+ *
+ * <p>When the executed plan of {@code SELECT features} bottoms out in a Parquet scan that produces columnar batches,
+ * passes read those batches directly ({@code executeColumnar()}): no Row objects, values copied column by column
+ * into the block. Otherwise (CSV, views, too many columns for the vectorised reader) passes read Rows of the features
+ * cast to double. Either way a pass is one Spark job: one partial per partition, merged in a fixed order (partition index), so that runs repeat bit for bit.
+ */
+public final class FeatureInput {
+  private final Dataset<Row> table;
+  private final List<String> features;
+  private final int blockRows;
+  private final ColumnarScan columnarScan;
+  private final int[] ordinals;
+  private final int[] kinds;
+
+  public FeatureInput(Dataset<Row> table, List<String> features, int blockRows) {
+    this.table = table;
+    this.features = List.copyOf(features);
+    this.blockRows = blockRows;
+    Column[] cols = features.stream().map(functions::col).toArray(Column[]::new);
+    ColumnarScan scan = ColumnarScan.of(table.select(cols));
+    int[] ord = scan == null ? null : scan.ordinals(features);
+    this.columnarScan = ord == null ? null : scan;
+    this.ordinals = ord;
+    this.kinds = ord == null ? null : kindsIn(scan, ord, features);
+  }
+
+  /** True when passes read Parquet's columnar batches; false for the Row path. */
+  public boolean columnar() {
+    return columnarScan != null;
+  }
+
+  public String readPath() {
+    return columnar() ? "columnar Parquet batches" : "rows (no columnar scan for this input)";
+  }
+
+  /**
+   * The Parquet scan's columnar batches and, for each feature, its column position in a batch; null when this input
+   * has no columnar scan. For the benchmark's read floor.
+   */
+  public JavaRDD<ColumnarBatch> columnarBatches() {
+    return columnar() ? columnarScan.batches() : null;
+  }
+
+  public int[] batchOrdinals() {
+    return ordinals == null ? null : ordinals.clone();
+  }
+
+  public List<String> features() {
+    return features;
+  }
+
+  public Dataset<Row> table() {
+    return table;
+  }
+
+  /**
+   * Runs one pass: every partition reads its rows into blocks ({@code mode} decides what a missing cell does),
+   * applies {@code prep}, feeds {@code aggregator}; partials merge in a tree. Progress goes to the log.
+   */
+  public <A extends Serializable> PartialResult<A> run(String stage, BlockAggregator<A> aggregator, ReadMode mode,
+      BlockPrep prep) {
+    var sc = table.sparkSession().sparkContext();
+    LongAccumulator rows = sc.longAccumulator("eigenmill rows read (" + stage + ")");
+    var spec = new PartitionPasses.PassSpec<>(features.size(), blockRows, mode, prep, aggregator, rows);
+    JavaRDD<PartialResult<A>> partials;
+    if (columnar()) {
+      JavaRDD<ColumnarBatch> batches = columnarScan.batches();
+      partials = batches.mapPartitions(new PartitionPasses.ColumnarPass<>(spec, ordinals, kinds));
+    } else {
+      Column[] cast = features.stream().map(f -> functions.col(f).cast("double")).toArray(Column[]::new);
+      partials = table.select(cast).javaRDD().mapPartitions(new PartitionPasses.RowPass<>(spec));
+    }
+    try (Progress progress = Progress.start(table.sparkSession(), stage, rows)) {
+      if (partials.getNumPartitions() == 0) {
+        return new PartialResult<>(new ReadCounts(features.size()), aggregator.zero());
+      }
+      PartialResult<A> result = OrderedMerge.merge(partials, new PartitionPasses.MergePartials<>(aggregator));
+      progress.done(result.counts().rowsRead());
+      return result;
+    }
+  }
+
+  private static int[] kindsIn(ColumnarScan scan, int[] ordinals, List<String> features) {
+    int[] k = scan.kinds(ordinals);
+    for (int j = 0; j < k.length; j++) {
+      if (k[j] < 0) {
+        throw new IllegalStateException("column " + features.get(j) + " is not numeric");
+      }
+    }
+    return k;
+  }
+}

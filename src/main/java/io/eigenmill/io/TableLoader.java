@@ -1,0 +1,79 @@
+package io.eigenmill.io;
+
+import io.eigenmill.settings.Choices;
+import io.eigenmill.settings.InvalidJobException;
+import io.eigenmill.settings.JobSettings;
+import java.io.IOException;
+import org.apache.hadoop.fs.FileStatus;
+import org.apache.hadoop.fs.FileSystem;
+import org.apache.hadoop.fs.Path;
+import org.apache.spark.sql.DataFrameReader;
+import org.apache.spark.sql.Dataset;
+import org.apache.spark.sql.Row;
+import org.apache.spark.sql.SparkSession;
+
+/** Opens the input table lazily (schema only: no data is read here). */
+public final class TableLoader {
+  private TableLoader() {}
+
+  public static Dataset<Row> load(SparkSession spark, JobSettings.Input input) {
+    requireExists(spark, "input.path", input.path());
+    DataFrameReader reader = spark.read();
+    if (input.corruptFiles() == Choices.CorruptFiles.SKIP) {
+      reader = reader.option("ignoreCorruptFiles", "true");
+    }
+    try {
+      if (input.format() == Choices.InputFormat.CSV) {
+        return reader.option("header", "true").option("inferSchema", "true").csv(input.path());
+      }
+      if (input.corruptFiles() == Choices.CorruptFiles.SKIP) {
+        // Spark infers the schema from one file: read only the files whose footers are sound
+        InputFiles.Check files = InputFiles.check(spark, input);
+        if (!files.unreadable().isEmpty()) {
+          return reader.option("basePath", input.path()).parquet(files.readable().toArray(String[]::new));
+        }
+      }
+      return reader.parquet(input.path());
+    } catch (InvalidJobException e) {
+      throw e;
+    } catch (Exception e) { // AnalysisException is checked
+      throw new InvalidJobException("input.path = " + input.path() + ": cannot be read as "
+          + input.format().word() + ": " + firstLine(e));
+    }
+  }
+
+  /** Fails with a message naming {@code key} when {@code path} does not exist. */
+  public static void requireExists(SparkSession spark, String key, String path) {
+    if (!exists(spark, path)) {
+      throw new InvalidJobException(key + " = " + path + ": no such file or folder");
+    }
+  }
+
+  public static boolean exists(SparkSession spark, String path) {
+    try {
+      Path p = new Path(path);
+      FileSystem fs = p.getFileSystem(spark.sparkContext().hadoopConfiguration());
+      return fs.exists(p);
+    } catch (IOException | IllegalArgumentException e) {
+      return false;
+    }
+  }
+
+  /** Sum of the sizes of the files under {@code path} (bytes), or -1 when it cannot be listed cheaply. */
+  public static long sizeBytes(SparkSession spark, String path) {
+    try {
+      Path p = new Path(path);
+      FileSystem fs = p.getFileSystem(spark.sparkContext().hadoopConfiguration());
+      FileStatus status = fs.getFileStatus(p);
+      return status.isDirectory() ? fs.getContentSummary(p).getLength() : status.getLen();
+    } catch (IOException e) {
+      return -1;
+    }
+  }
+
+  static String firstLine(Throwable e) {
+    String m = String.valueOf(e.getMessage());
+    int nl = m.indexOf('\n');
+    return nl < 0 ? m : m.substring(0, nl);
+  }
+}

@@ -1,0 +1,43 @@
+package io.eigenmill.kmeans;
+
+import java.util.List;
+
+/**
+ * The outcome of clustering rows or entities: the k-selection table, the chosen k and its quality, sizes,
+ * centroids (in the clustered space and in original feature units) and per-cluster profiles.
+ *
+ * @param space "scores" or "features"
+ * @param entity the entity column clustered instead of rows, or "" for rows
+ * @param selection one entry per k tried (one entry when k was fixed)
+ * @param silhouetteSample rows in the seeded sample the silhouette was computed on (exact, Euclidean)
+ * @param initSample rows in the seeded sample k-means|| chose the starting centroids on; 0 when it ran over all
+ *     rows
+ */
+public record ClusterResult(
+    String space,
+    String entity,
+    int k,
+    String selectionRule,
+    double withinSs,
+    double silhouette,
+    long[] sizes,
+    List<KScore> selection,
+    List<String> dimensions,
+    double[][] centroids,
+    List<String> features,
+    double[][] centroidsOriginal,
+    List<Profile> profiles,
+    int silhouetteSample,
+    int initSample) {
+
+  public record KScore(int k, double withinSs, double silhouette, double calinskiHarabasz, double daviesBouldin) {}
+
+  /** The features that most distinguish a cluster, largest |standardised difference| first. */
+  public record Profile(int cluster, long size, double share, List<FeatureShift> distinguishing) {}
+
+  /**
+   * @param standardizedDifference (cluster mean - overall mean) / overall standard deviation
+   */
+  public record FeatureShift(String feature, double clusterMean, double overallMean,
+      double standardizedDifference) {}
+}

@@ -1,0 +1,445 @@
+package io.eigenmill.kmeans;
+
+import io.eigenmill.kmeans.math.KMeansSeeding;
+import io.eigenmill.kmeans.math.LloydStats;
+import io.eigenmill.kmeans.math.NearestKeys;
+import io.eigenmill.kmeans.math.PointList;
+import io.eigenmill.kmeans.math.SampleRound;
+import io.eigenmill.math.SeedStream;
+import java.io.Serializable;
+import java.util.ArrayList;
+import java.util.List;
+import org.apache.spark.api.java.JavaRDD;
+import org.apache.spark.sql.SparkSession;
+import org.slf4j.Logger;
+import org.slf4j.LoggerFactory;
+
+/**
+ * k-means on the cached points: many runs (every restart of every k tried) side by side, so that each pass over the
+ * data serves all of them and the number of passes does not grow with the restarts or the k-range.
+ *
+ * <p><b>Initialisation: k-means||</b> (Bahmani, Moseley, Vattani, Kumar and Vassilvitskii 2012, "Scalable
+ * k-means++", PVLDB 5(7), Algorithm 2). A run starts from one point drawn uniformly (the point of smallest unit
+ * number in its stream); each of {@link #ROUNDS} rounds adds every row x with probability
+ * min(1, l d^2(x, C) / phi), l = 2k, phi = sum d^2(x, C), in one pass ({@link SampleRound}; the paper shows a few
+ * rounds suffice in practice). A run keeps sampling for up to {@link #MAX_EXTRA_ROUNDS} more rounds while it has
+ * fewer than k distinct candidates (a round that samples nothing then takes the row of largest key: equal rows share
+ * their identity, hence their unit number, so heavily duplicated rows can leave a round empty); when phi = 0 every
+ * row coincides with a candidate, so the candidates are all the distinct points and fewer than k of them is an error
+ * ({@link TooFewDistinctPoints}). A last pass counts the rows nearest to each candidate; on the driver, weighted
+ * k-means++ and weighted Lloyd iterations on the candidates give the k starting centroids ({@link KMeansSeeding}).
+ * Every random decision is a function of (seed, k, restart, round) and the row's identity, never of the partition:
+ * the candidates do not depend on the partitioning.
+ *
+ * <p><b>Where the initialisation runs.</b> By default ({@code cluster.init-sample} rows, at most
+ * {@link #INIT_SAMPLE_VALUES} / d) the rounds and the weights run on the driver over a seeded sample of the rows
+ * (bottom-s of a unit number of each row's identity, gathered by the summary pass): no pass over the data, and the
+ * candidate weights are counts over the sample, i.e. estimates of the full counts scaled by about s / n, a factor
+ * to which weighted k-means++ and the weighted Lloyd iterations are invariant. A table of at most s rows is sampled
+ * whole, which is the same computation as over the cache. The Lloyd iterations always run over every row. When the
+ * sample turns out to hold fewer than k distinct points (duplicates crowd it) while the rows have more, the
+ * initialisation runs again over all rows. With {@code cluster.init-sample = 0} it always runs over all rows.
+ *
+ * <p><b>Lloyd iterations</b>: one pass per iteration for all runs still moving; each run's new centroids are the
+ * means of their rows. A run stops when no centroid moved more than {@code tolerance} times the data's RMS radius
+ * (sqrt of the mean squared distance to the data mean), or after {@code maxIterations} passes. The reported state
+ * of a run is the last one evaluated: the centroids of its last pass with that pass's exact within-SS, sizes and
+ * mean distances (a consistent pair; at convergence the next centroids differ by at most tolerance x radius, which
+ * changes the within-SS by at most n (tolerance x radius)^2 = tolerance^2 x total SS). An empty cluster is re-seeded
+ * deterministically with the row farthest from its centroid (the next farthest for a second empty cluster, ties by
+ * identity), counted in {@link Fitted#reseeds}, and the run is not considered converged in that iteration.
+ *
+ * <p>Passes: 1 summary (done by the caller) + Lloyd iterations (the slowest run's count), plus {@link #ROUNDS}
+ * rounds + 1 (weights) when the initialisation runs over all rows, where a round whose kept rows overflow costs one
+ * more pass (rare: see {@link #KEPT_PER_OVERSAMPLE}). Centroids travel as
+ * broadcasts; all arithmetic is in coordinates shifted by the data mean.
+ */
+public final class ParallelKMeans {
+  private static final Logger LOG = LoggerFactory.getLogger(ParallelKMeans.class);
+
+  /**
+   * Oversampling rounds of k-means|| (one pass each), each adding about l = 2k candidates per run. Two rounds keep
+   * the initialisation to 3 passes (first centre from the summary pass, 2 rounds, weights); restarts run side by
+   * side in the same passes and cover the variance of a short initialisation (see local-demo/BENCHMARKS.md for the
+   * within-SS this gives against the engine's k-means on the benchmark's scores).
+   */
+  public static final int ROUNDS = 2;
+  /** Further rounds allowed while a run has fewer than k distinct candidates. */
+  public static final int MAX_EXTRA_ROUNDS = 30;
+  /**
+   * Rows of largest key kept per run and round, as a multiple of the expected number sampled (l = 2k) plus
+   * {@link #KEPT_EXTRA}: the count sampled has mean at most l and variance at most l, so 4 l + 16 is exceeded with
+   * negligible probability; when it is, one more pass with the known threshold keeps the round exact.
+   */
+  static final int KEPT_PER_OVERSAMPLE = 4;
+  static final int KEPT_EXTRA = 16;
+  /** Cap on the weighted Lloyd iterations over the candidates, on the driver. */
+  public static final int LOCAL_ITERATIONS = 100;
+  /**
+   * Values (rows x d) of the initialisation sample at most: 2^21 doubles, 16 MiB, so that the summary's partials
+   * and the driver's copy stay small at any d.
+   */
+  public static final int INIT_SAMPLE_VALUES = 1 << 21;
+
+  /** One k-means run: the number of clusters and the restart number (0-based). */
+  public record Run(int k, int restart) implements Serializable {}
+
+  /**
+   * A run's outcome.
+   *
+   * @param centroids point-major {@code k x d} in the original point coordinates
+   * @param sizes rows nearest to each centroid
+   * @param meanDistances mean Euclidean distance of each cluster's rows to its centroid (0 for an empty cluster)
+   * @param iterations Lloyd passes run
+   * @param converged false when the run stopped at the iteration cap
+   * @param reseeds empty clusters re-seeded during the run
+   */
+  public record Fitted(Run run, double[] centroids, long[] sizes, double[] meanDistances, double withinSs,
+      int iterations, boolean converged, int reseeds) {}
+
+  /** Fewer distinct points than a run's k. */
+  public static final class TooFewDistinctPoints extends RuntimeException {
+    private final int k;
+    private final int distinct;
+
+    TooFewDistinctPoints(int k, int distinct) {
+      super("k = " + k + " but the points have only " + distinct + " distinct values");
+      this.k = k;
+      this.distinct = distinct;
+    }
+
+    public int k() {
+      return k;
+    }
+
+    public int distinct() {
+      return distinct;
+    }
+  }
+
+  private final SparkSession spark;
+  private final JavaRDD<PointBlock> blocks;
+  private final int d;
+  private final double[] shift;
+  private final long seed;
+  private final int maxIterations;
+  private final double tolerance;
+  private int passes;
+  private static final NearestKeys DRIVER_KERNEL = new NearestKeys.Scalar();
+  /** Rows of the sample the last fit's initialisation ran on; 0 when it ran over all rows. */
+  private int initRows;
+
+  /**
+   * @param shift the data mean: every computation runs on rows minus this vector
+   */
+  public ParallelKMeans(SparkSession spark, JavaRDD<PointBlock> blocks, int d, double[] shift, long seed,
+      int maxIterations, double tolerance) {
+    this.spark = spark;
+    this.blocks = blocks;
+    this.d = d;
+    this.shift = shift.clone();
+    this.seed = seed;
+    this.maxIterations = maxIterations;
+    this.tolerance = tolerance;
+  }
+
+  /** Rows of the sample the last {@link #fit}'s k-means|| ran on; 0 when it ran over all rows. */
+  public int initialisationSample() {
+    return initRows;
+  }
+
+  /** Passes over the data run so far by this instance. */
+  public int passes() {
+    return passes;
+  }
+
+  /**
+   * Fits every run.
+   *
+   * @param summary the first pass, made with {@link #firstStreams} of these runs
+   * @param radius the data's RMS radius
+   * @throws TooFewDistinctPoints when a run's k exceeds the number of distinct points
+   */
+  public List<Fitted> fit(List<Run> runs, PointSummary summary, double radius) {
+    List<PointBlock> sample = summary.initBlocks(ClusterPasses.CHUNK_ROWS);
+    double[][] starts = null;
+    initRows = 0;
+    if (sample != null) {
+      long t0 = System.nanoTime();
+      try {
+        starts = initialise(runs, summary, sample);
+        initRows = summary.initSampleSize();
+        LOG.info("k-means||: {} runs initialised on a sample of {} rows on the driver in {} ms", runs.size(),
+            summary.initSampleSize(), (System.nanoTime() - t0) / 1_000_000);
+      } catch (TooFewDistinctPoints e) {
+        if (summary.initSampleSize() >= summary.moments().count()) {
+          throw e; // the sample is every row
+        }
+        // duplicates can crowd the sample: the rows as a whole may still have k distinct points
+        LOG.info("k-means||: the sample of {} rows has fewer than k = {} distinct points; initialising over all"
+            + " rows", summary.initSampleSize(), e.k());
+      }
+    }
+    if (starts == null) {
+      starts = initialise(runs, summary, null);
+    }
+    return lloyd(runs, starts, radius);
+  }
+
+  /** k-means|| and the weighted reduction: over {@code sample} on the driver, or over the cache when it is null. */
+  private double[][] initialise(List<Run> runs, PointSummary summary, List<PointBlock> sample) {
+    PointList[] candidates = initialCandidates(runs, summary);
+    oversample(runs, candidates, sample);
+    return reduceCandidates(runs, candidates, sample);
+  }
+
+  /** Rows of the initialisation sample for a request of {@code requested} rows (0: none) at dimension d. */
+  public static int initSampleRows(int requested, int d) {
+    return requested <= 0 ? 0 : Math.max(1, Math.min(requested, INIT_SAMPLE_VALUES / Math.max(1, d)));
+  }
+
+  /**
+   * The first pass over the cached points (it also fills the cache): moments (with the full co-moment matrix when
+   * {@code gram}), skipped rows, the silhouette sample of up to {@code sampleSize} points (bottom-s by the unit
+   * number of each point's identity in the stream (seed, silhouette)), the initialisation sample of
+   * {@link #initSampleRows} rows (the same rule in the stream (seed, init sample)) and the first centre of each run.
+   */
+  public static PointSummary summarize(SparkSession spark, JavaRDD<PointBlock> blocks, int d, boolean gram,
+      int sampleSize, int initSample, long seed, List<Run> runs) {
+    long sampleStream = SeedStream.stream(seed, SeedStream.SILHOUETTE, 0, 0, 0);
+    long initStream = SeedStream.stream(seed, SeedStream.INIT_SAMPLE, 0, 0, 0);
+    return ClusterPasses.summarize(spark, blocks, d, gram, sampleSize, sampleStream, initSampleRows(initSample, d),
+        initStream, firstStreams(seed, runs));
+  }
+
+  /** The stream of each run's first centre. */
+  static long[] firstStreams(long seed, List<Run> runs) {
+    long[] s = new long[runs.size()];
+    for (int r = 0; r < s.length; r++) {
+      s[r] = SeedStream.stream(seed, SeedStream.FIRST_CENTRE, runs.get(r).k(), runs.get(r).restart(), 0);
+    }
+    return s;
+  }
+
+  private PointList[] initialCandidates(List<Run> runs, PointSummary summary) {
+    PointList[] c = new PointList[runs.size()];
+    for (int r = 0; r < c.length; r++) {
+      double[] first = summary.firstCentre(r);
+      for (int l = 0; l < d; l++) {
+        first[l] -= shift[l];
+      }
+      c[r] = new PointList(d);
+      c[r].add(summary.firstIdentity(r), first, 0, 1);
+    }
+    return c;
+  }
+
+  private void oversample(List<Run> runs, PointList[] candidates, List<PointBlock> sample) {
+    List<Integer> sampling = new ArrayList<>();
+    for (int r = 0; r < runs.size(); r++) {
+      sampling.add(r);
+    }
+    for (int round = 1; !sampling.isEmpty(); round++) {
+      int q = sampling.size();
+      long[] streams = new long[q];
+      int[] capacities = new int[q];
+      for (int a = 0; a < q; a++) {
+        Run run = runs.get(sampling.get(a));
+        streams[a] = SeedStream.stream(seed, SeedStream.OVERSAMPLE, run.k(), run.restart(), round);
+        capacities[a] = KEPT_PER_OVERSAMPLE * 2 * run.k() + KEPT_EXTRA;
+      }
+      CentroidTable table = table(sampling, candidates);
+      SampleRound sampled = pass("cluster/init-round-" + round, table, new ClusterPasses.Round(streams, capacities),
+          sample);
+      PointList[] got = new PointList[q];
+      double[] thresholds = new double[q];
+      List<Integer> overflowed = new ArrayList<>();
+      for (int a = 0; a < q; a++) {
+        int r = sampling.get(a);
+        double phi = sampled.cost(a);
+        if (!(phi > 0)) {
+          // phi = 0: every row coincides with a candidate, so the candidates are all the distinct points
+          if (candidates[r].size() < runs.get(r).k()) {
+            throw new TooFewDistinctPoints(runs.get(r).k(), candidates[r].size());
+          }
+          thresholds[a] = Double.POSITIVE_INFINITY;
+          continue;
+        }
+        thresholds[a] = phi / (2.0 * runs.get(r).k());
+        got[a] = sampled.selected(a, thresholds[a]);
+        if (got[a].size() == 0 && candidates[r].size() < runs.get(r).k()) {
+          // equal rows share their identity and so their unit number: on heavily duplicated rows a round can
+          // sample nothing; a run short of k candidates then takes its row of largest key
+          got[a] = sampled.largest(a);
+        }
+        if (sampled.overflowed(a, thresholds[a])) {
+          overflowed.add(a);
+        }
+      }
+      if (!overflowed.isEmpty()) {
+        PointList[] all = pass("cluster/init-round-" + round + "-all", table,
+            new ClusterPasses.Threshold(streams, thresholds), sample);
+        for (int a : overflowed) {
+          got[a] = all[a];
+        }
+      }
+      sampling = stillSampling(runs, candidates, sampling, got, round);
+    }
+  }
+
+  /** Adds a round's samples; a run goes on while round < ROUNDS, or while it lacks k distinct candidates. */
+  private List<Integer> stillSampling(List<Run> runs, PointList[] candidates, List<Integer> sampling,
+      PointList[] got, int round) {
+    List<Integer> next = new ArrayList<>();
+    for (int a = 0; a < sampling.size(); a++) {
+      int r = sampling.get(a);
+      if (got[a] == null) {
+        continue; // phi = 0: nothing left to sample
+      }
+      candidates[r] = candidates[r].merge(got[a]).canonical();
+      boolean enough = candidates[r].size() >= runs.get(r).k();
+      if (round >= ROUNDS + MAX_EXTRA_ROUNDS && !enough) {
+        throw new IllegalStateException("k-means|| found only " + candidates[r].size() + " distinct candidates"
+            + " for k = " + runs.get(r).k() + " after " + round + " rounds");
+      }
+      if (round < ROUNDS || !enough) {
+        next.add(r);
+      }
+    }
+    return next;
+  }
+
+  private double[][] reduceCandidates(List<Run> runs, PointList[] candidates, List<PointBlock> sample) {
+    List<Integer> all = new ArrayList<>();
+    for (int r = 0; r < runs.size(); r++) {
+      all.add(r);
+    }
+    CentroidTable table = table(all, candidates);
+    long[] counts = pass("cluster/init-weights", table, new ClusterPasses.Weights(), sample);
+    double[][] starts = new double[runs.size()][];
+    for (int r = 0; r < runs.size(); r++) {
+      Run run = runs.get(r);
+      int m = candidates[r].size();
+      double[] w = new double[m];
+      for (int i = 0; i < m; i++) {
+        // each candidate is itself a row, so it stands for at least one
+        w[i] = Math.max(1, counts[table.offsets[r] + i]);
+      }
+      double[] pts = candidates[r].points();
+      long stream = SeedStream.stream(seed, SeedStream.PLUS_PLUS, run.k(), run.restart(), 0);
+      starts[r] = KMeansSeeding.plusPlus(pts, w, m, d, run.k(), stream);
+      KMeansSeeding.lloyd(pts, w, m, d, starts[r], run.k(), LOCAL_ITERATIONS);
+    }
+    return starts;
+  }
+
+  private List<Fitted> lloyd(List<Run> runs, double[][] current, double radius) {
+    int count = runs.size();
+    Fitted[] out = new Fitted[count];
+    int[] reseeds = new int[count];
+    List<Integer> active = new ArrayList<>();
+    for (int r = 0; r < count; r++) {
+      active.add(r);
+    }
+    for (int it = 1; it <= maxIterations && !active.isEmpty(); it++) {
+      CentroidTable table = tableOf(active, current);
+      LloydStats stats = pass("cluster/lloyd-" + it, table, new ClusterPasses.Lloyd(), null);
+      List<Integer> moving = new ArrayList<>();
+      for (int a = 0; a < active.size(); a++) {
+        int r = active.get(a);
+        int k = runs.get(r).k();
+        int off = table.offsets[a];
+        double[] next = new double[k * d];
+        int empties = 0;
+        double[] far = null;
+        long[] sizes = new long[k];
+        double[] meanDistances = new double[k];
+        for (int j = 0; j < k; j++) {
+          long c = stats.count(off + j);
+          sizes[j] = c;
+          if (c > 0) {
+            meanDistances[j] = stats.distanceSum(off + j) / c;
+            for (int l = 0; l < d; l++) {
+              next[j * d + l] = stats.sum(off + j, l) / c;
+            }
+          } else {
+            far = far == null ? stats.farthestPoints(a) : far;
+            int pick = Math.min(empties, far.length / d - 1);
+            System.arraycopy(pick < 0 ? current[r] : far, pick < 0 ? j * d : pick * d, next, j * d, d);
+            empties++;
+          }
+        }
+        reseeds[r] += empties;
+        boolean still = empties > 0 || maxMove(current[r], next, k) > tolerance * radius;
+        out[r] = new Fitted(runs.get(r), unshifted(current[r], k), sizes, meanDistances, stats.withinSs(a), it,
+            !still, reseeds[r]);
+        if (still) {
+          current[r] = next;
+          moving.add(r);
+        }
+      }
+      active = moving;
+    }
+    List<Fitted> result = new ArrayList<>();
+    for (Fitted f : out) {
+      result.add(f);
+    }
+    LOG.info("k-means: {} runs, {} passes", count, passes);
+    return result;
+  }
+
+  private double maxMove(double[] from, double[] to, int k) {
+    double worst = 0;
+    for (int j = 0; j < k; j++) {
+      worst = Math.max(worst, KMeansSeeding.distance2(from, j * d, to, j * d, d));
+    }
+    return Math.sqrt(worst);
+  }
+
+  private double[] unshifted(double[] centroids, int k) {
+    double[] out = centroids.clone();
+    for (int j = 0; j < k; j++) {
+      for (int l = 0; l < d; l++) {
+        out[j * d + l] += shift[l];
+      }
+    }
+    return out;
+  }
+
+  private CentroidTable table(List<Integer> runs, PointList[] candidates) {
+    List<double[]> perRun = new ArrayList<>();
+    for (int r : runs) {
+      perRun.add(candidates[r].points());
+    }
+    return CentroidTable.of(d, shift, perRun);
+  }
+
+  private CentroidTable tableOf(List<Integer> runs, double[][] centroids) {
+    List<double[]> perRun = new ArrayList<>();
+    for (int r : runs) {
+      perRun.add(centroids[r]);
+    }
+    return CentroidTable.of(d, shift, perRun);
+  }
+
+  /**
+   * One search: over {@code sample} on the driver when it is not null, else a pass over the cached points. The
+   * driver's searches take the scalar kernel: they are small, and in local mode (driver and executor one JVM) their
+   * shapes (one centroid per run in the first round, odd row counts) would make the JIT throw away the SIMD
+   * kernel's compiled code in the middle of the Lloyd passes that follow (measured: a pass run slower by about 1 s
+   * while it recompiled).
+   */
+  private <B extends Serializable> B pass(String stage, CentroidTable table, ClusterPasses.Consumer<B> consumer,
+      List<PointBlock> sample) {
+    long t0 = System.nanoTime();
+    B b;
+    if (sample != null) {
+      b = ClusterPasses.fold(table, consumer, sample.iterator(), DRIVER_KERNEL);
+    } else {
+      passes++;
+      b = ClusterPasses.search(spark, stage, blocks, table, consumer);
+    }
+    LOG.debug("{}: {} ms, {} centroids", stage, (System.nanoTime() - t0) / 1000000, table.total());
+    return b;
+  }
+}

@@ -1,0 +1,18 @@
+package io.eigenmill.monitor;
+
+import java.util.List;
+
+/**
+ * How a model differs from an earlier one: principal angles between the retained subspaces (degrees, ascending),
+ * explained-variance ratios of both, and mean shifts of each shared feature in units of the old model's standard
+ * deviation (or of its scale, for centred-only models: then in original units divided by the old sd estimate).
+ */
+public record DriftResult(
+    String otherModel,
+    double[] principalAnglesDegrees,
+    double[] explainedOld,
+    double[] explainedNew,
+    List<MeanShift> meanShifts) {
+
+  public record MeanShift(String feature, double oldMean, double newMean, double shiftInOldSd) {}
+}

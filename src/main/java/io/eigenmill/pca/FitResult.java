@@ -1,0 +1,35 @@
+package io.eigenmill.pca;
+
+import io.eigenmill.io.PcaModel;
+import io.eigenmill.pca.math.Spectrum;
+import io.eigenmill.plan.JobPlan;
+import java.util.List;
+import java.util.Map;
+
+/**
+ * The outcome of a fit: counts, the features kept and dropped, the spectrum and the chosen k, the model, timings and
+ * warnings. The summary, the tables and the report are all views of this record.
+ *
+ * @param missingCells per planned feature, cells that were null, NaN or infinite
+ * @param kRule how k was chosen, in words
+ */
+public record FitResult(
+    JobPlan plan,
+    PcaModel model,
+    Spectrum spectrum,
+    List<String> droppedConstant,
+    long rowsRead,
+    long rowsDropped,
+    long imputedCells,
+    long[] missingCells,
+    boolean columnarRead,
+    int passes,
+    String kRule,
+    String blas,
+    Map<String, Double> timings,
+    List<String> warnings) {
+
+  public long rowsUsed() {
+    return model.rows();
+  }
+}

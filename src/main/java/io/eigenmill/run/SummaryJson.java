@@ -1,0 +1,275 @@
+package io.eigenmill.run;
+
+import com.fasterxml.jackson.core.JsonProcessingException;
+import com.fasterxml.jackson.databind.ObjectMapper;
+import com.fasterxml.jackson.databind.SerializationFeature;
+import io.eigenmill.Version;
+import io.eigenmill.io.PcaModel;
+import io.eigenmill.kmeans.ClusterResult;
+import io.eigenmill.kmeans.LabelResult;
+import io.eigenmill.monitor.DataDriftResult;
+import io.eigenmill.monitor.DriftResult;
+import io.eigenmill.monitor.MonitorResult;
+import io.eigenmill.monitor.ReconstructionResult;
+import io.eigenmill.pca.FitResult;
+import io.eigenmill.pca.math.Spectrum;
+import io.eigenmill.record.RunResult;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
+
+/**
+ * {@code summary.json}: the machine-readable record of a run. Field names are part of the product's contract
+ * (README, "Outputs"); numbers are written with full double precision.
+ */
+public final class SummaryJson {
+  private static final ObjectMapper JSON = new ObjectMapper().enable(SerializationFeature.INDENT_OUTPUT);
+
+  private SummaryJson() {}
+
+  public static String render(RunResult run) {
+    try {
+      return JSON.writeValueAsString(toMap(run)) + "\n";
+    } catch (JsonProcessingException e) {
+      throw new IllegalStateException("summary is not serialisable", e);
+    }
+  }
+
+  public static Map<String, Object> toMap(RunResult run) {
+    Map<String, Object> m = new LinkedHashMap<>();
+    var s = run.plan().settings();
+    m.put("product", "eigenmill");
+    m.put("version", Version.current());
+    m.put("job", s.name());
+    m.put("kind", run.plan().kind());
+    m.put("input", s.input().path());
+    m.put("output", run.outputPath());
+    if (run.fit() != null) {
+      m.putAll(fitSection(run.fit()));
+    } else {
+      m.put("model", modelSection(run.model(), s.apply().model()));
+    }
+    if (run.monitor() != null) {
+      m.put("monitoring", monitorSection(run.monitor()));
+    }
+    if (run.reconstruction() != null) {
+      m.put("reconstruction", reconstructionSection(run.reconstruction()));
+    }
+    if (run.drift() != null) {
+      m.put("drift", driftSection(run.drift()));
+    }
+    if (run.clusters() != null) {
+      m.put("clusters", clusterSection(run.clusters()));
+    }
+    if (run.dataDrift() != null) {
+      m.put("data_drift", dataDriftSection(run.dataDrift()));
+    }
+    if (run.labels() != null) {
+      m.put("labels", labelSection(run.labels()));
+    }
+    m.put("blas", io.eigenmill.math.Linalg.describe());
+    m.put("timings_seconds", run.timings());
+    m.put("warnings", run.warnings());
+    m.put("total_seconds", run.totalSeconds());
+    return m;
+  }
+
+  static Map<String, Object> modelSection(PcaModel model, String path) {
+    Map<String, Object> m = new LinkedHashMap<>();
+    m.put("path", path);
+    m.put("features", model.features());
+    m.put("scaling", model.scaling());
+    m.put("method", model.method());
+    m.put("components", model.k());
+    m.put("fitted_rows", model.rows());
+    m.put("eigenvalues", model.eigenvalues());
+    m.put("total_variance", model.totalVariance());
+    m.put("schema_fingerprint", model.schemaFingerprint());
+    m.put("written_by_version", model.productVersion());
+    return m;
+  }
+
+  static Map<String, Object> monitorSection(MonitorResult r) {
+    Map<String, Object> m = new LinkedHashMap<>();
+    m.put("rows_scored", r.rowsScored());
+    m.put("flagged_t2", r.flaggedT2());
+    m.put("flagged_q", r.flaggedQ());
+    m.put("flagged_both", r.flaggedBoth());
+    m.put("confidence", r.confidence());
+    m.put("components", r.k());
+    m.put("t2_limit", r.t2Limit());
+    m.put("t2_limit_rule", r.t2LimitRule());
+    m.put("q_limit", r.qLimit());
+    m.put("q_limit_rule", r.qLimitRule());
+    m.put("q_rule", r.qRule());
+    m.put("q_h0", Double.isNaN(r.qH0()) ? null : r.qH0());
+    // 1 - confidence in decimal (0.01, not the binary difference 0.010000000000000009)
+    m.put("expected_flagged_share", java.math.BigDecimal.ONE.subtract(java.math.BigDecimal.valueOf(r.confidence()))
+        .doubleValue());
+    List<Map<String, Object>> top = new java.util.ArrayList<>();
+    for (MonitorResult.FlaggedRow row : r.top()) {
+      Map<String, Object> t = new LinkedHashMap<>();
+      t.put("keys", row.keys());
+      t.put("t2", row.t2());
+      t.put("q", row.q());
+      t.put("flag_t2", row.flaggedT2());
+      t.put("flag_q", row.flaggedQ());
+      Map<String, Double> c = new LinkedHashMap<>();
+      row.qContributions().forEach(x -> c.put(x.feature(), x.value()));
+      t.put("q_contributions", c);
+      top.add(t);
+    }
+    m.put("top_rows", top);
+    return m;
+  }
+
+  static Map<String, Object> reconstructionSection(ReconstructionResult r) {
+    Map<String, Object> m = new LinkedHashMap<>();
+    m.put("components", r.k());
+    m.put("rows", r.rows());
+    List<Map<String, Object>> features = new java.util.ArrayList<>();
+    for (ReconstructionResult.FeatureError e : r.features()) {
+      Map<String, Object> f = new LinkedHashMap<>();
+      f.put("feature", e.feature());
+      f.put("rmse", e.rmse());
+      f.put("max_abs_error", e.maxAbsError());
+      f.put("variance_kept", e.varianceKept());
+      features.add(f);
+    }
+    m.put("features", features);
+    return m;
+  }
+
+  static Map<String, Object> driftSection(DriftResult r) {
+    Map<String, Object> m = new LinkedHashMap<>();
+    m.put("compared_with", r.otherModel());
+    m.put("principal_angles_deg", r.principalAnglesDegrees());
+    m.put("explained_variance_ratio_old", r.explainedOld());
+    m.put("explained_variance_ratio_new", r.explainedNew());
+    Map<String, Double> shifts = new LinkedHashMap<>();
+    r.meanShifts().forEach(x -> shifts.put(x.feature(), x.shiftInOldSd()));
+    m.put("mean_shift_in_old_sd", shifts);
+    return m;
+  }
+
+  static Map<String, Object> dataDriftSection(DataDriftResult r) {
+    Map<String, Object> m = new LinkedHashMap<>();
+    m.put("rows", r.rows());
+    m.put("model_rows", r.modelRows());
+    m.put("model_total_variance", r.modelTotalVariance());
+    m.put("new_total_variance", r.newTotalVariance());
+    m.put("total_variance_ratio", r.totalVarianceRatio());
+    m.put("model_inside_share", r.modelInsideShare());
+    m.put("new_inside_share", r.newInsideShare());
+    m.put("model_outside_share", r.modelOutsideShare());
+    m.put("new_outside_share", r.newOutsideShare());
+    List<Map<String, Object>> components = new java.util.ArrayList<>();
+    for (DataDriftResult.ComponentDrift c : r.components()) {
+      Map<String, Object> e = new LinkedHashMap<>();
+      e.put("component", c.component());
+      e.put("eigenvalue", c.eigenvalue());
+      e.put("new_variance", c.newVariance());
+      e.put("variance_ratio", c.varianceRatio());
+      e.put("score_mean_sd", c.scoreMeanSd());
+      e.put("model_share", c.modelShare());
+      e.put("new_share", c.newShare());
+      components.add(e);
+    }
+    m.put("components", components);
+    List<Map<String, Object>> features = new java.util.ArrayList<>();
+    for (DataDriftResult.FeatureDrift f : r.features()) {
+      Map<String, Object> e = new LinkedHashMap<>();
+      e.put("feature", f.feature());
+      e.put("model_mean", f.modelMean());
+      e.put("model_sd", f.modelSd());
+      e.put("new_mean", f.newMean());
+      e.put("new_sd", f.newSd());
+      e.put("mean_shift_sd", f.meanShiftSd());
+      e.put("variance_ratio", f.varianceRatio());
+      features.add(e);
+    }
+    m.put("features", features);
+    return m;
+  }
+
+  static Map<String, Object> labelSection(LabelResult r) {
+    Map<String, Object> m = new LinkedHashMap<>();
+    m.put("centroids", r.centroids());
+    m.put("by", r.byEntity() ? r.entity() : "row");
+    m.put("entity_spread", r.spread());
+    m.put("space", r.space().isEmpty() ? "scores" : r.space());
+    m.put("window", r.byEntity() ? "input" : "row");
+    m.put("labelled", r.labelled());
+    m.put("unlabelled", r.unlabelled());
+    Map<String, Long> sizes = new LinkedHashMap<>();
+    r.sizes().forEach((c, n) -> sizes.put(Integer.toString(c), n));
+    m.put("sizes", sizes);
+    if (r.rowSizes() != null) {
+      Map<String, Long> rows = new LinkedHashMap<>();
+      r.rowSizes().forEach((c, n) -> rows.put(c < 0 ? "none" : Integer.toString(c), n));
+      m.put("row_label_sizes", rows);
+    }
+    return m;
+  }
+
+  static Map<String, Object> clusterSection(ClusterResult r) {
+    Map<String, Object> m = new LinkedHashMap<>();
+    m.put("space", r.space());
+    m.put("entity", r.entity());
+    m.put("k", r.k());
+    m.put("selection_rule", r.selectionRule());
+    m.put("within_ss", r.withinSs());
+    m.put("silhouette", r.silhouette());
+    m.put("silhouette_sample", r.silhouetteSample());
+    m.put("init_sample", r.initSample());
+    m.put("sizes", r.sizes());
+    List<Map<String, Object>> sel = new java.util.ArrayList<>();
+    for (ClusterResult.KScore k : r.selection()) {
+      Map<String, Object> e = new LinkedHashMap<>();
+      e.put("k", k.k());
+      e.put("within_ss", k.withinSs());
+      e.put("silhouette", k.silhouette());
+      e.put("calinski_harabasz", k.calinskiHarabasz());
+      e.put("davies_bouldin", k.daviesBouldin());
+      sel.add(e);
+    }
+    m.put("k_selection", sel);
+    return m;
+  }
+
+  static Map<String, Object> fitSection(FitResult fit) {
+    Map<String, Object> m = new LinkedHashMap<>();
+    PcaModel model = fit.model();
+    Spectrum s = fit.spectrum();
+    m.put("rows", model.rows());
+    m.put("rows_read", fit.rowsRead());
+    m.put("rows_dropped", fit.rowsDropped());
+    m.put("missing_policy", fit.plan().settings().prepare().missing().word());
+    m.put("imputed_cells", fit.imputedCells());
+    Map<String, Long> missing = new LinkedHashMap<>();
+    for (int j = 0; j < fit.missingCells().length; j++) {
+      if (fit.missingCells()[j] > 0) {
+        missing.put(fit.plan().features().get(j), fit.missingCells()[j]);
+      }
+    }
+    m.put("missing_cells", missing);
+    m.put("features", model.features());
+    m.put("features_dropped_constant", fit.droppedConstant());
+    m.put("scaling", model.scaling());
+    m.put("method", model.method());
+    m.put("method_reason", fit.plan().methodReason());
+    m.put("read_path", fit.columnarRead() ? "columnar" : "rows");
+    m.put("passes", fit.passes());
+    m.put("components", model.k());
+    m.put("components_rule", fit.kRule());
+    m.put("eigenvalues", s.eigenvalues());
+    m.put("eigenvalues_complete", model.eigenvaluesComplete());
+    m.put("explained_variance_ratio", s.explainedRatios());
+    m.put("cumulative_variance_ratio", s.cumulativeRatios());
+    m.put("total_variance", s.totalVariance());
+    m.put("means", model.means());
+    m.put("scales", model.scales());
+    m.put("schema_fingerprint", model.schemaFingerprint());
+    return m;
+  }
+}
