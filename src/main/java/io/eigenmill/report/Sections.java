@@ -54,14 +54,18 @@ final class Sections {
     HtmlReport.figure(b, SpectrumCharts.heatmap(m), "Loadings of the kept components; the colour scale runs from -"
         + Fmt.fixed(m.maxAbs(), 2) + " to +" + Fmt.fixed(m.maxAbs(), 2) + "." + hidden + cols);
     double scaleMax = 0;
+    List<String> names = new ArrayList<>();
     for (LoadingsModel.TopList t : m.top()) {
       for (LoadingsModel.Bar bar : t.bars()) {
         scaleMax = Math.max(scaleMax, Math.abs(bar.value()));
+        names.add(bar.feature());
       }
     }
+    // one label column for the side-by-side charts, so that they are drawn at the same scale
+    double labelWidth = SpectrumCharts.labelWidth(names);
     b.append("<h3>Largest loadings</h3>\n<div class=\"row\">");
     for (int i = 0; i < m.top().size(); i++) {
-      HtmlReport.figure(b, SpectrumCharts.topBars(m.top().get(i), scaleMax > 0 ? scaleMax : 1, i), null);
+      HtmlReport.figure(b, SpectrumCharts.topBars(m.top().get(i), scaleMax > 0 ? scaleMax : 1, labelWidth, i), null);
     }
     b.append("</div>\n");
     HtmlReport.close(b);

@@ -146,11 +146,13 @@ final class SpectrumCharts {
     svg.text(x + 22, y + h, "-" + Fmt.fixed(maxAbs, 2), "start", "tick");
   }
 
-  /** The largest loadings of one component as horizontal bars around zero, feature names on the left. */
-  static String topBars(LoadingsModel.TopList t, double scaleMax, int index) {
+  /**
+   * The largest loadings of one component as horizontal bars around zero, feature names on the left in a column
+   * {@code labelWidth} wide ({@link #labelWidth} of the names of every chart drawn beside it).
+   */
+  static String topBars(LoadingsModel.TopList t, double scaleMax, double labelWidth, int index) {
     int n = t.bars().size();
     double rowHeight = 24;
-    double labelWidth = labelWidth(t.bars().stream().map(LoadingsModel.Bar::feature).toList());
     int maxChars = labelChars(labelWidth);
     Svg svg = new Svg("chart-loadings-top-" + (index + 1), labelWidth + 210, 40 + rowHeight * n + 30,
         "Largest loadings of " + t.component());

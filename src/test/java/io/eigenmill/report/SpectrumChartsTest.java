@@ -30,7 +30,8 @@ class SpectrumChartsTest {
         new LoadingsModel.Bar("edge_cache_disk_read_latency_p99_ms", 0.61, "0.61"),
         new LoadingsModel.Bar("tcp_retransmits_per_second", -0.42, "-0.42"),
         new LoadingsModel.Bar("cpu", 0.2, "0.20"));
-    String svg = SpectrumCharts.topBars(new LoadingsModel.TopList("PC 1", "41%", bars), 0.7, 0);
+    double labelWidth = SpectrumCharts.labelWidth(bars.stream().map(LoadingsModel.Bar::feature).toList());
+    String svg = SpectrumCharts.topBars(new LoadingsModel.TopList("PC 1", "41%", bars), 0.7, labelWidth, 0);
     List<Double> edges = leftEdges(svg);
     assertEquals(3, edges.size(), "one label per bar");
     for (double e : edges) {
