@@ -1,6 +1,7 @@
 package io.eigenmill.engine;
 
 import io.eigenmill.math.BlockPrep;
+import io.eigenmill.math.BlockSummary;
 import java.io.Serializable;
 import java.util.List;
 import org.apache.spark.api.java.JavaRDD;
@@ -93,6 +94,12 @@ public final class FeatureInput {
       progress.done(result.counts().rowsRead());
       return result;
     }
+  }
+
+  /** Runs one pass that computes a {@link BlockSummary} per partition ({@link SummaryAggregator}), as above. */
+  public <S extends BlockSummary<S>> PartialResult<S> run(String stage, BlockSummary.Factory<S> summaries,
+      ReadMode mode, BlockPrep prep) {
+    return run(stage, new SummaryAggregator<>(summaries), mode, prep);
   }
 
   private static int[] kindsIn(ColumnarScan scan, int[] ordinals, List<String> features) {

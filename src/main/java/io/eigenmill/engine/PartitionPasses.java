@@ -60,12 +60,18 @@ public final class PartitionPasses {
     }
   }
 
-  /** A {@link BlockSink} filled in slices: {@link #room} rows fit now, {@link #commit} accepts the rows written. */
-  public interface SliceSink extends BlockSink {
+  /**
+   * A {@link ColumnBlock} filled in slices: {@link #room} rows fit now, the reader writes them into {@link #block()}
+   * at its base, {@link #commit} accepts them.
+   */
+  public interface SliceSink {
+    /** The block the next slice is written to (asked after {@link #room}). */
+    ColumnBlock block();
+
     /** How many of {@code wanted} rows fit in the current slice. */
     int room(int wanted);
 
-    /** Accepts the {@code t} rows written at {@link #base()}. */
+    /** Accepts the {@code t} rows written at the block's base. */
     void commit(int t);
   }
 
@@ -83,8 +89,9 @@ public final class PartitionPasses {
       int rows = batch.numRows();
       for (int start = 0; start < rows; ) {
         int t = sink.room(rows - start);
+        ColumnBlock block = sink.block();
         for (int j = 0; j < ordinals.length; j++) {
-          copyColumn(vectors[j], kinds[j], start, t, sink, j);
+          copyColumn(vectors[j], kinds[j], start, t, block, j);
         }
         sink.commit(t);
         start += t;
@@ -216,19 +223,20 @@ public final class PartitionPasses {
       while (rows.hasNext()) {
         Row row = rows.next();
         filler.room(1);
-        double[] dst = filler.block();
-        int base = filler.base();
-        int ld = filler.ld();
-        double[] origin = filler.origin();
+        ColumnBlock block = filler.block();
+        double[] dst = block.block();
+        int base = block.base();
+        int ld = block.ld();
+        double[] origin = block.origin();
         for (int j = 0; j < d; j++) {
           if (row.isNullAt(j)) {
-            filler.markMissing(0, j);
+            block.markMissing(0, j);
             continue;
           }
           double x = row.getDouble(j);
           dst[j * ld + base] = origin == null ? x : x - origin[j];
           if (Double.isNaN(x) || Double.isInfinite(x)) {
-            filler.markMissing(0, j);
+            block.markMissing(0, j);
           }
         }
         filler.commit(1);

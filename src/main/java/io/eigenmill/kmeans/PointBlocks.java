@@ -1,6 +1,6 @@
 package io.eigenmill.kmeans;
 
-import io.eigenmill.engine.BlockFiller;
+import io.eigenmill.engine.ColumnBlock;
 import io.eigenmill.engine.ColumnarScan;
 import io.eigenmill.engine.PartitionPasses;
 import java.util.ArrayList;
@@ -109,58 +109,35 @@ public final class PointBlocks {
     private final int d;
     private final int capacity;
     /** The block being filled: a full one is handed over as it is and a new one allocated (no copy). */
-    private double[] values;
+    private final ColumnBlock block;
     private long[] ids;
-    private final boolean[] bad;
-    private boolean anyBad;
-    private int fill;
     private long skipped;
     final List<PointBlock> out = new ArrayList<>();
 
     Collector(int d, int capacity) {
       this.d = d;
       this.capacity = capacity;
-      this.values = new double[capacity * d];
+      this.block = ColumnBlock.dropping(d, capacity);
       this.ids = new long[capacity];
-      this.bad = new boolean[capacity];
     }
 
     @Override
-    public double[] block() {
-      return values;
-    }
-
-    @Override
-    public int ld() {
-      return capacity;
-    }
-
-    @Override
-    public int base() {
-      return fill;
-    }
-
-    @Override
-    public void markMissing(int i, int j) {
-      bad[fill + i] = true;
-      anyBad = true;
+    public ColumnBlock block() {
+      return block;
     }
 
     @Override
     public int room(int wanted) {
-      return Math.min(wanted, capacity - fill);
+      return block.room(wanted);
     }
 
-    /** Keeps the complete rows of the {@code t} written at {@link #base()}, with their identities. */
+    /** Keeps the complete rows of the {@code t} written at the block's base, with their identities. */
     @Override
     public void commit(int t) {
-      int kept = t;
-      if (anyBad) {
-        kept = BlockFiller.compact(values, d, capacity, fill, t, bad, null);
-        skipped += t - kept;
-        Arrays.fill(bad, fill, fill + t, false);
-        anyBad = false;
-      }
+      int fill = block.rows();
+      int kept = block.commit(t, null);
+      skipped += t - kept;
+      double[] values = block.block();
       Arrays.fill(ids, fill, fill + kept, HASH_SEED);
       for (int l = 0; l < d; l++) {
         int off = l * capacity;
@@ -168,22 +145,21 @@ public final class PointBlocks {
           ids[i] = identity(values[off + i], ids[i]);
         }
       }
-      fill += kept;
-      if (fill == capacity) {
+      if (block.isFull()) {
         emit();
       }
     }
 
     /** Closes the block being filled (when it holds rows or skipped ones). */
     void emit() {
-      if (fill == capacity) {
-        out.add(new PointBlock(fill, d, values, ids, skipped));
-        values = new double[capacity * d];
+      int fill = block.rows();
+      if (block.isFull()) {
+        out.add(new PointBlock(fill, d, block.handOver(), ids, skipped));
         ids = new long[capacity];
       } else if (fill > 0 || skipped > 0) {
-        out.add(trimmed(values, ids, fill, skipped, d, capacity));
+        out.add(trimmed(block.block(), ids, fill, skipped, d, capacity));
       }
-      fill = 0;
+      block.clear();
       skipped = 0;
     }
   }
@@ -202,41 +178,45 @@ public final class PointBlocks {
     @Override
     public Iterator<PointBlock> call(Iterator<InternalRow> rows) {
       List<PointBlock> out = new ArrayList<>();
-      double[] values = new double[capacity * d];
+      ColumnBlock block = ColumnBlock.dropping(d, capacity);
       long[] ids = new long[capacity];
-      int fill = 0;
       long skipped = 0;
       while (rows.hasNext()) {
         InternalRow row = rows.next();
-        if (!copy(row, values, fill)) {
+        copy(row, block);
+        if (block.commit(1, null) == 0) {
           skipped++;
           continue;
         }
-        ids[fill++] = row.getLong(0);
-        if (fill == capacity) {
-          out.add(trimmed(values, ids, fill, skipped, d, capacity));
-          fill = 0;
+        ids[block.rows() - 1] = row.getLong(0);
+        if (block.isFull()) {
+          out.add(trimmed(block.block(), ids, block.rows(), skipped, d, capacity));
+          block.clear();
           skipped = 0;
         }
       }
-      if (fill > 0 || skipped > 0) {
-        out.add(trimmed(values, ids, fill, skipped, d, capacity));
+      if (block.rows() > 0 || skipped > 0) {
+        out.add(trimmed(block.block(), ids, block.rows(), skipped, d, capacity));
       }
       return out.iterator();
     }
 
-    private boolean copy(InternalRow row, double[] values, int at) {
+    /** Writes the row's coordinates at the block's base; a null or non-finite one marks the row missing. */
+    private void copy(InternalRow row, ColumnBlock block) {
+      double[] values = block.block();
+      int at = block.base();
       for (int l = 0; l < d; l++) {
         if (row.isNullAt(l + 1)) {
-          return false;
+          block.markMissing(0, l);
+          return;
         }
         double v = row.getDouble(l + 1);
-        if (v - v != 0.0) { // NaN or infinite
-          return false;
-        }
         values[at + l * capacity] = v;
+        if (v - v != 0.0) { // NaN or infinite
+          block.markMissing(0, l);
+          return;
+        }
       }
-      return true;
     }
   }
 

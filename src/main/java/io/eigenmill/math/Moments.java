@@ -1,6 +1,5 @@
 package io.eigenmill.math;
 
-import java.io.Serializable;
 import java.nio.ByteBuffer;
 
 /**
@@ -19,7 +18,7 @@ import java.nio.ByteBuffer;
  *
  * <p>Cost: O(rows d^2) flops per block in dsyrk plus O(d^2) per merge; memory d^2 doubles ({@code gram}) or d.
  */
-public final class Moments implements Serializable {
+public final class Moments implements BlockSummary<Moments> {
   private static final long serialVersionUID = 1L;
 
   private final int d;
@@ -53,6 +52,17 @@ public final class Moments implements Serializable {
     return new Moments(d, gram, 0, new double[d], new double[d], new double[gram ? d * d : d]);
   }
 
+  /** The factory of {@link #empty}{@code (d, gram)}, for passes that make one summary per partition. */
+  public static Factory<Moments> factory(int d, boolean gram) {
+    return new Empty(d, gram);
+  }
+
+  private record Empty(int d, boolean gram) implements Factory<Moments> {
+    @Override public Moments empty() {
+      return Moments.empty(d, gram);
+    }
+  }
+
   public int dimension() {
     return d;
   }
@@ -77,6 +87,7 @@ public final class Moments implements Serializable {
    * Adds a block of rows: the column-major {@code rows x d} matrix in {@code block} with leading dimension
    * {@code ld}. The block is centred in place (its values are changed).
    */
+  @Override
   public void addBlock(double[] block, int rows, int ld) {
     add(block, rows, ld, null);
   }
@@ -100,6 +111,7 @@ public final class Moments implements Serializable {
    * most u |x - o|, which the same sum bounds. No block needs a second centring for this (unlike the first block,
    * centred on its own computed mean, whose rounding is not a between-block term).
    */
+  @Override
   public double[] nextOrigin() {
     return lastMean;
   }
@@ -113,6 +125,7 @@ public final class Moments implements Serializable {
    *
    * @throws IllegalArgumentException when column d does not sum to {@code rows}
    */
+  @Override
   public void addShiftedBlock(double[] block, int rows, int ld, double[] origin) {
     if (rows == 0) {
       return;
@@ -215,7 +228,11 @@ public final class Moments implements Serializable {
    */
   static final int CANCEL_BITS = 4;
 
-  /** Merges {@code other} into this (Chan, Golub and LeVeque); {@code other} is unchanged. */
+  /**
+   * Merges {@code other} into this (Chan, Golub and LeVeque); {@code other} is unchanged. An empty side is the
+   * identity bit for bit (the other side's values are copied or added to zeros).
+   */
+  @Override
   public Moments merge(Moments other) {
     if (other.d != d || other.gram != gram) {
       throw new IllegalArgumentException("cannot merge moments of " + other.d + " columns (gram " + other.gram

@@ -70,7 +70,7 @@ public final class FitJob {
     int passes = 0;
     long imputed = 0;
     if (missing == MissingPolicy.IMPUTE_MEAN) {
-      PartialResult<ColumnStats> stats = input.run("fit/column-means", new Aggregators.ColumnStatsPass(d),
+      PartialResult<ColumnStats> stats = input.run("fit/column-means", ColumnStats.factory(d),
           ReadMode.MARK, BlockPrep.identity());
       passes++;
       impute = imputationValues(stats.value(), plan.features());
@@ -84,13 +84,13 @@ public final class FitJob {
     Moments moments = null;
     ReadCounts counts;
     if (plan.method() == Method.TSQR) {
-      PartialResult<RFactor> pass = input.run("fit/tsqr", new Aggregators.RFactorPass(d), mode, imputation);
+      PartialResult<RFactor> pass = input.run("fit/tsqr", RFactor.factory(d), mode, imputation);
       rFactor = pass.value();
       counts = pass.counts();
       clock.lap("tsqr");
     } else {
       PartialResult<Moments> pass = input.run("fit/moments",
-          new Aggregators.MomentsPass(d, plan.method() == Method.COVARIANCE), mode, imputation);
+          Moments.factory(d, plan.method() == Method.COVARIANCE), mode, imputation);
       moments = pass.value();
       counts = pass.counts();
       clock.lap("moments");
@@ -281,7 +281,7 @@ public final class FitJob {
       Broadcast<double[]> basis = spark.sparkContext().broadcast(q, scala.reflect.ClassTag$.MODULE$.apply(
           double[].class));
       try {
-        z = input.run("fit/randomized-pass-" + (it + 1), new Aggregators.SketchPass(dk, l, basis), modeFor(impute),
+        z = input.run("fit/randomized-pass-" + (it + 1), new BroadcastSketch(dk, l, basis), modeFor(impute),
             prep).value().product();
       } finally {
         basis.destroy();

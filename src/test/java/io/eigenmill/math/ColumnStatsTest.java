@@ -3,9 +3,11 @@ package io.eigenmill.math;
 import static io.eigenmill.testing.MathFixtures.gamma;
 import static org.junit.jupiter.api.Assertions.assertArrayEquals;
 import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import io.eigenmill.testing.MathFixtures;
+import io.eigenmill.testing.SummaryContract;
 import java.util.Arrays;
 import java.util.Random;
 import org.apache.commons.math3.stat.descriptive.moment.Mean;
@@ -88,6 +90,21 @@ class ColumnStatsTest {
     ColumnStats b = ColumnStats.empty(D).merge(a);
     assertArrayEquals(counts, b.counts());
     assertArrayEquals(means, b.means(), 0.0);
+  }
+
+  /**
+   * The {@link BlockSummary} contract through the interface (testing.SummaryContract): empty is the identity bit for
+   * bit on either side; the halves' statistics merged match Commons Math's means of all the present values within
+   * the bound of the class comment with one merge.
+   */
+  @Test
+  void asABlockSummaryEmptyIsTheIdentityAndMergedHalvesMatchCommonsMath() {
+    double[] x = data(107);
+    BlockSummary.Factory<ColumnStats> factory = ColumnStats.factory(D);
+    ColumnStats halves = SummaryContract.mergedHalves(factory, x, N, D, 611, new int[] {100, 1, 37});
+    SummaryContract.assertEmptyIsTheIdentity(factory, halves);
+    assertMatchesCommonsMath(x, N, halves, 1);
+    assertThrows(IllegalArgumentException.class, () -> ColumnStats.empty(D).merge(ColumnStats.empty(D + 1)));
   }
 
   @Test

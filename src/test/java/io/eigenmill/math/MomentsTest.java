@@ -9,6 +9,7 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import io.eigenmill.pca.math.Spectrum;
 import io.eigenmill.testing.MathFixtures;
+import io.eigenmill.testing.SummaryContract;
 import java.util.Random;
 import org.apache.commons.math3.stat.correlation.Covariance;
 import org.junit.jupiter.api.Test;
@@ -320,6 +321,34 @@ class MomentsTest {
       for (int b = 0; b < d; b++) {
         double tol = mergeTolerance(expected, x, n, d, a, b);
         assertEquals(ce[a + b * d], ca[a + b * d], tol, "covariance (" + a + ", " + b + ")");
+      }
+    }
+  }
+
+  /**
+   * The {@link BlockSummary} contract through the interface (testing.SummaryContract), with the Gram and without:
+   * empty is the identity bit for bit on either side; the halves' summaries merged match Commons Math's
+   * {@code Covariance} of all the rows within {@link #comomentTolerance} (its factor 4 covers the merge's few
+   * roundings per term on top of the n of the sums), the means within the bound of {@link #assertMeansClose}.
+   */
+  @Test
+  void asABlockSummaryEmptyIsTheIdentityAndMergedHalvesMatchCommonsMath() {
+    int n = 1000;
+    double[] x = data(n, D, 19);
+    double[] reference = commonsCovariance(x, n, D);
+    for (boolean gram : new boolean[] {true, false}) {
+      BlockSummary.Factory<Moments> factory = Moments.factory(D, gram);
+      Moments halves = SummaryContract.mergedHalves(factory, x, n, D, 433, new int[] {128, 1, 37});
+      SummaryContract.assertEmptyIsTheIdentity(factory, halves);
+      assertEquals(n, halves.count());
+      assertMeansClose(x, n, D, halves.mean());
+      if (gram) {
+        assertCovarianceClose(reference, halves.covariance(), halves.mean(), n, D);
+      }
+      double[] variances = halves.variances();
+      for (int j = 0; j < D; j++) {
+        assertEquals(reference[j + j * D], variances[j], comomentTolerance(reference, halves.mean(), n, D, j, j),
+            "variance of column " + j + ", gram " + gram);
       }
     }
   }

@@ -1,9 +1,9 @@
 package io.eigenmill.pca.math;
 
+import io.eigenmill.math.BlockSummary;
 import io.eigenmill.math.ColumnSweeps;
 import io.eigenmill.math.Linalg;
 import io.eigenmill.math.Moments;
-import java.io.Serializable;
 import org.netlib.util.intW;
 
 /**
@@ -29,9 +29,10 @@ import org.netlib.util.intW;
  * rounding of the QR itself.
  *
  * <p>Cost per block of m rows: one Householder QR of an (m + d + 1) x d matrix, O((m + d) d^2) flops; memory
- * (m + d + 1) d doubles of scratch. The zero is {@link #empty}.
+ * (m + d + 1) d doubles of scratch. The zero is {@link #empty}; merging an empty side is the identity bit for bit
+ * (an empty summary takes a copy of the other side's state, with no QR step).
  */
-public final class RFactor implements Serializable {
+public final class RFactor implements BlockSummary<RFactor> {
   private static final long serialVersionUID = 2L;
 
   /** Centring sweeps per column and block at most (the first plus corrections). */
@@ -59,6 +60,17 @@ public final class RFactor implements Serializable {
 
   public static RFactor empty(int d) {
     return new RFactor(d);
+  }
+
+  /** The factory of {@link #empty}{@code (d)}. */
+  public static Factory<RFactor> factory(int d) {
+    return new Empty(d);
+  }
+
+  private record Empty(int d) implements Factory<RFactor> {
+    @Override public RFactor empty() {
+      return RFactor.empty(d);
+    }
   }
 
   public int dimension() {
@@ -97,6 +109,7 @@ public final class RFactor implements Serializable {
    * Adds the rows of a column-major {@code rows x d} block with leading dimension {@code ld}. The block is centred
    * in place (its values are changed).
    */
+  @Override
   public void addBlock(double[] block, int rows, int ld) {
     if (rows == 0) {
       return;
@@ -130,11 +143,20 @@ public final class RFactor implements Serializable {
   }
 
   /** Merges {@code other} into this; {@code other} is unchanged. */
+  @Override
   public RFactor merge(RFactor other) {
     if (other.d != d) {
       throw new IllegalArgumentException("cannot merge an R factor of " + other.d + " columns into one of " + d);
     }
     if (other.n == 0) {
+      return this;
+    }
+    if (n == 0) {
+      // the identity: the other side's R as it is (a QR of [0; R; 0] would give the same R^T R, rounded once more)
+      n = other.n;
+      System.arraycopy(other.shift, 0, shift, 0, d);
+      System.arraycopy(other.mean, 0, mean, 0, d);
+      System.arraycopy(other.r, 0, r, 0, d * d);
       return this;
     }
     int m = 2 * d + 1;

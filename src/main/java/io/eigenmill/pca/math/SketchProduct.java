@@ -1,15 +1,17 @@
 package io.eigenmill.pca.math;
 
+import io.eigenmill.math.BlockSummary;
 import io.eigenmill.math.Linalg;
-import java.io.Serializable;
 
 /**
  * One pass of the randomized range finder (Halko, Martinsson and Tropp 2011, Algorithm 4.4 on A^T A): accumulates
  * Z = A^T (A Q) for a fixed d x l matrix Q, block by block, without forming any d x d matrix. Each block B of m rows
  * costs two {@code dgemm}: T = B Q (m x l) and Z += B^T T. Partial sums merge by addition; the zero is
- * {@link #empty}.
+ * {@link #empty}, and merging an empty side is the identity bit for bit (zeros plus the other side). As a
+ * {@link BlockSummary} a sketch takes its blocks against the basis it was made with ({@link #empty(int, int,
+ * double[])}); the basis is not state (it is not serialized: each task makes its summary from the basis it has).
  */
-public final class SketchProduct implements Serializable {
+public final class SketchProduct implements BlockSummary<SketchProduct> {
   private static final long serialVersionUID = 1L;
 
   private final int d;
@@ -17,6 +19,8 @@ public final class SketchProduct implements Serializable {
   private long n;
   private final double[] z;
   private transient double[] t;
+  /** Q for {@link #addBlock(double[], int, int)}, or null when blocks come with their Q. */
+  private transient double[] basis;
 
   private SketchProduct(int d, int l) {
     this.d = d;
@@ -28,6 +32,17 @@ public final class SketchProduct implements Serializable {
     return new SketchProduct(d, l);
   }
 
+  /** An empty sketch whose blocks ({@link #addBlock(double[], int, int)}) are taken against Q = {@code q} (d x l). */
+  public static SketchProduct empty(int d, int l, double[] q) {
+    if (q.length != d * l) {
+      throw new IllegalArgumentException("a basis of " + d + " x " + l + " needs " + d * l + " values, not "
+          + q.length);
+    }
+    SketchProduct s = new SketchProduct(d, l);
+    s.basis = q;
+    return s;
+  }
+
   public long count() {
     return n;
   }
@@ -35,6 +50,15 @@ public final class SketchProduct implements Serializable {
   /** Z as a column-major d x l matrix (a copy). */
   public double[] product() {
     return z.clone();
+  }
+
+  /** Adds {@code B^T B Q} for the basis this sketch was made with ({@link #empty(int, int, double[])}). */
+  @Override
+  public void addBlock(double[] block, int rows, int ld) {
+    if (basis == null) {
+      throw new IllegalStateException("this sketch was made without a basis: give Q with each block");
+    }
+    addBlock(block, rows, ld, basis);
   }
 
   /** Adds {@code B^T B Q} for the column-major {@code rows x d} block B (leading dimension {@code ld}). */
@@ -50,6 +74,8 @@ public final class SketchProduct implements Serializable {
     n += rows;
   }
 
+  /** Adds {@code other}'s Z and count to this; {@code other} is unchanged. */
+  @Override
   public SketchProduct merge(SketchProduct other) {
     if (other.d != d || other.l != l) {
       throw new IllegalArgumentException("cannot merge a " + other.d + " x " + other.l + " sketch into a "

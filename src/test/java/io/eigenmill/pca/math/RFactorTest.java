@@ -8,7 +8,9 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
+import io.eigenmill.math.BlockSummary;
 import io.eigenmill.testing.MathFixtures;
+import io.eigenmill.testing.SummaryContract;
 import java.io.ByteArrayOutputStream;
 import java.io.IOException;
 import java.io.ObjectOutputStream;
@@ -276,14 +278,34 @@ class RFactorTest {
     RFactor same = r.merge(RFactor.empty(D));
     assertEquals(300, same.count());
     assertArrayEquals(before, state(same), "r merge empty changed R");
-    // empty.merge(r) re-factors [0; R]: the same R^T R within one more QR step
+    // empty.merge(r) takes r's state as it is (no QR step): bit for bit, and so the same R^T R
     RFactor fromEmpty = RFactor.empty(D).merge(r);
     assertEquals(300, fromEmpty.count());
+    assertArrayEquals(before, state(fromEmpty), "empty merge r is not r");
     assertGramMatches(MathFixtures.rows(x, N, D, 0, 300), 300, fromEmpty, 300 / 64 + 3, "empty merge r");
     RFactor zero = RFactor.empty(D).merge(RFactor.empty(D));
     assertEquals(0, zero.count());
     assertArrayEquals(state(RFactor.empty(D)), state(zero));
     assertArrayEquals(new double[D], zero.svd().singularValues(), 0.0);
+  }
+
+  /**
+   * The {@link BlockSummary} contract through the interface (testing.SummaryContract): empty is the identity bit for
+   * bit on either side; the halves' R factors merged match the brute-force Gram and EJML's singular values of all
+   * the rows within the bounds of the class comment (steps: the blocks of both halves plus the merge), the means the
+   * two-pass means.
+   */
+  @Test
+  void asABlockSummaryEmptyIsTheIdentityAndMergedHalvesMatchTheBruteForceGram() {
+    double[] x = data(57);
+    BlockSummary.Factory<RFactor> factory = RFactor.factory(D);
+    RFactor halves = SummaryContract.mergedHalves(factory, x, N, D, 517, new int[] {64, 1, 100});
+    SummaryContract.assertEmptyIsTheIdentity(factory, halves);
+    assertEquals(N, halves.count());
+    int steps = 3 * (N / (64 + 1 + 100) + 2) + 1;
+    assertGramMatches(x, N, halves, steps, "merged halves");
+    assertSingularValuesMatch(x, N, halves, steps, "merged halves");
+    assertMeansMatch(x, N, halves, "merged halves");
   }
 
   @Test

@@ -6,7 +6,9 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
+import io.eigenmill.math.BlockSummary;
 import io.eigenmill.testing.MathFixtures;
+import io.eigenmill.testing.SummaryContract;
 import org.junit.jupiter.api.Test;
 
 /**
@@ -56,6 +58,31 @@ class SketchProductTest {
     }
     assertEquals(N, total.count());
     assertProductMatches(a, N, q, total.product(), parts.length);
+  }
+
+  /** Empty sketches against one basis, as a task makes them from its broadcast. */
+  private record WithBasis(int d, int l, double[] q) implements BlockSummary.Factory<SketchProduct> {
+    @Override public SketchProduct empty() {
+      return SketchProduct.empty(d, l, q);
+    }
+  }
+
+  /**
+   * The {@link BlockSummary} contract through the interface (testing.SummaryContract): empty is the identity bit for
+   * bit on either side; the halves' sketches merged match the brute-force product of all the rows within the bound
+   * of the class comment with two partitions. A sketch made without a basis refuses blocks without one.
+   */
+  @Test
+  void asABlockSummaryEmptyIsTheIdentityAndMergedHalvesMatchTheBruteForceProduct() {
+    double[] a = MathFixtures.gaussian(N, D, 77);
+    double[] q = MathFixtures.orthonormal(D, L, 78);
+    BlockSummary.Factory<SketchProduct> factory = new WithBasis(D, L, q);
+    SketchProduct halves = SummaryContract.mergedHalves(factory, a, N, D, 301, new int[] {64, 1, 3});
+    SummaryContract.assertEmptyIsTheIdentity(factory, halves);
+    assertEquals(N, halves.count());
+    assertProductMatches(a, N, q, halves.product(), 2);
+    assertThrows(IllegalStateException.class, () -> SketchProduct.empty(D, L).addBlock(new double[D], 1, 1));
+    assertThrows(IllegalArgumentException.class, () -> SketchProduct.empty(D, L, new double[D * L - 1]));
   }
 
   @Test
