@@ -137,7 +137,7 @@ public final class FitJob {
     double[] loadings = new double[dk * k[0]];
     System.arraycopy(spectrum.loadings(), 0, loadings, 0, loadings.length);
     PcaModel model = new PcaModel(PcaModel.FORMAT_VERSION, Version.current(), kept, keptTypes,
-        s.prepare().scaling().word(), plan.method().word(), used, keptMeans, scales, k[0], loadings,
+        s.prepare().scaling().word(), plan.method(), used, keptMeans, scales, k[0], loadings,
         spectrum.eigenvalues(), plan.method() != Method.RANDOMIZED, spectrum.totalVariance(),
         PcaModel.fingerprint(kept, keptTypes), sqrtOf(select(variances, keep)));
     clock.lap("model");

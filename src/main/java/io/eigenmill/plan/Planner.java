@@ -4,7 +4,6 @@ import io.eigenmill.io.ModelStore;
 import io.eigenmill.io.PcaModel;
 import io.eigenmill.io.TableLoader;
 import io.eigenmill.settings.Choices.InputFormat;
-import io.eigenmill.settings.Choices.Method;
 import io.eigenmill.settings.InvalidJobException;
 import io.eigenmill.settings.JobSettings;
 import java.util.ArrayList;
@@ -89,8 +88,8 @@ public final class Planner {
         * (2L * d + model.k()), driverHeap, taskHeap, "block of " + settings.reduce().blockRows() + " x " + d);
     return new JobPlan(settings, "apply", model.features(), model.featureTypes(), keys,
         partitionColumns(table, settings), rowEstimate(spark, table, settings),
-        TableLoader.sizeBytes(spark, settings.input().path()), Method.valueOf(model.method().toUpperCase(Locale.ROOT)),
-        "apply: the saved model (" + model.method() + ", k = " + model.k() + ", fitted on "
+        TableLoader.sizeBytes(spark, settings.input().path()), model.method(),
+        "apply: the saved model (" + model.method().word() + ", k = " + model.k() + ", fitted on "
             + String.format(Locale.ROOT, "%,d", model.rows()) + " rows)", memory, outputs(settings), List.of(),
         settings.warnings());
   }

@@ -43,7 +43,7 @@ class ClusterJobTest extends SparkSuite {
   }
 
   static ClusterOutcome run(Dataset<Row> points, JobSettings.Cluster s, int d) {
-    return new ClusterJob(spark, s, points, List.of("id"), Blobs.columns(d), null, "scores").execute();
+    return new ClusterJob(spark, s, points, List.of("id"), Blobs.columns(d), null, ClusterSpace.SCORES).execute();
   }
 
   @Test
@@ -173,7 +173,7 @@ class ClusterJobTest extends SparkSuite {
     JobSettings.Cluster s = new JobSettings.Cluster(true, ClusterSpace.SCORES, OptionalInt.of(3), 2, 8,
         KSelection.SILHOUETTE, 3, 50, 1e-6, 100, 100_000, 11, "host", true);
     ClusterOutcome o = new ClusterJob(spark, s, fleet.frame(spark), List.of("host", "t"), List.of("pc_1", "pc_2"),
-        fleet.model, "scores").execute();
+        fleet.model, ClusterSpace.SCORES).execute();
     ClusterResult r = o.result();
     assertEquals("host", r.entity());
     assertEquals(List.of("pc_1", "pc_2", "pc_1_sd", "pc_2_sd"), r.dimensions());
