@@ -48,10 +48,6 @@ public final class ClusterStage {
       dims.addAll(model.features());
     }
     Dataset<Row> points = points(table, scored, settings.space(), dims);
-    if (!settings.entity().isEmpty() && !keys.contains(settings.entity())) {
-      throw new InvalidJobException("cluster.entity = " + settings.entity() + ": the entity column must be one of"
-          + " features.keys " + keys);
-    }
     ClusterOutcome outcome = new ClusterJob(spark, settings, points, keys, dims, model, settings.space()).execute();
     ClusterJob.writeTables(outcome, out.staged("clusters"));
     return outcome;

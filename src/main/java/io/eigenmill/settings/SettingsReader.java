@@ -463,20 +463,26 @@ public final class SettingsReader {
       return v;
     }
 
+    /** A finite positive number. */
     double positive(String key) {
       double v = number(key);
-      if (!(v > 0) && !Double.isNaN(v)) {
+      if ((!(v > 0) || Double.isInfinite(v)) && !Double.isNaN(v)) {
         bad(key, "must be a positive number");
       }
       return v;
     }
 
+    /**
+     * A range of k, {@code "LOW..HIGH"} with 2 <= LOW <= HIGH <= 1000: the quality measures that choose k compare
+     * two clusters or more.
+     */
     int[] range(String key) {
       String v = string(key);
       String[] parts = v.split("\\.\\.");
+      int lo = 2;
       try {
         if (parts.length == 2) {
-          int lo = Integer.parseInt(parts[0].trim());
+          lo = Integer.parseInt(parts[0].trim());
           int hi = Integer.parseInt(parts[1].trim());
           if (lo >= 2 && hi >= lo && hi <= 1000) {
             return new int[] {lo, hi};
@@ -485,7 +491,8 @@ public final class SettingsReader {
       } catch (NumberFormatException ignored) {
         // reported below
       }
-      bad(key, "must be a range \"LOW..HIGH\" with 2 <= LOW <= HIGH <= 1000");
+      bad(key, "must be a range \"LOW..HIGH\" with 2 <= LOW <= HIGH <= 1000" + (lo < 2 ? " (the quality"
+          + " measures that choose k need two clusters; set cluster.k = 1 to get one cluster)" : ""));
       return new int[] {2, 2};
     }
 
