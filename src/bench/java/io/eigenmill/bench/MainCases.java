@@ -15,6 +15,7 @@ import io.eigenmill.plan.JobPlan;
 import io.eigenmill.plan.Planner;
 import io.eigenmill.record.RunResult;
 import io.eigenmill.run.JobRunner;
+import io.eigenmill.settings.Choices.ClusterSpace;
 import io.eigenmill.settings.JobSettings;
 import java.nio.file.Path;
 import java.util.ArrayList;
@@ -208,7 +209,7 @@ final class MainCases {
     ensureCachedScores();
     JobSettings.Cluster settings = BenchJobs.cluster(table, work.resolve("kmeans-output").toString());
     return timed(BenchCase.KMEANS, () -> new ClusterJob(spark, settings, cachedScores, List.of(),
-        Scores.columns(model.k()), model, "scores").execute(), (ClusterOutcome x) -> x.passes()
+        Scores.columns(model.k()), model, ClusterSpace.SCORES).execute(), (ClusterOutcome x) -> x.passes()
         + " passes over the cached points, nearest-centroid kernel " + io.eigenmill.kmeans.math.NearestKeys.best()
         .describe() + " (" + stages(x.timings()) + ")").keeping(o -> {
           KMeansQuality before = kmeans;

@@ -16,7 +16,7 @@ final class Outcome {
       int k = fit.model().k();
       s.append(String.format(Locale.ROOT, "fit: %,d rows (%,d dropped), %d features, method %s, k = %d "
               + "explaining %.4f of the variance%n", fit.rowsUsed(), fit.rowsDropped(), fit.model().d(),
-          fit.model().method(), k, k > 0 ? cumulative[k - 1] : 0.0));
+          fit.model().method().word(), k, k > 0 ? cumulative[k - 1] : 0.0));
     }
     if (run.monitor() != null) {
       var m = run.monitor();

@@ -1,6 +1,7 @@
 package io.eigenmill.io;
 
 import io.eigenmill.kmeans.NearestCentroid;
+import io.eigenmill.settings.Choices.ClusterSpace;
 import io.eigenmill.settings.InvalidJobException;
 import java.util.ArrayList;
 import java.util.List;
@@ -33,10 +34,10 @@ public final class CentroidStore {
    * @param entity the entity column whose aggregates were clustered, "" for rows (also for centroids written before
    *     the table said so)
    * @param spread entity points are the means followed by the sds of the first half of {@code dimensions}
-   * @param space "scores" or "features"; "" when the table does not say
+   * @param space the clustered space; scores when the table does not say (centroids written before it did)
    */
   public record StoredCentroids(List<String> dimensions, double[][] centroids, String entity, boolean spread,
-      String space) {
+      ClusterSpace space) {
 
     /** The coordinates whose per-entity means (and sds) are the dimensions. */
     public List<String> pointColumns() {
@@ -105,7 +106,21 @@ public final class CentroidStore {
     String entity = kind.contains(ENTITY) ? kind.getString(ENTITY) : "";
     boolean spread = !entity.isEmpty() && kind.contains(SPREAD) && kind.getBoolean(SPREAD)
         && dims.size() % 2 == 0;
-    String space = kind.contains(SPACE) ? kind.getString(SPACE) : "";
+    ClusterSpace space = kind.contains(SPACE) ? space(path, kind.getString(SPACE)) : ClusterSpace.SCORES;
     return new StoredCentroids(List.copyOf(dims), centroids, entity, spread, space);
+  }
+
+  /** The clustered space from its word in the metadata; "" (written by no version, but harmless) is scores. */
+  private static ClusterSpace space(String path, String word) {
+    if (word.isEmpty()) {
+      return ClusterSpace.SCORES;
+    }
+    for (ClusterSpace s : ClusterSpace.values()) {
+      if (s.word().equals(word)) {
+        return s;
+      }
+    }
+    throw new InvalidJobException("centroids " + path + ": the clustered space is '" + word + "' (" + SPACE
+        + "), which this version does not know (expected scores or features)");
   }
 }

@@ -1,5 +1,6 @@
 package io.eigenmill.io;
 
+import io.eigenmill.settings.Choices.Method;
 import io.eigenmill.settings.InvalidJobException;
 import java.util.ArrayList;
 import java.util.List;
@@ -46,7 +47,7 @@ public final class ModelStore {
       columns.add(col);
     }
     Row row = RowFactory.create(m.formatVersion(), m.productVersion(), m.features().toArray(new String[0]),
-        m.featureTypes().toArray(new String[0]), m.scaling(), m.method(), m.rows(), m.means(), m.scales(), m.k(),
+        m.featureTypes().toArray(new String[0]), m.scaling(), m.method().word(), m.rows(), m.means(), m.scales(), m.k(),
         columns.toArray(new double[0][]), m.eigenvalues(), m.eigenvaluesComplete(), m.totalVariance(),
         m.schemaFingerprint(), m.sds());
     spark.createDataFrame(List.of(row), SCHEMA).coalesce(1).write().parquet(path);
@@ -99,7 +100,8 @@ public final class ModelStore {
       System.arraycopy(cols.get(c), 0, loadings, c * d, d);
     }
     return new PcaModel(format, writer, List.copyOf(features), List.copyOf(r.getList(r.fieldIndex("feature_types"))),
-        r.getString(r.fieldIndex("scaling")), r.getString(r.fieldIndex("method")), r.getLong(r.fieldIndex("rows")),
+        r.getString(r.fieldIndex("scaling")), method(key, path, r.getString(r.fieldIndex("method"))),
+        r.getLong(r.fieldIndex("rows")),
         toDoubles(r.getList(r.fieldIndex("means"))), toDoubles(r.getList(r.fieldIndex("scales"))), k, loadings,
         toDoubles(r.getList(r.fieldIndex("eigenvalues"))), r.getBoolean(r.fieldIndex("eigenvalues_complete")),
         r.getDouble(r.fieldIndex("total_variance")), r.getString(r.fieldIndex("schema_fingerprint")),
@@ -119,6 +121,17 @@ public final class ModelStore {
     } catch (java.io.IOException | IllegalArgumentException e) {
       return modelPath;
     }
+  }
+
+  /** The fitted method of a stored model, from its word; {@code auto} is never stored (a fit records its choice). */
+  private static Method method(String key, String path, String word) {
+    for (Method m : Method.values()) {
+      if (m != Method.AUTO && m.word().equals(word)) {
+        return m;
+      }
+    }
+    throw new InvalidJobException(key + " = " + path + ": the model's method is '" + word + "', which this version"
+        + " does not know (expected covariance, tsqr or randomized); refit the model");
   }
 
   private static double[] toDoubles(List<?> values) {

@@ -1,5 +1,6 @@
 package io.eigenmill.io;
 
+import io.eigenmill.settings.Choices.Method;
 import java.io.Serializable;
 import java.nio.charset.StandardCharsets;
 import java.security.MessageDigest;
@@ -12,6 +13,7 @@ import java.util.List;
  * scales the fit used, the k retained loadings, all eigenvalues the method produced, the fit's row count and total
  * variance. Written to {@code model/} by a fit; read back by apply.
  *
+ * @param method the fit's method (never {@code AUTO}: the one the plan chose); stored as its word
  * @param loadings column-major {@code d x k}
  * @param eigenvaluesComplete true when {@code eigenvalues} holds all d eigenvalues (covariance, TSQR)
  * @param sds the sample standard deviation of each feature in the fitted rows (original units)
@@ -22,7 +24,7 @@ public record PcaModel(
     List<String> features,
     List<String> featureTypes,
     String scaling,
-    String method,
+    Method method,
     long rows,
     double[] means,
     double[] scales,
@@ -54,7 +56,7 @@ public record PcaModel(
     try {
       MessageDigest md = MessageDigest.getInstance("SHA-256");
       md.update((String.join("\n", features) + "\u0000" + String.join("\n", featureTypes) + "\u0000" + scaling
-          + "\u0000" + method + "\u0000" + rows + "\u0000" + k + "\u0000").getBytes(StandardCharsets.UTF_8));
+          + "\u0000" + method.word() + "\u0000" + rows + "\u0000" + k + "\u0000").getBytes(StandardCharsets.UTF_8));
       for (double[] a : new double[][] {means, scales, loadings, eigenvalues, {totalVariance}}) {
         java.nio.ByteBuffer b = java.nio.ByteBuffer.allocate(8 * a.length + 4);
         b.putInt(a.length);

@@ -5,6 +5,7 @@ import io.eigenmill.io.PcaModel;
 import io.eigenmill.kmeans.ParallelKMeans.Fitted;
 import io.eigenmill.kmeans.ParallelKMeans.Run;
 import io.eigenmill.math.Moments;
+import io.eigenmill.settings.Choices.ClusterSpace;
 import io.eigenmill.settings.InvalidJobException;
 import io.eigenmill.settings.JobSettings;
 import java.util.ArrayList;
@@ -52,17 +53,19 @@ public final class ClusterJob {
   private final List<String> keyColumns;
   private final List<String> pointColumns;
   private final PcaModel model;
-  private final String space;
+  private final ClusterSpace space;
 
   /**
    * @param points the key columns and the numeric point columns
    * @param model the PCA model behind the points, for original units; null when there is none (the point
    *     columns are then the features)
-   * @param space "scores" (pointColumns are the first scores pc_1..pc_p of {@code model}) or "features"
+   * @param space scores (pointColumns are the first scores pc_1..pc_p of {@code model}) or features
    *     (pointColumns are the model's features, prepared as (x - mean) / scale, in model order)
+   * @param settings validated by the settings reader (k, k-range, restarts, ...) and, for {@code cluster.entity},
+   *     by the planner against the input (a key column, not a clustered one); not checked again here
    */
   public ClusterJob(SparkSession spark, JobSettings.Cluster settings, Dataset<Row> points, List<String> keyColumns,
-      List<String> pointColumns, PcaModel model, String space) {
+      List<String> pointColumns, PcaModel model, ClusterSpace space) {
     this.spark = spark;
     this.settings = settings;
     this.points = points;
@@ -238,29 +241,12 @@ public final class ClusterJob {
         + " lower the upper end of cluster.k-range");
   }
 
+  /**
+   * The points table against the columns the caller named (a mismatch is a fault of the caller, not of the job's
+   * settings, which the settings reader and the planner have checked), and the model against the point columns.
+   */
   private void validate() {
     List<String> problems = new ArrayList<>();
-    if (!space.equals("scores") && !space.equals("features")) {
-      problems.add("cluster.space = " + space + ": must be scores or features");
-    }
-    if (settings.k().isPresent() && settings.k().getAsInt() < 1) {
-      problems.add("cluster.k = " + settings.k().getAsInt() + ": must be at least 1");
-    }
-    if (settings.k().isEmpty() && (settings.kMin() < 2 || settings.kMax() < settings.kMin())) {
-      problems.add("cluster.k-range = " + settings.kMin() + ".." + settings.kMax() + ": a range needs"
-          + " 2 <= LOW <= HIGH (the quality measures that choose k need two clusters; set cluster.k = 1 to get one"
-          + " cluster)");
-    }
-    if (settings.restarts() < 1 || settings.maxIterations() < 1) {
-      problems.add("cluster.restarts = " + settings.restarts() + ", cluster.max-iterations = "
-          + settings.maxIterations() + ": both must be at least 1");
-    }
-    if (!(settings.tolerance() > 0) || Double.isInfinite(settings.tolerance())) {
-      problems.add("cluster.tolerance = " + settings.tolerance() + ": must be a positive number");
-    }
-    if (settings.silhouetteSample() < 2) {
-      problems.add("cluster.silhouette-sample = " + settings.silhouetteSample() + ": must be at least 2");
-    }
     checkColumns(problems);
     if (!problems.isEmpty()) {
       throw new InvalidJobException(problems);
@@ -282,13 +268,6 @@ public final class ClusterJob {
             + ", not a number");
       }
     }
-    String entity = settings.entity();
-    if (!entity.isEmpty() && !names.contains(entity)) {
-      problems.add("cluster.entity = " + entity + ": no such column in the points table (columns: " + names + ")");
-    }
-    if (!entity.isEmpty() && pointColumns.contains(entity)) {
-      problems.add("cluster.entity = " + entity + ": is one of the clustered columns");
-    }
     for (String c : keyColumns) {
       if (!names.contains(c)) {
         problems.add("cluster: key column " + c + " is not in the points table");
@@ -301,11 +280,11 @@ public final class ClusterJob {
       return;
     }
     int p = pointColumns.size();
-    if (space.equals("scores") && p > model.k()) {
+    if (space == ClusterSpace.SCORES && p > model.k()) {
       throw new IllegalArgumentException(p + " score columns but the model keeps only " + model.k()
           + " components");
     }
-    if (space.equals("features") && p != model.d()) {
+    if (space == ClusterSpace.FEATURES && p != model.d()) {
       throw new IllegalArgumentException(p + " feature columns but the model has " + model.d() + " features");
     }
   }

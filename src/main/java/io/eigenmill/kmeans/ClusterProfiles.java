@@ -4,6 +4,7 @@ import io.eigenmill.io.PcaModel;
 import io.eigenmill.kmeans.ParallelKMeans.Fitted;
 import io.eigenmill.kmeans.math.BackProjection;
 import io.eigenmill.math.Moments;
+import io.eigenmill.settings.Choices.ClusterSpace;
 import java.util.ArrayList;
 import java.util.Arrays;
 import java.util.Comparator;
@@ -23,12 +24,12 @@ final class ClusterProfiles {
   private final BackProjection map;
   private final List<String> features;
 
-  ClusterProfiles(PcaModel model, String space, List<String> pointColumns) {
+  ClusterProfiles(PcaModel model, ClusterSpace space, List<String> pointColumns) {
     int p = pointColumns.size();
     if (model == null) {
       map = BackProjection.identity(p);
       features = pointColumns;
-    } else if (space.equals("scores")) {
+    } else if (space == ClusterSpace.SCORES) {
       map = BackProjection.ofScores(model.means(), model.scales(), model.loadings(), model.d(), p);
       features = model.features();
     } else {
@@ -43,7 +44,7 @@ final class ClusterProfiles {
   }
 
   /** @param initSample rows of the sample k-means|| ran on, 0 when it ran over all rows */
-  ClusterResult result(KChoice choice, PointSummary summary, String space, String entity, List<String> dims,
+  ClusterResult result(KChoice choice, PointSummary summary, ClusterSpace space, String entity, List<String> dims,
       int initSample) {
     Fitted f = choice.chosen();
     int k = f.run().k();

@@ -1,12 +1,13 @@
 package io.eigenmill.kmeans;
 
+import io.eigenmill.settings.Choices.ClusterSpace;
 import java.util.List;
 
 /**
  * The outcome of clustering rows or entities: the k-selection table, the chosen k and its quality, sizes,
  * centroids (in the clustered space and in original feature units) and per-cluster profiles.
  *
- * @param space "scores" or "features"
+ * @param space the clustered space (written as its word, "scores" or "features")
  * @param entity the entity column clustered instead of rows, or "" for rows
  * @param selection one entry per k tried (one entry when k was fixed)
  * @param silhouetteSample rows in the seeded sample the silhouette was computed on (exact, Euclidean)
@@ -14,7 +15,7 @@ import java.util.List;
  *     rows
  */
 public record ClusterResult(
-    String space,
+    ClusterSpace space,
     String entity,
     int k,
     String selectionRule,

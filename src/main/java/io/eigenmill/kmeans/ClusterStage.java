@@ -48,12 +48,7 @@ public final class ClusterStage {
       dims.addAll(model.features());
     }
     Dataset<Row> points = points(table, scored, settings.space(), dims);
-    if (!settings.entity().isEmpty() && !keys.contains(settings.entity())) {
-      throw new InvalidJobException("cluster.entity = " + settings.entity() + ": the entity column must be one of"
-          + " features.keys " + keys);
-    }
-    ClusterOutcome outcome = new ClusterJob(spark, settings, points, keys, dims, model,
-        settings.space().word()).execute();
+    ClusterOutcome outcome = new ClusterJob(spark, settings, points, keys, dims, model, settings.space()).execute();
     ClusterJob.writeTables(outcome, out.staged("clusters"));
     return outcome;
   }
@@ -137,8 +132,7 @@ public final class ClusterStage {
     CentroidStore.StoredCentroids stored = CentroidStore.read(spark, centroidsPath);
     List<String> dims = stored.dimensions();
     List<String> base = stored.pointColumns();
-    ClusterSpace space = stored.space().equals(ClusterSpace.FEATURES.word()) ? ClusterSpace.FEATURES
-        : ClusterSpace.SCORES;
+    ClusterSpace space = stored.space();
     List<String> present = new ArrayList<>();
     if (space == ClusterSpace.SCORES) {
       present.addAll(List.of(spark.read().parquet(scored.scoresPath()).columns()));
@@ -148,7 +142,7 @@ public final class ClusterStage {
     for (String d : base) {
       if (!present.contains(d)) {
         throw new InvalidJobException("apply.centroids = " + centroidsPath + ": the centroids have dimension " + d
-            + ", which the " + (space == ClusterSpace.SCORES ? "scores" : "features") + " of this model lack ("
+            + ", which the " + space.word() + " of this model lack ("
             + space.word() + ": " + String.join(", ", present) + ")");
       }
     }

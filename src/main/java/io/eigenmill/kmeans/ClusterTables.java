@@ -25,7 +25,7 @@ public final class ClusterTables {
    */
   public static Dataset<Row> centroids(SparkSession spark, ClusterResult r) {
     Metadata kind = new MetadataBuilder().putString(CentroidStore.ENTITY, r.entity() == null ? "" : r.entity())
-        .putBoolean(CentroidStore.SPREAD, spread(r)).putString(CentroidStore.SPACE, r.space()).build();
+        .putBoolean(CentroidStore.SPREAD, spread(r)).putString(CentroidStore.SPACE, r.space().word()).build();
     StructType schema = new StructType().add("cluster", DataTypes.IntegerType, false, kind);
     for (String dim : r.dimensions()) {
       schema = schema.add(dim, DataTypes.DoubleType, false);

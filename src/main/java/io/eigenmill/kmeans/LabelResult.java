@@ -1,5 +1,6 @@
 package io.eigenmill.kmeans;
 
+import io.eigenmill.settings.Choices.ClusterSpace;
 import java.util.Map;
 
 /**
@@ -10,7 +11,7 @@ import java.util.Map;
  * @param centroids the path the centroids were read from
  * @param entity the entity column the centroids cluster, "" when they cluster rows
  * @param spread the entity points carry each coordinate's sd as well as its mean
- * @param space "scores" or "features" ("" when the centroids do not say; then they are taken as scores)
+ * @param space the clustered space of the centroids (scores when the centroids do not say)
  * @param labelled entities (or rows, for row centroids) given a cluster in {@code labels/}
  * @param unlabelled entities (or rows) left with a null cluster (a null, NaN or infinite coordinate)
  * @param sizes entities (or rows) per cluster, by cluster
@@ -21,7 +22,7 @@ public record LabelResult(
     String centroids,
     String entity,
     boolean spread,
-    String space,
+    ClusterSpace space,
     long labelled,
     long unlabelled,
     Map<Integer, Long> sizes,

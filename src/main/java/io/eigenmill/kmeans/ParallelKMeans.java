@@ -3,7 +3,6 @@ package io.eigenmill.kmeans;
 import io.eigenmill.kmeans.math.KMeansSeeding;
 import io.eigenmill.kmeans.math.LloydStats;
 import io.eigenmill.kmeans.math.NearestKeys;
-import io.eigenmill.kmeans.math.PointList;
 import io.eigenmill.kmeans.math.SampleRound;
 import io.eigenmill.math.SeedStream;
 import java.io.Serializable;
@@ -167,7 +166,7 @@ public final class ParallelKMeans {
     if (sample != null) {
       long t0 = System.nanoTime();
       try {
-        starts = initialise(runs, summary, sample);
+        starts = new KMeansParallelInit(this, d, shift, seed).initialise(runs, summary, sample);
         initRows = summary.initSampleSize();
         LOG.info("k-means||: {} runs initialised on a sample of {} rows on the driver in {} ms", runs.size(),
             summary.initSampleSize(), (System.nanoTime() - t0) / 1_000_000);
@@ -181,16 +180,9 @@ public final class ParallelKMeans {
       }
     }
     if (starts == null) {
-      starts = initialise(runs, summary, null);
+      starts = new KMeansParallelInit(this, d, shift, seed).initialise(runs, summary, null);
     }
     return lloyd(runs, starts, radius);
-  }
-
-  /** k-means|| and the weighted reduction: over {@code sample} on the driver, or over the cache when it is null. */
-  private double[][] initialise(List<Run> runs, PointSummary summary, List<PointBlock> sample) {
-    PointList[] candidates = initialCandidates(runs, summary);
-    oversample(runs, candidates, sample);
-    return reduceCandidates(runs, candidates, sample);
   }
 
   /** Rows of the initialisation sample for a request of {@code requested} rows (0: none) at dimension d. */
@@ -219,118 +211,6 @@ public final class ParallelKMeans {
       s[r] = SeedStream.stream(seed, SeedStream.FIRST_CENTRE, runs.get(r).k(), runs.get(r).restart(), 0);
     }
     return s;
-  }
-
-  private PointList[] initialCandidates(List<Run> runs, PointSummary summary) {
-    PointList[] c = new PointList[runs.size()];
-    for (int r = 0; r < c.length; r++) {
-      double[] first = summary.firstCentre(r);
-      for (int l = 0; l < d; l++) {
-        first[l] -= shift[l];
-      }
-      c[r] = new PointList(d);
-      c[r].add(summary.firstIdentity(r), first, 0, 1);
-    }
-    return c;
-  }
-
-  private void oversample(List<Run> runs, PointList[] candidates, List<PointBlock> sample) {
-    List<Integer> sampling = new ArrayList<>();
-    for (int r = 0; r < runs.size(); r++) {
-      sampling.add(r);
-    }
-    for (int round = 1; !sampling.isEmpty(); round++) {
-      int q = sampling.size();
-      long[] streams = new long[q];
-      int[] capacities = new int[q];
-      for (int a = 0; a < q; a++) {
-        Run run = runs.get(sampling.get(a));
-        streams[a] = SeedStream.stream(seed, SeedStream.OVERSAMPLE, run.k(), run.restart(), round);
-        capacities[a] = KEPT_PER_OVERSAMPLE * 2 * run.k() + KEPT_EXTRA;
-      }
-      CentroidTable table = table(sampling, candidates);
-      SampleRound sampled = pass("cluster/init-round-" + round, table, new ClusterPasses.Round(streams, capacities),
-          sample);
-      PointList[] got = new PointList[q];
-      double[] thresholds = new double[q];
-      List<Integer> overflowed = new ArrayList<>();
-      for (int a = 0; a < q; a++) {
-        int r = sampling.get(a);
-        double phi = sampled.cost(a);
-        if (!(phi > 0)) {
-          // phi = 0: every row coincides with a candidate, so the candidates are all the distinct points
-          if (candidates[r].size() < runs.get(r).k()) {
-            throw new TooFewDistinctPoints(runs.get(r).k(), candidates[r].size());
-          }
-          thresholds[a] = Double.POSITIVE_INFINITY;
-          continue;
-        }
-        thresholds[a] = phi / (2.0 * runs.get(r).k());
-        got[a] = sampled.selected(a, thresholds[a]);
-        if (got[a].size() == 0 && candidates[r].size() < runs.get(r).k()) {
-          // equal rows share their identity and so their unit number: on heavily duplicated rows a round can
-          // sample nothing; a run short of k candidates then takes its row of largest key
-          got[a] = sampled.largest(a);
-        }
-        if (sampled.overflowed(a, thresholds[a])) {
-          overflowed.add(a);
-        }
-      }
-      if (!overflowed.isEmpty()) {
-        PointList[] all = pass("cluster/init-round-" + round + "-all", table,
-            new ClusterPasses.Threshold(streams, thresholds), sample);
-        for (int a : overflowed) {
-          got[a] = all[a];
-        }
-      }
-      sampling = stillSampling(runs, candidates, sampling, got, round);
-    }
-  }
-
-  /** Adds a round's samples; a run goes on while round < ROUNDS, or while it lacks k distinct candidates. */
-  private List<Integer> stillSampling(List<Run> runs, PointList[] candidates, List<Integer> sampling,
-      PointList[] got, int round) {
-    List<Integer> next = new ArrayList<>();
-    for (int a = 0; a < sampling.size(); a++) {
-      int r = sampling.get(a);
-      if (got[a] == null) {
-        continue; // phi = 0: nothing left to sample
-      }
-      candidates[r] = candidates[r].merge(got[a]).canonical();
-      boolean enough = candidates[r].size() >= runs.get(r).k();
-      if (round >= ROUNDS + MAX_EXTRA_ROUNDS && !enough) {
-        throw new IllegalStateException("k-means|| found only " + candidates[r].size() + " distinct candidates"
-            + " for k = " + runs.get(r).k() + " after " + round + " rounds");
-      }
-      if (round < ROUNDS || !enough) {
-        next.add(r);
-      }
-    }
-    return next;
-  }
-
-  private double[][] reduceCandidates(List<Run> runs, PointList[] candidates, List<PointBlock> sample) {
-    List<Integer> all = new ArrayList<>();
-    for (int r = 0; r < runs.size(); r++) {
-      all.add(r);
-    }
-    CentroidTable table = table(all, candidates);
-    long[] counts = pass("cluster/init-weights", table, new ClusterPasses.Weights(), sample);
-    double[][] starts = new double[runs.size()][];
-    for (int r = 0; r < runs.size(); r++) {
-      Run run = runs.get(r);
-      int m = candidates[r].size();
-      double[] w = new double[m];
-      for (int i = 0; i < m; i++) {
-        // each candidate is itself a row, so it stands for at least one
-        w[i] = Math.max(1, counts[table.offsets[r] + i]);
-      }
-      double[] pts = candidates[r].points();
-      long stream = SeedStream.stream(seed, SeedStream.PLUS_PLUS, run.k(), run.restart(), 0);
-      starts[r] = KMeansSeeding.plusPlus(pts, w, m, d, run.k(), stream);
-      KMeansSeeding.lloyd(pts, w, m, d, starts[r], run.k(), LOCAL_ITERATIONS);
-    }
-    return starts;
   }
 
   private List<Fitted> lloyd(List<Run> runs, double[][] current, double radius) {
@@ -406,14 +286,6 @@ public final class ParallelKMeans {
     return out;
   }
 
-  private CentroidTable table(List<Integer> runs, PointList[] candidates) {
-    List<double[]> perRun = new ArrayList<>();
-    for (int r : runs) {
-      perRun.add(candidates[r].points());
-    }
-    return CentroidTable.of(d, shift, perRun);
-  }
-
   private CentroidTable tableOf(List<Integer> runs, double[][] centroids) {
     List<double[]> perRun = new ArrayList<>();
     for (int r : runs) {
@@ -429,7 +301,7 @@ public final class ParallelKMeans {
    * kernel's compiled code in the middle of the Lloyd passes that follow (measured: a pass run slower by about 1 s
    * while it recompiled).
    */
-  private <B extends Serializable> B pass(String stage, CentroidTable table, ClusterPasses.Consumer<B> consumer,
+  <B extends Serializable> B pass(String stage, CentroidTable table, ClusterPasses.Consumer<B> consumer,
       List<PointBlock> sample) {
     long t0 = System.nanoTime();
     B b;

@@ -56,52 +56,99 @@ public final class FitJob {
     return execute(table);
   }
 
+  /**
+   * Fits on {@code table} in named steps, in this order: open the input, the column means (impute-mean only), the
+   * first pass, the row checks, the kept (non-constant) columns, the decomposition, the model. Timings keys: plan,
+   * column-means, tsqr or moments, the method, model.
+   */
   public FitResult execute(Dataset<Row> table) {
-    JobSettings s = plan.settings();
     Stopwatch clock = new Stopwatch();
     List<String> warnings = new ArrayList<>();
-    int d = plan.d();
-    FeatureInput input = new FeatureInput(table, plan.features(), s.reduce().blockRows());
-    LOG.info("fit: {} features, method {}, reading {}; {}", d, plan.method().word(), input.readPath(),
-        Linalg.describe());
+    FeatureInput input = open(table);
     clock.lap("plan");
-    MissingPolicy missing = s.prepare().missing();
-    double[] impute = null;
-    int passes = 0;
-    long imputed = 0;
-    if (missing == MissingPolicy.IMPUTE_MEAN) {
-      PartialResult<ColumnStats> stats = input.run("fit/column-means", ColumnStats.factory(d),
-          ReadMode.MARK, BlockPrep.identity());
-      passes++;
-      impute = imputationValues(stats.value(), plan.features());
-      imputed = stats.counts().totalMissingCells();
-      clock.lap("column-means");
+    Imputation impute = imputation(input, clock);
+    FirstPass first = firstPass(input, impute, clock);
+    checkRows(first.counts(), first.used(), plan.settings().prepare().missing());
+    List<String> dropped = new ArrayList<>();
+    int[] keep = keptColumns(first.means(), first.variances(), dropped);
+    warnAboutLostData(first.counts(), dropped, warnings);
+    checkComponents(keep.length);
+    double[] scales = scales(first.variances(), keep);
+    Spectrum spectrum = spectrum(input, impute, first, keep, scales);
+    clock.lap(plan.method().word());
+    int[] k = new int[1];
+    String rule = chooseK(plan.settings().reduce(), spectrum, k, warnings);
+    PcaModel model = model(first, keep, scales, spectrum, k[0]);
+    clock.lap("model");
+    LOG.info("fit: {} rows used, k = {} ({}), first ratios {}", first.used(), k[0], rule,
+        firstRatios(spectrum, Math.min(3, spectrum.available())));
+    ReadCounts counts = first.counts();
+    return new FitResult(plan, model, spectrum, dropped, counts.rowsRead(), counts.rowsDropped(), impute.cells(),
+        counts.missingCells(), input.columnar(), passes(impute), rule, Linalg.describe(), clock.timings(), warnings);
+  }
+
+  /** The imputation values of impute-mean (null otherwise), the cells they fill and the pass that found them. */
+  private record Imputation(double[] values, long cells, int passes) {
+    BlockPrep prep() {
+      return values == null ? BlockPrep.identity() : BlockPrep.imputeOnly(values);
     }
-    ReadMode mode = modeFor(impute);
-    BlockPrep imputation = impute == null ? BlockPrep.identity() : BlockPrep.imputeOnly(impute);
-    // TSQR: one pass gives count, means and the R factor of the centred rows; the others start with the moments
-    RFactor rFactor = null;
-    Moments moments = null;
-    ReadCounts counts;
+  }
+
+  /**
+   * The first pass over the rows: TSQR's R factor of the centred rows (with count and means), or the moments (with
+   * the full Gram for the covariance method); exactly one of the two is set.
+   */
+  private record FirstPass(RFactor rFactor, Moments moments, ReadCounts counts) {
+    long used() {
+      return rFactor != null ? rFactor.count() : moments.count();
+    }
+
+    double[] means() {
+      return rFactor != null ? rFactor.mean() : moments.mean();
+    }
+
+    double[] variances() {
+      return rFactor != null ? rFactor.variances() : moments.variances();
+    }
+  }
+
+  private FeatureInput open(Dataset<Row> table) {
+    FeatureInput input = new FeatureInput(table, plan.features(), plan.settings().reduce().blockRows());
+    LOG.info("fit: {} features, method {}, reading {}; {}", plan.d(), plan.method().word(), input.readPath(),
+        Linalg.describe());
+    return input;
+  }
+
+  /** With impute-mean, one pass for the column means (timing column-means); otherwise nothing. */
+  private Imputation imputation(FeatureInput input, Stopwatch clock) {
+    if (plan.settings().prepare().missing() != MissingPolicy.IMPUTE_MEAN) {
+      return new Imputation(null, 0, 0);
+    }
+    int d = plan.d();
+    PartialResult<ColumnStats> stats = input.run("fit/column-means", ColumnStats.factory(d),
+        ReadMode.MARK, BlockPrep.identity());
+    double[] impute = imputationValues(stats.value(), plan.features());
+    clock.lap("column-means");
+    return new Imputation(impute, stats.counts().totalMissingCells(), 1);
+  }
+
+  /** TSQR: one pass gives count, means and the R factor of the centred rows; the others start with the moments. */
+  private FirstPass firstPass(FeatureInput input, Imputation impute, Stopwatch clock) {
+    int d = plan.d();
+    ReadMode mode = modeFor(impute.values());
+    BlockPrep imputation = impute.prep();
     if (plan.method() == Method.TSQR) {
       PartialResult<RFactor> pass = input.run("fit/tsqr", RFactor.factory(d), mode, imputation);
-      rFactor = pass.value();
-      counts = pass.counts();
       clock.lap("tsqr");
-    } else {
-      PartialResult<Moments> pass = input.run("fit/moments",
-          Moments.factory(d, plan.method() == Method.COVARIANCE), mode, imputation);
-      moments = pass.value();
-      counts = pass.counts();
-      clock.lap("moments");
+      return new FirstPass(pass.value(), null, pass.counts());
     }
-    passes++;
-    long used = rFactor != null ? rFactor.count() : moments.count();
-    checkRows(counts, used, missing);
-    double[] means = rFactor != null ? rFactor.mean() : moments.mean();
-    double[] variances = rFactor != null ? rFactor.variances() : moments.variances();
-    List<String> dropped = new ArrayList<>();
-    int[] keep = keptColumns(means, variances, dropped);
+    PartialResult<Moments> pass = input.run("fit/moments",
+          Moments.factory(d, plan.method() == Method.COVARIANCE), mode, imputation);
+    clock.lap("moments");
+    return new FirstPass(null, pass.value(), pass.counts());
+  }
+
+  private void warnAboutLostData(ReadCounts counts, List<String> dropped, List<String> warnings) {
     if (!dropped.isEmpty()) {
       warnings.add("constant columns dropped: " + String.join(", ", dropped)
           + " (they carry no variance; exclude them with features.exclude to silence this)");
@@ -110,41 +157,62 @@ public final class FitJob {
       warnings.add(counts.rowsDropped() + " of " + counts.rowsRead() + " rows dropped for missing values ("
           + missingSummary(counts) + "); set prepare.missing = impute-mean to keep them");
     }
-    int dk = keep.length;
-    double[] keptMeans = select(means, keep);
-    double[] scales = new double[dk];
-    for (int i = 0; i < dk; i++) {
-      scales[i] = s.prepare().scaling() == Scaling.STANDARDIZE ? Math.sqrt(variances[keep[i]]) : 1.0;
+  }
+
+  /**
+   * {@code reduce.components} against the non-constant features, before the decomposition: the planner has checked
+   * it against all d features, but which columns are constant is known only from the first pass.
+   */
+  private void checkComponents(int dk) {
+    JobSettings.Reduce r = plan.settings().reduce();
+    if (r.components().isPresent() && r.components().getAsInt() > dk) {
+      throw new InvalidJobException("reduce.components = " + r.components().getAsInt() + ": more components than the "
+          + dk + " non-constant features");
     }
-    Spectrum spectrum = switch (plan.method()) {
-      case COVARIANCE -> covarianceSpectrum(moments, keep, scales);
-      case TSQR -> Spectrum.ofRFactor(rFactor, keep, inverses(scales));
+  }
+
+  /** The scale of each kept column: its standard deviation with standardize, else 1. */
+  private double[] scales(double[] variances, int[] keep) {
+    boolean standardize = plan.settings().prepare().scaling() == Scaling.STANDARDIZE;
+    double[] scales = new double[keep.length];
+    for (int i = 0; i < keep.length; i++) {
+      scales[i] = standardize ? Math.sqrt(variances[keep[i]]) : 1.0;
+    }
+    return scales;
+  }
+
+  private Spectrum spectrum(FeatureInput input, Imputation impute, FirstPass first, int[] keep, double[] scales) {
+    int dk = keep.length;
+    return switch (plan.method()) {
+      case COVARIANCE -> covarianceSpectrum(first.moments(), keep, scales);
+      case TSQR -> Spectrum.ofRFactor(first.rFactor(), keep, inverses(scales));
       default -> {
-        int l = Math.min(dk, MethodChoice.sketchSize(s.reduce(), dk));
-        passes += s.reduce().powerIterations() + 1;
-        yield randomizedSpectrum(input, impute, means, keep, scales, variances, used, l);
+        int l = Math.min(dk, MethodChoice.sketchSize(plan.settings().reduce(), dk));
+        yield randomizedSpectrum(input, impute.values(), first.means(), keep, scales, first.variances(),
+            first.used(), l);
       }
     };
-    clock.lap(plan.method().word());
-    int[] k = new int[1];
-    String rule = chooseK(s.reduce(), spectrum, dk, k, warnings);
+  }
+
+  /** Passes over the input: column means (impute-mean), the first pass, the randomized method's own. */
+  private int passes(Imputation impute) {
+    int own = plan.method() == Method.RANDOMIZED ? plan.settings().reduce().powerIterations() + 1 : 0;
+    return impute.passes() + 1 + own;
+  }
+
+  private PcaModel model(FirstPass first, int[] keep, double[] scales, Spectrum spectrum, int k) {
     List<String> kept = new ArrayList<>();
     List<String> keptTypes = new ArrayList<>();
     for (int j : keep) {
       kept.add(plan.features().get(j));
       keptTypes.add(plan.featureTypes().get(j));
     }
-    double[] loadings = new double[dk * k[0]];
+    double[] loadings = new double[keep.length * k];
     System.arraycopy(spectrum.loadings(), 0, loadings, 0, loadings.length);
-    PcaModel model = new PcaModel(PcaModel.FORMAT_VERSION, Version.current(), kept, keptTypes,
-        s.prepare().scaling().word(), plan.method().word(), used, keptMeans, scales, k[0], loadings,
-        spectrum.eigenvalues(), plan.method() != Method.RANDOMIZED, spectrum.totalVariance(),
-        PcaModel.fingerprint(kept, keptTypes), sqrtOf(select(variances, keep)));
-    clock.lap("model");
-    LOG.info("fit: {} rows used, k = {} ({}), first ratios {}", used, k[0], rule,
-        firstRatios(spectrum, Math.min(3, spectrum.available())));
-    return new FitResult(plan, model, spectrum, dropped, counts.rowsRead(), counts.rowsDropped(), imputed,
-        counts.missingCells(), input.columnar(), passes, rule, Linalg.describe(), clock.timings(), warnings);
+    return new PcaModel(PcaModel.FORMAT_VERSION, Version.current(), kept, keptTypes,
+        plan.settings().prepare().scaling().word(), plan.method(), first.used(), select(first.means(), keep), scales,
+        k, loadings, spectrum.eigenvalues(), plan.method() != Method.RANDOMIZED, spectrum.totalVariance(),
+        PcaModel.fingerprint(kept, keptTypes), sqrtOf(select(first.variances(), keep)));
   }
 
   private static double[] imputationValues(ColumnStats stats, List<String> features) {
@@ -293,13 +361,10 @@ public final class FitJob {
     return RandomizedSubspace.finish(q, z, dk, l, n, trace);
   }
 
-  private static String chooseK(JobSettings.Reduce r, Spectrum spectrum, int dk, int[] k, List<String> warnings) {
+  /** k and the rule that chose it; {@code reduce.components} is at most the kept columns ({@link #checkComponents}). */
+  private static String chooseK(JobSettings.Reduce r, Spectrum spectrum, int[] k, List<String> warnings) {
     if (r.components().isPresent()) {
       int want = r.components().getAsInt();
-      if (want > dk) {
-        throw new InvalidJobException("reduce.components = " + want + ": more components than the " + dk
-            + " non-constant features");
-      }
       k[0] = Math.min(want, spectrum.available());
       return "reduce.components = " + want;
     }

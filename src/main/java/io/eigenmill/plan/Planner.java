@@ -4,7 +4,6 @@ import io.eigenmill.io.ModelStore;
 import io.eigenmill.io.PcaModel;
 import io.eigenmill.io.TableLoader;
 import io.eigenmill.settings.Choices.InputFormat;
-import io.eigenmill.settings.Choices.Method;
 import io.eigenmill.settings.InvalidJobException;
 import io.eigenmill.settings.JobSettings;
 import java.util.ArrayList;
@@ -30,9 +29,10 @@ import org.apache.spark.sql.types.StructField;
 import org.apache.spark.sql.types.StructType;
 
 /**
- * Resolves settings against the input's schema: feature globs, keys, types, the method and memory. Reads the
- * schema and (for up to {@link #FOOTER_LIMIT} Parquet files) the footers' row counts; never the data.
- * All problems are collected and thrown together as one {@link InvalidJobException}.
+ * Resolves settings against the input's schema: feature globs, keys, types, {@code reduce.components} against the
+ * features, {@code cluster.entity} ({@link ClusterColumns}), the method and memory. Reads the schema and (for up to
+ * {@link #FOOTER_LIMIT} Parquet files) the footers' row counts; never the data. All problems are collected and
+ * thrown together as one {@link InvalidJobException}; the settings reader has checked what the settings alone show.
  */
 public final class Planner {
   static final int FOOTER_LIMIT = 256;
@@ -79,6 +79,7 @@ public final class Planner {
       problems.add("apply.model = " + settings.apply().model() + ": feature type changed in the input: "
           + String.join(", ", retyped));
     }
+    ClusterColumns.check(settings, schema, keys, model.features(), problems);
     if (!problems.isEmpty()) {
       throw new InvalidJobException(problems);
     }
@@ -89,8 +90,8 @@ public final class Planner {
         * (2L * d + model.k()), driverHeap, taskHeap, "block of " + settings.reduce().blockRows() + " x " + d);
     return new JobPlan(settings, "apply", model.features(), model.featureTypes(), keys,
         partitionColumns(table, settings), rowEstimate(spark, table, settings),
-        TableLoader.sizeBytes(spark, settings.input().path()), Method.valueOf(model.method().toUpperCase(Locale.ROOT)),
-        "apply: the saved model (" + model.method() + ", k = " + model.k() + ", fitted on "
+        TableLoader.sizeBytes(spark, settings.input().path()), model.method(),
+        "apply: the saved model (" + model.method().word() + ", k = " + model.k() + ", fitted on "
             + String.format(Locale.ROOT, "%,d", model.rows()) + " rows)", memory, outputs(settings), List.of(),
         settings.warnings());
   }
@@ -114,18 +115,27 @@ public final class Planner {
         problems.add("reduce.components = " + k + ": more components than the " + d + " features");
       }
     });
+    List<String> names = features.stream().map(StructField::name).toList();
+    ClusterColumns.check(settings, schema, keys, names, problems);
+    MethodChoice.Choice choice = d == 0 ? null : choose(spark, settings, d, problems);
     if (!problems.isEmpty()) {
       throw new InvalidJobException(problems);
     }
-    long driverHeap = driverHeap(spark);
-    long taskHeap = taskHeap(spark);
-    MethodChoice.Choice choice = MethodChoice.choose(settings.reduce(), d, driverHeap, taskHeap);
-    List<String> names = features.stream().map(StructField::name).toList();
     List<String> types = features.stream().map(f -> f.dataType().simpleString()).toList();
     String kind = settings.apply().appliesModel() ? "apply" : "fit";
     return new JobPlan(settings, kind, names, types, keys, partitionColumns, rowEstimate(spark, table, settings),
         TableLoader.sizeBytes(spark, settings.input().path()), choice.method(), choice.reason(), choice.memory(),
         outputs(settings), notes, warnings);
+  }
+
+  /** The method for d features, or null with its problem added when even the chosen method does not fit. */
+  private static MethodChoice.Choice choose(SparkSession spark, JobSettings settings, int d, List<String> problems) {
+    try {
+      return MethodChoice.choose(settings.reduce(), d, driverHeap(spark), taskHeap(spark));
+    } catch (InvalidJobException e) {
+      problems.addAll(e.problems());
+      return null;
+    }
   }
 
   private static void checkDuplicates(StructType schema, List<String> problems) {

@@ -2,6 +2,7 @@ package io.eigenmill.report;
 
 import io.eigenmill.kmeans.ClusterResult;
 import io.eigenmill.record.RunResult;
+import io.eigenmill.settings.Choices.ClusterSpace;
 import java.util.ArrayList;
 import java.util.List;
 
@@ -48,8 +49,8 @@ public record ClusterModel(
     }
     String unit = c.entity().isEmpty() ? "rows" : "entities (" + c.entity() + ")";
     List<Fact> facts = List.of(
-        new Fact("Clustered", unit + ", in the " + (c.space().equals("scores") ? "PCA score space" : c.space().equals(
-            "features") ? "prepared feature space" : c.space()) + " (" + String.join(", ", c.dimensions()) + ")"),
+        new Fact("Clustered", unit + ", in the " + (c.space() == ClusterSpace.SCORES ? "PCA score space"
+            : "prepared feature space") + " (" + String.join(", ", c.dimensions()) + ")"),
         new Fact("Clusters (k)", Fmt.count(c.k())),
         new Fact("How k was chosen", c.selectionRule()),
         new Fact("Within-cluster sum of squares", Fmt.num(c.withinSs())),

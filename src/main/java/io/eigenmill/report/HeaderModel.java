@@ -175,7 +175,7 @@ public record HeaderModel(
     PcaModel model = run.model();
     List<Fact> f = new ArrayList<>();
     if (model != null) {
-      f.add(new Fact("Method", model.method()));
+      f.add(new Fact("Method", model.method().word()));
     }
     f.add(new Fact("Why this method", plan.methodReason()));
     if (model != null) {

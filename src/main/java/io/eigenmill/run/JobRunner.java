@@ -16,7 +16,6 @@ import io.eigenmill.monitor.DataDriftTable;
 import io.eigenmill.monitor.DriftCheck;
 import io.eigenmill.monitor.DriftResult;
 import io.eigenmill.monitor.DriftTable;
-import io.eigenmill.monitor.MonitorResult;
 import io.eigenmill.monitor.ReconstructionResult;
 import io.eigenmill.monitor.ScoreSample;
 import io.eigenmill.monitor.ScoringStage;
@@ -94,73 +93,130 @@ public final class JobRunner {
 
   private static RunResult execute(SparkSession spark, JobPlan plan, PcaModel applied, PcaModel earlier,
       OutputCommit out, long started, String skipped) {
-    JobSettings settings = plan.settings();
-    Stopwatch clock = new Stopwatch();
-    Map<String, Double> timings = new LinkedHashMap<>();
-    // settings without effect (found by the reader and the planner) lead the run's warnings
-    List<String> warnings = new ArrayList<>(plan.warnings());
-    for (String w : plan.warnings()) {
-      LOG.warn("settings: {}", w);
+    Steps run = new Steps(spark, plan, out, skipped);
+    Dataset<Row> table = TableLoader.load(spark, plan.settings().input());
+    FitResult fit = applied == null ? run.fit(table) : null;
+    PcaModel model = fit == null ? applied : fit.model();
+    ScoringStage scoring = new ScoringStage(spark, plan, model, out);
+    ScoringStage.Outcome scored = run.score(scoring, table, applied != null);
+    ClusterStage clustering = new ClusterStage(spark, plan, model, out);
+    ClusterResult clusters = run.cluster(clustering, table, scored);
+    LabelResult labels = run.label(clustering, table, scored);
+    DataDriftResult dataDrift = run.writeDataDrift(scored);
+    ReconstructionResult reconstruction = run.reconstruct(scoring, table);
+    DriftResult drift = run.drift(earlier, model);
+    return new RunResult(plan, fit, model, scored == null ? null : scored.monitor(), reconstruction, drift, clusters,
+        run.sample, out.finalPath(), run.timings(), run.warnings, (System.nanoTime() - started) / 1e9, dataDrift,
+        labels);
+  }
+
+  /**
+   * The steps of a run after the plan, in order: fit (unless applying), score, cluster, label, data drift,
+   * reconstruct, drift. Each step that runs adds its timing (write-model, score, cluster, label, reconstruct,
+   * drift) and its warnings, after the settings' own.
+   */
+  private static final class Steps {
+    private final SparkSession spark;
+    private final JobPlan plan;
+    private final JobSettings settings;
+    private final OutputCommit out;
+    private final Stopwatch clock = new Stopwatch();
+    private final Map<String, Double> fitTimings = new LinkedHashMap<>();
+    private final List<String> warnings;
+    private ScoreSample sample;
+
+    Steps(SparkSession spark, JobPlan plan, OutputCommit out, String skipped) {
+      this.spark = spark;
+      this.plan = plan;
+      this.settings = plan.settings();
+      this.out = out;
+      // settings without effect (found by the reader and the planner) lead the run's warnings
+      this.warnings = new ArrayList<>(plan.warnings());
+      for (String w : plan.warnings()) {
+        LOG.warn("settings: {}", w);
+      }
+      if (!skipped.isEmpty()) {
+        warnings.add(skipped);
+      }
     }
-    if (!skipped.isEmpty()) {
-      warnings.add(skipped);
-    }
-    Dataset<Row> table = TableLoader.load(spark, settings.input());
-    FitResult fit = null;
-    PcaModel model = applied;
-    if (model == null) {
-      fit = new FitJob(spark, plan).execute(table);
+
+    FitResult fit(Dataset<Row> table) {
+      FitResult fit = new FitJob(spark, plan).execute(table);
       FitTables.write(spark, fit, out);
-      model = fit.model();
-      timings.putAll(fit.timings());
+      fitTimings.putAll(fit.timings());
       warnings.addAll(fit.warnings());
       clock.lap("write-model");
+      return fit;
     }
-    ScoringStage scoring = new ScoringStage(spark, plan, model, out);
-    MonitorResult monitor = null;
-    ScoreSample sample = null;
-    ScoringStage.Outcome scored = null;
-    boolean labelling = !settings.apply().centroids().isEmpty();
-    if (applied != null || settings.output().scores() || settings.cluster().enabled() || labelling) {
-      scored = scoring.score(table, applied == null);
-      monitor = scored.monitor();
-      warnings.addAll(monitor.warnings());
+
+    /** Scores when an output needs them: an apply job, output.scores, clustering or labelling; else null. */
+    ScoringStage.Outcome score(ScoringStage scoring, Dataset<Row> table, boolean applying) {
+      boolean labelling = !settings.apply().centroids().isEmpty();
+      if (!applying && !settings.output().scores() && !settings.cluster().enabled() && !labelling) {
+        return null;
+      }
+      ScoringStage.Outcome scored = scoring.score(table, !applying);
+      warnings.addAll(scored.monitor().warnings());
       sample = scored.sample();
       clock.lap("score");
+      return scored;
     }
-    ClusterStage clustering = new ClusterStage(spark, plan, model, out);
-    ClusterResult clusters = null;
-    if (settings.cluster().enabled()) {
+
+    ClusterResult cluster(ClusterStage clustering, Dataset<Row> table, ScoringStage.Outcome scored) {
+      if (!settings.cluster().enabled()) {
+        return null;
+      }
       ClusterOutcome outcome = clustering.cluster(table, scored);
-      clusters = outcome.result();
       warnings.addAll(outcome.warnings());
       sample = clustering.colour(sample, outcome);
       clock.lap("cluster");
+      return outcome.result();
     }
-    LabelResult labels = null;
-    if (labelling) {
-      labels = clustering.label(table, scored, settings.apply().centroids(), settings.apply().labelRows());
+
+    LabelResult label(ClusterStage clustering, Dataset<Row> table, ScoringStage.Outcome scored) {
+      if (settings.apply().centroids().isEmpty()) {
+        return null;
+      }
+      LabelResult labels = clustering.label(table, scored, settings.apply().centroids(),
+          settings.apply().labelRows());
       LOG.info("labels: {} per saved cluster {}", labels.byEntity() ? labels.entity() + " values" : "rows",
           labels.sizes());
       clock.lap("label");
+      return labels;
     }
-    DataDriftResult dataDrift = scored == null ? null : scored.dataDrift();
-    if (dataDrift != null) {
-      DataDriftTable.write(spark, dataDrift, out.staged("data-drift"));
+
+    DataDriftResult writeDataDrift(ScoringStage.Outcome scored) {
+      DataDriftResult dataDrift = scored == null ? null : scored.dataDrift();
+      if (dataDrift != null) {
+        DataDriftTable.write(spark, dataDrift, out.staged("data-drift"));
+      }
+      return dataDrift;
     }
-    ReconstructionResult reconstruction = null;
-    if (settings.output().reconstruction()) {
-      reconstruction = scoring.reconstruct(table);
+
+    ReconstructionResult reconstruct(ScoringStage scoring, Dataset<Row> table) {
+      if (!settings.output().reconstruction()) {
+        return null;
+      }
+      ReconstructionResult reconstruction = scoring.reconstruct(table);
       clock.lap("reconstruct");
+      return reconstruction;
     }
-    DriftResult drift = null;
-    if (earlier != null) {
-      drift = DriftCheck.compare(earlier, model, settings.apply().compareWith());
+
+    DriftResult drift(PcaModel earlier, PcaModel model) {
+      if (earlier == null) {
+        return null;
+      }
+      DriftResult drift = DriftCheck.compare(earlier, model, settings.apply().compareWith());
       DriftTable.write(spark, drift, out.staged("drift"));
       clock.lap("drift");
+      return drift;
     }
-    timings.putAll(clock.timings());
-    return new RunResult(plan, fit, model, monitor, reconstruction, drift, clusters, sample, out.finalPath(), timings,
-        warnings, (System.nanoTime() - started) / 1e9, dataDrift, labels);
+
+    /** The fit's own timings, then the run's steps. */
+    Map<String, Double> timings() {
+      Map<String, Double> timings = new LinkedHashMap<>(fitTimings);
+      timings.putAll(clock.timings());
+      return timings;
+    }
   }
 }

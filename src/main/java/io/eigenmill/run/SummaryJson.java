@@ -79,7 +79,7 @@ public final class SummaryJson {
     m.put("path", path);
     m.put("features", model.features());
     m.put("scaling", model.scaling());
-    m.put("method", model.method());
+    m.put("method", model.method().word());
     m.put("components", model.k());
     m.put("fitted_rows", model.rows());
     m.put("eigenvalues", model.eigenvalues());
@@ -197,7 +197,7 @@ public final class SummaryJson {
     m.put("centroids", r.centroids());
     m.put("by", r.byEntity() ? r.entity() : "row");
     m.put("entity_spread", r.spread());
-    m.put("space", r.space().isEmpty() ? "scores" : r.space());
+    m.put("space", r.space().word());
     m.put("window", r.byEntity() ? "input" : "row");
     m.put("labelled", r.labelled());
     m.put("unlabelled", r.unlabelled());
@@ -214,7 +214,7 @@ public final class SummaryJson {
 
   static Map<String, Object> clusterSection(ClusterResult r) {
     Map<String, Object> m = new LinkedHashMap<>();
-    m.put("space", r.space());
+    m.put("space", r.space().word());
     m.put("entity", r.entity());
     m.put("k", r.k());
     m.put("selection_rule", r.selectionRule());
@@ -256,7 +256,7 @@ public final class SummaryJson {
     m.put("features", model.features());
     m.put("features_dropped_constant", fit.droppedConstant());
     m.put("scaling", model.scaling());
-    m.put("method", model.method());
+    m.put("method", model.method().word());
     m.put("method_reason", fit.plan().methodReason());
     m.put("read_path", fit.columnarRead() ? "columnar" : "rows");
     m.put("passes", fit.passes());

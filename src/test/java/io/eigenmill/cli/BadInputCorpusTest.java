@@ -160,6 +160,14 @@ class BadInputCorpusTest extends SparkSuite {
   }
 
   @Test
+  void entityAndComponentProblemsAtOnceBeforeAnyDataIsRead() throws Exception {
+    Path t = table("entity", healthy(30));
+    rejected(run("entity", t, "reduce.components = 7\ncluster { enabled = true, entity = rack }\n"),
+        "reduce.components = 7: more components than the 3 features\neigenmill: error: cluster.entity = rack: no"
+            + " such column in the input (columns: host, cpu, mem, fan)");
+  }
+
+  @Test
   void modelWrittenByANewerVersion() throws Exception {
     Path t = table("train", healthy(40));
     Result fit = run("train", t, "");

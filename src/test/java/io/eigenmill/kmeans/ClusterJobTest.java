@@ -43,7 +43,7 @@ class ClusterJobTest extends SparkSuite {
   }
 
   static ClusterOutcome run(Dataset<Row> points, JobSettings.Cluster s, int d) {
-    return new ClusterJob(spark, s, points, List.of("id"), Blobs.columns(d), null, "scores").execute();
+    return new ClusterJob(spark, s, points, List.of("id"), Blobs.columns(d), null, ClusterSpace.SCORES).execute();
   }
 
   @Test
@@ -116,16 +116,13 @@ class ClusterJobTest extends SparkSuite {
   }
 
   @Test
-  void tooFewRowsEmptyInputAndInvalidRange() {
+  void tooFewRowsAndEmptyInput() {
     Dataset<Row> three = frame(new double[][] {{0, 0}, {1, 0}, {0, 1}}, 2);
     InvalidJobException rows = assertThrows(InvalidJobException.class,
         () -> run(three, settings(OptionalInt.of(5), 8, KSelection.SILHOUETTE, 100), 2));
     assertTrue(rows.getMessage().contains("cluster.k = 5") && rows.getMessage().contains("only 3 points"),
         rows.getMessage());
-    JobSettings.Cluster fromOne = new JobSettings.Cluster(true, ClusterSpace.SCORES, OptionalInt.empty(), 1, 3,
-        KSelection.SILHOUETTE, 3, 50, 1e-6, 100, 100_000, 11, "", false);
-    InvalidJobException range = assertThrows(InvalidJobException.class, () -> run(three, fromOne, 2));
-    assertTrue(range.getMessage().contains("cluster.k-range = 1..3"), range.getMessage());
+    // a k-range from 1 is refused by the settings reader before any data is read (SettingsReaderTest)
     InvalidJobException empty = assertThrows(InvalidJobException.class,
         () -> run(frame(new double[0][], 2).limit(0), settings(OptionalInt.of(1), 8, KSelection.SILHOUETTE, 100), 2));
     assertTrue(empty.getMessage().contains("no rows"), empty.getMessage());
@@ -173,7 +170,7 @@ class ClusterJobTest extends SparkSuite {
     JobSettings.Cluster s = new JobSettings.Cluster(true, ClusterSpace.SCORES, OptionalInt.of(3), 2, 8,
         KSelection.SILHOUETTE, 3, 50, 1e-6, 100, 100_000, 11, "host", true);
     ClusterOutcome o = new ClusterJob(spark, s, fleet.frame(spark), List.of("host", "t"), List.of("pc_1", "pc_2"),
-        fleet.model, "scores").execute();
+        fleet.model, ClusterSpace.SCORES).execute();
     ClusterResult r = o.result();
     assertEquals("host", r.entity());
     assertEquals(List.of("pc_1", "pc_2", "pc_1_sd", "pc_2_sd"), r.dimensions());

@@ -63,7 +63,7 @@ class ClusterStageTest extends SparkSuite {
     RunResult applied = JobRunner.run(spark, JobFiles.settings("input.path = \"" + csv + "\"\ninput.format = csv\n"
         + "apply.model = \"" + fit + "\"\napply.centroids = \"" + fit.resolve("clusters") + "\"\n"
         + "output.path = \"" + apply + "\"\n"));
-    assertEquals("features", applied.labels().space());
+    assertEquals("features", applied.labels().space().word());
     Dataset<Row> labels = spark.read().parquet(apply.resolve("labels").toString()).select("cluster", "distance");
     Dataset<Row> assignments = spark.read().parquet(fit.resolve("clusters/assignments").toString())
         .select("cluster", "distance");

@@ -2,6 +2,7 @@ package io.eigenmill.kmeans;
 
 import io.eigenmill.io.PcaModel;
 import io.eigenmill.math.Linalg;
+import io.eigenmill.settings.Choices.Method;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.SplittableRandom;
@@ -46,7 +47,7 @@ final class EntityData {
     double[] loadings = java.util.Arrays.copyOf(v, 6);
     List<String> features = List.of("cpu", "mem", "net");
     List<String> types = List.of("double", "double", "double");
-    model = new PcaModel(PcaModel.FORMAT_VERSION, "test", features, types, "standardize", "covariance", 120,
+    model = new PcaModel(PcaModel.FORMAT_VERSION, "test", features, types, "standardize", Method.COVARIANCE, 120,
         new double[] {50, 8, 300}, new double[] {10, 2, 100}, 2, loadings, new double[] {3, 1, 0.5}, true, 4.5,
         PcaModel.fingerprint(features, types), new double[] {10, 2, 100});
   }

@@ -5,6 +5,7 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import com.fasterxml.jackson.databind.JsonNode;
+import io.eigenmill.settings.Choices.ClusterSpace;
 import io.eigenmill.testing.SparkSuite;
 import java.util.ArrayList;
 import java.util.List;
@@ -51,7 +52,7 @@ class ReferenceKMeansTest extends SparkSuite {
   void bestWithinSsAndSizesForK2To4(String dataset) {
     ReferenceData data = ReferenceData.load(dataset);
     ClusterOutcome o = new ClusterJob(spark, ReferenceData.settings(OptionalInt.empty(), 2, 4, restarts(dataset), 500),
-        data.frame(spark, 3), List.of("row"), data.features, null, "features").execute();
+        data.frame(spark, 3), List.of("row"), data.features, null, ClusterSpace.FEATURES).execute();
     ClusterResult r = o.result();
     List<Row> table = o.kSelection().orderBy("k").collectAsList();
     assertEquals(3, table.size(), "one k-selection row per k");
@@ -81,7 +82,7 @@ class ReferenceKMeansTest extends SparkSuite {
     // single starts reach the best at k = 3 in a share 0.313 (README, k-means++) and 112/300 (ours, this seed):
     // 60 restarts miss with probability (1 - 0.313)^60 = 2e-10
     ClusterOutcome o = new ClusterJob(spark, ReferenceData.settings(OptionalInt.of(3), 2, 8, 60, 500),
-        data.frame(spark, 4), List.of("row"), data.features, null, "features").execute();
+        data.frame(spark, 4), List.of("row"), data.features, null, ClusterSpace.FEATURES).execute();
     JsonNode ref = data.kmeans(3);
     List<Row> rows = o.assignments().orderBy("row").collectAsList();
     assertEquals(data.z.length, rows.size(), "one assignment per row");

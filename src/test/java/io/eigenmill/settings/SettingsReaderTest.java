@@ -76,6 +76,9 @@ class SettingsReaderTest {
         problems(MINIMAL + "output.report-sample = 1000000\n"));
     assertEquals(List.of("job.conf:3: cluster.init-sample = -1: must be an integer from 0 to 10000000"),
         problems(MINIMAL + "cluster.init-sample = -1\ncluster.enabled = true\n"));
+    // 1e400 overflows a double (IEEE 754: largest finite value about 1.8e308) and is no tolerance
+    assertEquals(List.of("job.conf:3: cluster.tolerance = Infinity: must be a positive number"),
+        problems(MINIMAL + "cluster.tolerance = 1e400\ncluster.enabled = true\n"));
   }
 
   @Test
@@ -143,6 +146,10 @@ class SettingsReaderTest {
     assertEquals(9, s.cluster().kMax());
     assertEquals(List.of("job.conf:3: cluster.k-range = \"9..3\": must be a range \"LOW..HIGH\" with"
         + " 2 <= LOW <= HIGH <= 1000"), problems(MINIMAL + "cluster.k-range = \"9..3\"\ncluster.enabled = true\n"));
+    // the quality measures that choose k (README, cluster.select-by) compare two clusters or more
+    assertEquals(List.of("job.conf:3: cluster.k-range = \"1..3\": must be a range \"LOW..HIGH\" with"
+        + " 2 <= LOW <= HIGH <= 1000 (the quality measures that choose k need two clusters; set cluster.k = 1 to get"
+        + " one cluster)"), problems(MINIMAL + "cluster.k-range = \"1..3\"\ncluster.enabled = true\n"));
   }
 
   @Test

@@ -12,6 +12,8 @@ import io.eigenmill.plan.JobPlan;
 import io.eigenmill.plan.MemoryEstimate;
 import io.eigenmill.record.RunResult;
 import io.eigenmill.report.Fmt;
+import io.eigenmill.settings.Choices.ClusterSpace;
+import io.eigenmill.settings.Choices.Method;
 import io.eigenmill.settings.JobSettings;
 import io.eigenmill.settings.SettingsReader;
 import java.util.ArrayList;
@@ -106,7 +108,7 @@ public final class FleetFixture {
     for (int j = 0; j < d; j++) {
       types.add(j == 12 ? "bigint" : "double");
     }
-    model = new PcaModel(PcaModel.FORMAT_VERSION, "0.1.0", List.of(FEATURES), types, "standardize", "covariance", N,
+    model = new PcaModel(PcaModel.FORMAT_VERSION, "0.1.0", List.of(FEATURES), types, "standardize", Method.COVARIANCE, N,
         means.clone(), sds.clone(), k, loadings, spectrum.eigenvalues(), true, spectrum.totalVariance(),
         PcaModel.fingerprint(List.of(FEATURES), types), sds.clone());
     scores = new double[N][k];
@@ -326,7 +328,7 @@ public final class FleetFixture {
     for (int c = 0; c < k; c++) {
       dims.add("PC" + (c + 1));
     }
-    return new ClusterResult("scores", "", 3, "largest silhouette over k = 2..8", within, 0.41, sizes, selection,
+    return new ClusterResult(ClusterSpace.SCORES, "", 3, "largest silhouette over k = 2..8", within, 0.41, sizes, selection,
         dims, centroids, List.of(FEATURES), original, profiles, N, N);
   }
 
@@ -383,7 +385,7 @@ public final class FleetFixture {
     for (double e : eigenvalues) {
       total += e;
     }
-    return new PcaModel(PcaModel.FORMAT_VERSION, "0.1.0", names, types, "none", "covariance", 500, new double[d],
+    return new PcaModel(PcaModel.FORMAT_VERSION, "0.1.0", names, types, "none", Method.COVARIANCE, 500, new double[d],
         new double[d], k, loadings, eigenvalues, eigenvalues.length == d, total, PcaModel.fingerprint(names, types),
         java.util.Collections.nCopies(d, 1.0).stream().mapToDouble(Double::doubleValue).toArray());
   }
