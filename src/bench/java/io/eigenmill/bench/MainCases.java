@@ -213,7 +213,7 @@ final class MainCases {
         + " passes over the cached points, nearest-centroid kernel " + io.eigenmill.kmeans.math.NearestKeys.best()
         .describe() + " (" + stages(x.timings()) + ")").keeping(o -> {
           KMeansQuality before = kmeans;
-          kmeans = new KMeansQuality(o.result().withinSs(), before == null ? Double.NaN : before.builtin(),
+          kmeans = new KMeansQuality(o.result().wcss(), before == null ? Double.NaN : before.builtin(),
               o.passes(), before == null ? 0 : before.builtinIterations());
         });
   }
@@ -283,7 +283,7 @@ final class MainCases {
     FitResult cov = fits.get("covariance");
     for (Map.Entry<String, FitResult> e : fits.entrySet()) {
       FitResult f = e.getValue();
-      double[] ratios = f.spectrum().explainedRatios();
+      double[] ratios = f.spectrum().varianceShares();
       boolean compared = !e.getKey().equals("covariance") && cov != null;
       double[] ev = f.spectrum().eigenvalues();
       int k = f.model().k();

@@ -37,15 +37,16 @@ final class MainReport {
       s.append('\n');
     }
     if (!r.accuracy().isEmpty()) {
-      s.append("### Accuracy\n\nExplained-variance ratios of the first components; the largest principal angle "
+      s.append("### Accuracy\n\nVariance shares of the first components; the largest principal angle "
           + "between each method's loadings and the covariance method's, over all k = 10 components and over the "
           + "first 3; and eigenvalue 10 over eigenvalue 11 (near 1, the 10th direction is nearly degenerate, so "
           + "the k = 10 subspace is ill-determined in that direction whatever the method).\n\n");
-      s.append(Report.table(List.of("method", "ratio 1", "ratio 2", "ratio 3", "largest angle, k = 10 (rad)",
-          "largest angle, first 3 (rad)", "eigenvalue 10 / 11"), accuracyRows(r.accuracy()))).append('\n');
+      s.append(Report.table(List.of("method", "variance share 1", "variance share 2", "variance share 3",
+          "largest angle, k = 10 (rad)", "largest angle, first 3 (rad)", "eigenvalue 10 / 11"),
+          accuracyRows(r.accuracy()))).append('\n');
     }
     if (r.kmeans() != null) {
-      s.append("### k-means quality\n\n").append(Report.table(List.of("implementation", "within-SS", "work"),
+      s.append("### k-means quality\n\n").append(Report.table(List.of("implementation", "wcss", "work"),
           kmeansRows(r.kmeans())));
     }
     return s.toString();
@@ -95,7 +96,7 @@ final class MainReport {
       List<String> row = new ArrayList<>();
       row.add(a.method() + (a.scaled() ? "" : " (unscaled features)"));
       for (int i = 0; i < MainCases.LEADING; i++) {
-        row.add(i < a.leadingRatios().length ? String.format(Locale.ROOT, "%.8f", a.leadingRatios()[i]) : "");
+        row.add(i < a.leadingShares().length ? String.format(Locale.ROOT, "%.8f", a.leadingShares()[i]) : "");
       }
       row.add(angle(a.largestAngle()));
       row.add(angle(a.largestLeadingAngle()));
@@ -142,12 +143,12 @@ final class MainReport {
       System.out.println("bench: in turn, " + line);
     }
     for (MethodAccuracy a : r.accuracy()) {
-      System.out.printf(Locale.ROOT, "bench: accuracy %-12s ratios %s  largest angle k = 10: %s, first 3: %s; "
-          + "eigenvalue 10 / 11: %.4f%n", a.method(), java.util.Arrays.toString(a.leadingRatios()),
+      System.out.printf(Locale.ROOT, "bench: accuracy %-12s variance shares %s  largest angle k = 10: %s, "
+          + "first 3: %s; eigenvalue 10 / 11: %.4f%n", a.method(), java.util.Arrays.toString(a.leadingShares()),
           dash(angle(a.largestAngle())), dash(angle(a.largestLeadingAngle())), a.gapAfterK());
     }
     if (r.kmeans() != null) {
-      System.out.printf(Locale.ROOT, "bench: within-SS ours %.8g, engine %.8g%n", r.kmeans().ours(),
+      System.out.printf(Locale.ROOT, "bench: wcss ours %.8g, engine %.8g%n", r.kmeans().ours(),
           r.kmeans().builtin());
     }
   }

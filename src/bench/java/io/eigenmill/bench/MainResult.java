@@ -20,15 +20,15 @@ public record MainResult(BenchTable table, List<CaseResult> cases, List<MethodAc
   public record CaseResult(BenchCase which, Timing timing, String notes) {}
 
   /**
-   * @param leadingRatios explained-variance ratios of the first components
+   * @param leadingShares variance shares of the first components
    * @param largestAngle largest principal angle (radians) between this method's k = 10 loadings and the covariance
    *     method's; NaN for the covariance method itself, or when not comparable
-   * @param largestLeadingAngle the same for the first {@code leadingRatios.length} components only
+   * @param largestLeadingAngle the same for the first {@code leadingShares.length} components only
    * @param gapAfterK eigenvalue k over eigenvalue k + 1 of this method's spectrum (NaN when unknown): close to 1,
    *     the k-th direction is nearly degenerate and any method's k-dimensional subspace is ill-determined there
    * @param scaled false for the engine's PCA, which works on unscaled features
    */
-  public record MethodAccuracy(String method, double[] leadingRatios, double largestAngle, double largestLeadingAngle,
+  public record MethodAccuracy(String method, double[] leadingShares, double largestAngle, double largestLeadingAngle,
       double gapAfterK, boolean scaled) {}
 
   /**

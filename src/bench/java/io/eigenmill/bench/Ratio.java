@@ -6,7 +6,7 @@ import java.util.Locale;
  * One ratio of the results, with its target when it has one.
  *
  * @param name what is divided by what, e.g. "fit-covariance / read-floor"
- * @param value the ratio of the medians (or of the within-SS for the quality ratio)
+ * @param value the ratio of the medians (or of the wcss for the quality ratio)
  * @param target null when the ratio is informative only
  * @param inTurn when the two sides were timed in turn ({@link MainCases#PAIRS}), the ratio of each repetition pair
  *     (repetition i of one side over repetition i of the other, timed next to each other); empty otherwise
@@ -23,7 +23,7 @@ public record Ratio(String name, double value, Target target, double[] inTurn) {
 
   /**
    * A bound on a ratio. {@code atMost}: met when value <= bound (our time over a floor); otherwise met when
-   * value >= bound (the engine's time over ours). {@code quality} marks a quality ratio (within-SS) rather than a
+   * value >= bound (the engine's time over ours). {@code quality} marks a quality ratio (wcss) rather than a
    * time ratio, which changes how a miss is described.
    */
   public record Target(boolean atMost, double bound, boolean quality) {
@@ -47,7 +47,7 @@ public record Ratio(String name, double value, Target target, double[] inTurn) {
 
     /** Whether {@code value} meets this bound. */
     public boolean met(double value) {
-      // within-SS may differ from an equal one in the last bits: 1e-9 relative absorbs that
+      // a wcss may differ from an equal one in the last bits: 1e-9 relative absorbs that
       double slack = quality ? 1e-9 : 0.0;
       return atMost ? value <= bound * (1 + slack) : value >= bound;
     }

@@ -12,7 +12,7 @@ final class Outcome {
     StringBuilder s = new StringBuilder();
     FitResult fit = run.fit();
     if (fit != null) {
-      double[] cumulative = fit.spectrum().cumulativeRatios();
+      double[] cumulative = fit.spectrum().cumulativeVarianceShares();
       int k = fit.model().k();
       s.append(String.format(Locale.ROOT, "fit: %,d rows (%,d dropped), %d features, method %s, k = %d "
               + "explaining %.4f of the variance%n", fit.rowsUsed(), fit.rowsDropped(), fit.model().d(),

@@ -121,8 +121,8 @@ public final class ClusterJob {
       clock.lap("tables");
       ClusterOutcome outcome = new ClusterOutcome(result, assignments, centroids, profileTable, kSelection,
           List.copyOf(warnings), clock.timings(), kmeans.passes() + 1);
-      LOG.info("cluster: k = {} ({}), within-SS {}, {} passes", result.k(), result.selectionRule(),
-          result.withinSs(), outcome.passes());
+      LOG.info("cluster: k = {} ({}), wcss {}, {} passes", result.k(), result.selectionRule(),
+          result.wcss(), outcome.passes());
       return outcome;
     } finally {
       blocks.unpersist(false);

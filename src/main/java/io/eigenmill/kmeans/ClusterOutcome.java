@@ -18,7 +18,7 @@ import org.apache.spark.sql.Row;
  * @param profiles per cluster and distinguishing feature (largest |standardised difference| first): {@code cluster},
  *     {@code size}, {@code share}, {@code rank}, {@code feature}, {@code cluster_mean}, {@code overall_mean},
  *     {@code standardized_difference}
- * @param kSelection per k tried: {@code k}, {@code within_ss}, {@code silhouette}, {@code calinski_harabasz},
+ * @param kSelection per k tried: {@code k}, {@code wcss}, {@code silhouette}, {@code calinski_harabasz},
  *     {@code davies_bouldin}, {@code chosen}, {@code sizes} (cluster sizes of that k's best run, largest first)
  * @param warnings things the user may want to act on (skipped rows, runs stopped by the iteration cap, re-seeded
  *     empty clusters), each a sentence

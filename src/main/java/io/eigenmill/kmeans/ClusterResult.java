@@ -19,7 +19,7 @@ public record ClusterResult(
     String entity,
     int k,
     String selectionRule,
-    double withinSs,
+    double wcss,
     double silhouette,
     long[] sizes,
     List<KScore> selection,
@@ -31,7 +31,7 @@ public record ClusterResult(
     int silhouetteSample,
     int initSample) {
 
-  public record KScore(int k, double withinSs, double silhouette, double calinskiHarabasz, double daviesBouldin) {}
+  public record KScore(int k, double wcss, double silhouette, double calinskiHarabasz, double daviesBouldin) {}
 
   /** The features that most distinguish a cluster, largest |standardised difference| first. */
   public record Profile(int cluster, long size, double share, List<FeatureShift> distinguishing) {}

@@ -94,7 +94,7 @@ public final class ClusterTables {
   public static Dataset<Row> kSelection(SparkSession spark, ClusterResult r, List<long[]> sizes) {
     StructType schema = new StructType()
         .add("k", DataTypes.IntegerType, false)
-        .add("within_ss", DataTypes.DoubleType, false)
+        .add("wcss", DataTypes.DoubleType, false)
         .add("silhouette", DataTypes.DoubleType, false)
         .add("calinski_harabasz", DataTypes.DoubleType, false)
         .add("davies_bouldin", DataTypes.DoubleType, false)
@@ -109,7 +109,7 @@ public final class ClusterTables {
       for (int c = 0; c < sorted.length; c++) {
         descending[c] = sorted[sorted.length - 1 - c];
       }
-      rows.add(RowFactory.create(s.k(), s.withinSs(), s.silhouette(), s.calinskiHarabasz(), s.daviesBouldin(),
+      rows.add(RowFactory.create(s.k(), s.wcss(), s.silhouette(), s.calinskiHarabasz(), s.daviesBouldin(),
           s.k() == r.k(), descending));
     }
     return spark.createDataFrame(rows, schema).coalesce(1);

@@ -9,7 +9,7 @@ import org.apache.spark.sql.types.DataTypes;
 import org.apache.spark.sql.types.StructType;
 
 /**
- * {@code drift/}: one row per measure: {@code principal_angle_deg} (index i), {@code explained_ratio} (component c,
+ * {@code drift/}: one row per measure: {@code principal_angle_deg} (index i), {@code variance_share} (component c,
  * old and new), {@code mean_shift_sd} (feature, old and new mean, shift in old standard deviations).
  */
 public final class DriftTable {
@@ -20,11 +20,11 @@ public final class DriftTable {
     for (int i = 0; i < drift.principalAnglesDegrees().length; i++) {
       rows.add(RowFactory.create("principal_angle_deg", i + 1, null, null, null, drift.principalAnglesDegrees()[i]));
     }
-    int c = Math.max(drift.explainedOld().length, drift.explainedNew().length);
+    int c = Math.max(drift.varianceShareOld().length, drift.varianceShareNew().length);
     for (int i = 0; i < c; i++) {
-      Double old = i < drift.explainedOld().length ? drift.explainedOld()[i] : null;
-      Double now = i < drift.explainedNew().length ? drift.explainedNew()[i] : null;
-      rows.add(RowFactory.create("explained_ratio", i + 1, null, old, now,
+      Double old = i < drift.varianceShareOld().length ? drift.varianceShareOld()[i] : null;
+      Double now = i < drift.varianceShareNew().length ? drift.varianceShareNew()[i] : null;
+      rows.add(RowFactory.create("variance_share", i + 1, null, old, now,
           old != null && now != null ? now - old : null));
     }
     for (DriftResult.MeanShift m : drift.meanShifts()) {

@@ -372,7 +372,7 @@ public final class FitJob {
     if (reach < 0) {
       k[0] = Math.min(spectrum.available(), r.maxComponents());
       warnings.add("the " + spectrum.available() + " components computed explain only "
-          + String.format(java.util.Locale.ROOT, "%.4f", spectrum.cumulativeRatios()[spectrum.available() - 1])
+          + String.format(java.util.Locale.ROOT, "%.4f", spectrum.cumulativeVarianceShares()[spectrum.available() - 1])
           + " of the variance, below reduce.variance-target = " + r.varianceTarget() + "; kept k = " + k[0]
           + ": raise reduce.max-components to reach the target");
       return "variance target " + r.varianceTarget() + " not reached within " + spectrum.available()
@@ -390,7 +390,7 @@ public final class FitJob {
   }
 
   private static String firstRatios(Spectrum s, int count) {
-    double[] r = s.explainedRatios();
+    double[] r = s.varianceShares();
     StringBuilder b = new StringBuilder();
     for (int i = 0; i < count; i++) {
       b.append(i == 0 ? "" : ", ").append(String.format(java.util.Locale.ROOT, "%.4f", r[i]));

@@ -27,15 +27,15 @@ public final class FitTables {
     StructType componentSchema = new StructType().add("feature", DataTypes.StringType, false)
         .add("component", DataTypes.IntegerType, false).add("loading", DataTypes.DoubleType, false);
     spark.createDataFrame(loadings, componentSchema).coalesce(1).write().parquet(out.staged("components"));
-    double[] ratios = s.explainedRatios();
-    double[] cumulative = s.cumulativeRatios();
+    double[] shares = s.varianceShares();
+    double[] cumulative = s.cumulativeVarianceShares();
     List<Row> spectrum = new ArrayList<>();
     for (int c = 0; c < s.available(); c++) {
-      spectrum.add(RowFactory.create(c + 1, s.eigenvalues()[c], ratios[c], cumulative[c], c < fit.model().k()));
+      spectrum.add(RowFactory.create(c + 1, s.eigenvalues()[c], shares[c], cumulative[c], c < fit.model().k()));
     }
     StructType spectrumSchema = new StructType().add("component", DataTypes.IntegerType, false)
-        .add("eigenvalue", DataTypes.DoubleType, false).add("ratio", DataTypes.DoubleType, false)
-        .add("cumulative", DataTypes.DoubleType, false).add("kept", DataTypes.BooleanType, false);
+        .add("eigenvalue", DataTypes.DoubleType, false).add("variance_share", DataTypes.DoubleType, false)
+        .add("cumulative_variance_share", DataTypes.DoubleType, false).add("kept", DataTypes.BooleanType, false);
     spark.createDataFrame(spectrum, spectrumSchema).coalesce(1).write().parquet(out.staged("spectrum"));
     ModelStore.write(spark, fit.model(), out.staged("model"));
   }

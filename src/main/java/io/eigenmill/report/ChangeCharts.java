@@ -63,17 +63,17 @@ final class ChangeCharts {
 
   /** Explained-variance ratio per component, old model and new model side by side. */
   static String explained(DriftModel m) {
-    int n = Math.max(m.explainedOld().length, m.explainedNew().length);
+    int n = Math.max(m.varianceShareOld().length, m.varianceShareNew().length);
     Svg svg = new Svg("chart-drift-explained", 470, 280, "Explained variance per component, old and new model");
     Plot p = new Plot(svg, 56, 30, 14, 46);
-    double max = Math.max(ScoreCharts.max(m.explainedOld()), ScoreCharts.max(m.explainedNew()));
+    double max = Math.max(ScoreCharts.max(m.varianceShareOld()), ScoreCharts.max(m.varianceShareNew()));
     Scale y = Scale.linear(0, max > 0 ? max : 1, p.bottom, p.top);
     p.yGrid(y, v -> Fmt.fixed(v * 100, 0) + "%");
     double band = p.width() / Math.max(1, n);
     for (int i = 0; i < n; i++) {
-      bar(svg, p, y, m.explainedOld(), m.explainedOldTexts(), i, p.left + band * (i + 0.12), band * 0.36,
+      bar(svg, p, y, m.varianceShareOld(), m.varianceShareOldTexts(), i, p.left + band * (i + 0.12), band * 0.36,
           Palette.CATEGORICAL.get(1), "old");
-      bar(svg, p, y, m.explainedNew(), m.explainedNewTexts(), i, p.left + band * (i + 0.52), band * 0.36,
+      bar(svg, p, y, m.varianceShareNew(), m.varianceShareNewTexts(), i, p.left + band * (i + 0.52), band * 0.36,
           Palette.CATEGORICAL.get(0), "new");
       svg.text(p.left + band * (i + 0.5), p.bottom + 16, "PC" + (i + 1), "middle", "tick");
     }

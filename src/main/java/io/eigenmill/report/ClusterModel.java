@@ -7,8 +7,8 @@ import java.util.ArrayList;
 import java.util.List;
 
 /**
- * Clusters: the k-selection table (within-SS, silhouette, Calinski-Harabasz, Davies-Bouldin per k tried), the chosen
- * k, cluster sizes and, per cluster, the features that distinguish it, in original units.
+ * Clusters: the k-selection table (within-cluster sum of squares, silhouette, Calinski-Harabasz, Davies-Bouldin per
+ * k tried), the chosen k, cluster sizes and, per cluster, the features that distinguish it, in original units.
  *
  * @param unit what was clustered, plural: "rows" or "entities (host)"
  */
@@ -23,7 +23,7 @@ public record ClusterModel(
   /** Distinguishing features listed per cluster. */
   static final int FEATURES_PER_PROFILE = 6;
 
-  public record Selection(int k, double withinSs, double silhouette, double calinskiHarabasz, double daviesBouldin,
+  public record Selection(int k, double wcss, double silhouette, double calinskiHarabasz, double daviesBouldin,
       boolean chosen, List<String> texts) {}
 
   public record Size(int cluster, long size, String sizeText, String shareText) {}
@@ -53,14 +53,14 @@ public record ClusterModel(
             : "prepared feature space") + " (" + String.join(", ", c.dimensions()) + ")"),
         new Fact("Clusters (k)", Fmt.count(c.k())),
         new Fact("How k was chosen", c.selectionRule()),
-        new Fact("Within-cluster sum of squares", Fmt.num(c.withinSs())),
+        new Fact("Within-cluster sum of squares", Fmt.num(c.wcss())),
         new Fact("Silhouette", Fmt.num(c.silhouette(), 3) + " (exact, on a seeded sample of "
             + Fmt.count(c.silhouetteSample()) + " " + (c.entity().isEmpty() ? "rows" : "entities") + ")"),
         new Fact("Starting centroids", startingCentroids(c)));
     List<Selection> selection = new ArrayList<>();
     for (ClusterResult.KScore s : c.selection()) {
-      selection.add(new Selection(s.k(), s.withinSs(), s.silhouette(), s.calinskiHarabasz(), s.daviesBouldin(),
-          s.k() == c.k(), List.of(Fmt.count(s.k()), Fmt.num(s.withinSs()), Fmt.num(s.silhouette(), 3),
+      selection.add(new Selection(s.k(), s.wcss(), s.silhouette(), s.calinskiHarabasz(), s.daviesBouldin(),
+          s.k() == c.k(), List.of(Fmt.count(s.k()), Fmt.num(s.wcss()), Fmt.num(s.silhouette(), 3),
               Fmt.num(s.calinskiHarabasz()), Fmt.num(s.daviesBouldin(), 3))));
     }
     List<Size> sizes = new ArrayList<>();

@@ -7,8 +7,8 @@ import java.util.Comparator;
 import java.util.List;
 
 /**
- * Drift against another model: principal angles between the retained subspaces, explained-variance ratios of both
- * models per component, and the largest mean shifts (in units of the old model's standard deviation).
+ * Drift against another model: principal angles between the retained subspaces, variance shares of both models
+ * per component, and the largest mean shifts (in units of the old model's standard deviation).
  *
  * @param shifts the largest shifts by magnitude, largest first
  * @param shiftsTotal shared features with a shift in the record
@@ -17,10 +17,10 @@ public record DriftModel(
     String otherModel,
     double[] angles,
     List<String> angleTexts,
-    double[] explainedOld,
-    double[] explainedNew,
-    List<String> explainedOldTexts,
-    List<String> explainedNewTexts,
+    double[] varianceShareOld,
+    double[] varianceShareNew,
+    List<String> varianceShareOldTexts,
+    List<String> varianceShareNewTexts,
     List<Shift> shifts,
     int shiftsTotal) {
 
@@ -44,9 +44,9 @@ public record DriftModel(
           ClusterModel.signed(m.shiftInOldSd())));
     }
     shifts.sort(Comparator.comparingDouble((Shift s) -> -Math.abs(s.shift())));
-    return new DriftModel(d.otherModel(), d.principalAnglesDegrees(), angles, d.explainedOld(), d.explainedNew(),
-        percents(d.explainedOld()), percents(d.explainedNew()), List.copyOf(shifts.subList(0,
-            Math.min(SHIFTS, shifts.size()))), d.meanShifts().size());
+    return new DriftModel(d.otherModel(), d.principalAnglesDegrees(), angles, d.varianceShareOld(),
+        d.varianceShareNew(), percents(d.varianceShareOld()), percents(d.varianceShareNew()),
+        List.copyOf(shifts.subList(0, Math.min(SHIFTS, shifts.size()))), d.meanShifts().size());
   }
 
   private static List<String> percents(double[] ratios) {

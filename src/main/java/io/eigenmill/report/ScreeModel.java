@@ -7,9 +7,9 @@ import java.util.ArrayList;
 import java.util.List;
 
 /**
- * The scree plot: eigenvalues, explained-variance ratios and their cumulative sum as the fit computed them
- * ({@link Spectrum#explainedRatios()}, {@link Spectrum#cumulativeRatios()}), the chosen k and, when k was chosen by
- * a variance target, that target.
+ * The scree plot: eigenvalues, variance shares and their cumulative sum as the fit computed them
+ * ({@link Spectrum#varianceShares()}, {@link Spectrum#cumulativeVarianceShares()}), the chosen k and, when k was
+ * chosen by a variance target, that target.
  *
  * @param target the variance target that chose k, or NaN when k was fixed or came from an applied model
  * @param logScale eigenvalues drawn on a log axis because they span more than {@link #LOG_DECADES} decades
@@ -45,8 +45,8 @@ public record ScreeModel(
     double target = byTarget ? run.plan().settings().reduce().varianceTarget() : Double.NaN;
     String rule = run.fit() != null ? run.fit().kRule() : "k of the applied model";
     double[] values = spectrum.eigenvalues();
-    double[] ratios = spectrum.explainedRatios();
-    double[] cumulative = spectrum.cumulativeRatios();
+    double[] ratios = spectrum.varianceShares();
+    double[] cumulative = spectrum.cumulativeVarianceShares();
     int shown = Math.min(values.length, Math.max(SHOWN, k + 5));
     List<Component> out = new ArrayList<>(shown);
     for (int i = 0; i < shown; i++) {

@@ -156,12 +156,12 @@ final class Sections {
           ClusterModel.Selection::silhouette), null);
       HtmlReport.figure(b, ClusterCharts.curve(m, "chart-cluster-calinski-harabasz",
           "Calinski-Harabasz (higher is better)", ClusterModel.Selection::calinskiHarabasz), null);
-      HtmlReport.figure(b, ClusterCharts.curve(m, "chart-cluster-within-ss", "Within-cluster SS (look for a bend)",
-          ClusterModel.Selection::withinSs), null);
+      HtmlReport.figure(b, ClusterCharts.curve(m, "chart-cluster-wcss", "Within-cluster sum of squares",
+          ClusterModel.Selection::wcss), "Look for a bend: past it, more clusters gain little.");
       b.append("</div>\n");
     }
     b.append("<div class=\"tablewrap\"><table class=\"selection-table\"><thead><tr><th class=\"num\">k</th>")
-        .append("<th class=\"num\">within-SS</th><th class=\"num\">silhouette</th>")
+        .append("<th class=\"num\">within-cluster sum of squares</th><th class=\"num\">silhouette</th>")
         .append("<th class=\"num\">Calinski-Harabasz</th><th class=\"num\">Davies-Bouldin (lower is better)</th>")
         .append("</tr></thead><tbody>");
     for (ClusterModel.Selection s : m.selection()) {
@@ -263,11 +263,11 @@ final class Sections {
     HtmlReport.figure(b, ChangeCharts.angles(m), null);
     HtmlReport.figure(b, ChangeCharts.explained(m), null);
     b.append("</div>\n");
-    int n = Math.max(m.angles().length, Math.max(m.explainedOld().length, m.explainedNew().length));
+    int n = Math.max(m.angles().length, Math.max(m.varianceShareOld().length, m.varianceShareNew().length));
     List<List<String>> components = new ArrayList<>();
     for (int i = 0; i < n; i++) {
-      components.add(List.of(Integer.toString(i + 1), cell(m.angleTexts(), i), cell(m.explainedOldTexts(), i),
-          cell(m.explainedNewTexts(), i)));
+      components.add(List.of(Integer.toString(i + 1), cell(m.angleTexts(), i), cell(m.varianceShareOldTexts(), i),
+          cell(m.varianceShareNewTexts(), i)));
     }
     HtmlReport.table(b, "drift-table", List.of("component", "principal angle", "explained, old model",
         "explained, new model"), 1, components);

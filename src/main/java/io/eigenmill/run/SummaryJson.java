@@ -144,8 +144,8 @@ public final class SummaryJson {
     Map<String, Object> m = new LinkedHashMap<>();
     m.put("compared_with", r.otherModel());
     m.put("principal_angles_deg", r.principalAnglesDegrees());
-    m.put("explained_variance_ratio_old", r.explainedOld());
-    m.put("explained_variance_ratio_new", r.explainedNew());
+    m.put("variance_share_old", r.varianceShareOld());
+    m.put("variance_share_new", r.varianceShareNew());
     Map<String, Double> shifts = new LinkedHashMap<>();
     r.meanShifts().forEach(x -> shifts.put(x.feature(), x.shiftInOldSd()));
     m.put("mean_shift_in_old_sd", shifts);
@@ -218,7 +218,7 @@ public final class SummaryJson {
     m.put("entity", r.entity());
     m.put("k", r.k());
     m.put("selection_rule", r.selectionRule());
-    m.put("within_ss", r.withinSs());
+    m.put("wcss", r.wcss());
     m.put("silhouette", r.silhouette());
     m.put("silhouette_sample", r.silhouetteSample());
     m.put("init_sample", r.initSample());
@@ -227,7 +227,7 @@ public final class SummaryJson {
     for (ClusterResult.KScore k : r.selection()) {
       Map<String, Object> e = new LinkedHashMap<>();
       e.put("k", k.k());
-      e.put("within_ss", k.withinSs());
+      e.put("wcss", k.wcss());
       e.put("silhouette", k.silhouette());
       e.put("calinski_harabasz", k.calinskiHarabasz());
       e.put("davies_bouldin", k.daviesBouldin());
@@ -264,8 +264,8 @@ public final class SummaryJson {
     m.put("components_rule", fit.kRule());
     m.put("eigenvalues", s.eigenvalues());
     m.put("eigenvalues_complete", model.eigenvaluesComplete());
-    m.put("explained_variance_ratio", s.explainedRatios());
-    m.put("cumulative_variance_ratio", s.cumulativeRatios());
+    m.put("variance_share", s.varianceShares());
+    m.put("cumulative_variance_share", s.cumulativeVarianceShares());
     m.put("total_variance", s.totalVariance());
     m.put("means", model.means());
     m.put("scales", model.scales());

@@ -65,9 +65,9 @@ class BenchmarkSmokeTest extends SparkSuite {
       }
     }
     checkAccuracy(r);
-    assertTrue(Double.isFinite(r.kmeans().ours()) && r.kmeans().ours() > 0, "our within-SS " + r.kmeans().ours());
+    assertTrue(Double.isFinite(r.kmeans().ours()) && r.kmeans().ours() > 0, "our wcss " + r.kmeans().ours());
     assertTrue(Double.isFinite(r.kmeans().builtin()) && r.kmeans().builtin() > 0,
-        "the engine's within-SS " + r.kmeans().builtin());
+        "the engine's wcss " + r.kmeans().builtin());
 
     List<String> lines = Files.readAllLines(out);
     for (BenchCase c : BenchCase.values()) {
@@ -94,11 +94,11 @@ class BenchmarkSmokeTest extends SparkSuite {
     // exactly up to rounding (~1e-13 on 20 standardised features), the randomized method after 2 power iterations
     // with a sketch of 20 columns on 20 features, i.e. the whole space, so to rounding as well. 1e-6 is the
     // agreement asked of the harness.
-    double lead = r.accuracyOf("covariance").orElseThrow().leadingRatios()[0];
+    double lead = r.accuracyOf("covariance").orElseThrow().leadingShares()[0];
     assertTrue(lead > 0 && lead < 1, "leading ratio " + lead);
     for (String method : List.of("tsqr", "randomized")) {
       MethodAccuracy a = r.accuracyOf(method).orElseThrow();
-      assertEquals(lead, a.leadingRatios()[0], 1e-6, method + " leading explained-variance ratio");
+      assertEquals(lead, a.leadingShares()[0], 1e-6, method + " leading explained-variance ratio");
       // the k = 10 subspaces of exact methods agree to rounding divided by the eigengap after component 10
       assertTrue(a.largestAngle() >= 0 && a.largestAngle() < 1e-6, method + " largest angle " + a.largestAngle());
       // the first 3 eigenvalues are well separated on this table, so their subspace agrees to rounding too
@@ -109,7 +109,7 @@ class BenchmarkSmokeTest extends SparkSuite {
     assertTrue(gap >= 1, "eigenvalues are sorted descending, so eigenvalue 10 / 11 >= 1: " + gap);
     MethodAccuracy engine = r.accuracyOf("builtin-pca").orElseThrow();
     assertFalse(engine.scaled());
-    assertTrue(engine.leadingRatios()[0] > 0 && engine.leadingRatios()[0] <= 1, "engine's leading ratio");
+    assertTrue(engine.leadingShares()[0] > 0 && engine.leadingShares()[0] <= 1, "engine's leading ratio");
   }
 
   @Test

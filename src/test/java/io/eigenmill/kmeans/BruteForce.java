@@ -57,7 +57,7 @@ public final class BruteForce {
     return c;
   }
 
-  public static double withinSs(double[][] x, int[] lab, int k) {
+  public static double wcss(double[][] x, int[] lab, int k) {
     double[][] c = means(x, lab, k);
     double w = 0;
     for (int i = 0; i < x.length; i++) {
@@ -78,7 +78,7 @@ public final class BruteForce {
     for (int j = 0; j < k; j++) {
       between += count[j] * dist2(c[j], mean);
     }
-    return (between / (k - 1)) / (withinSs(x, lab, k) / (n - k));
+    return (between / (k - 1)) / (wcss(x, lab, k) / (n - k));
   }
 
   public static double daviesBouldin(double[][] x, int[] lab, int k) {

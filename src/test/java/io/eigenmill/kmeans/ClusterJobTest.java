@@ -58,7 +58,7 @@ class ClusterJobTest extends SparkSuite {
     int[] lab = ints(labels(one));
     assertEquals(1.0, ReferenceData.adjustedRand(labels(one), strings(data.group)), 1e-12, "blobs recovered");
     ClusterResult.KScore chosen = r.selection().get(1);
-    assertEquals(BruteForce.withinSs(data.x, lab, 3), chosen.withinSs(), 1e-11 * chosen.withinSs());
+    assertEquals(BruteForce.wcss(data.x, lab, 3), chosen.wcss(), 1e-11 * chosen.wcss());
     assertEquals(BruteForce.silhouette(data.x, lab, 3), chosen.silhouette(), 1e-10);
     assertEquals(BruteForce.silhouette(data.x, lab, 3), r.silhouette(), 1e-10);
     double ch = BruteForce.calinskiHarabasz(data.x, lab, 3);
@@ -101,7 +101,7 @@ class ClusterJobTest extends SparkSuite {
     assertArrayEquals(new double[] {5, 1}, r.centroids()[1], 1e-13);
     assertArrayEquals(new double[] {1, 7}, r.centroids()[2], 1e-13);
     // the within-SS is 0 up to the rounding of the centroids (a few ulps of values <= 7: 30 (4 ulp(7))^2 < 1e-26)
-    assertTrue(r.withinSs() < 1e-20, "within-SS " + r.withinSs());
+    assertTrue(r.wcss() < 1e-20, "wcss " + r.wcss());
     // Rousseeuw: a(i) = 0 < b(i) for every point, so s(i) = 1; Davies-Bouldin: S_i = 0 up to rounding
     assertEquals(1.0, r.silhouette(), 1e-12);
     assertTrue(r.selection().get(0).daviesBouldin() < 1e-12);
@@ -142,8 +142,8 @@ class ClusterJobTest extends SparkSuite {
     double[][] valid = java.util.Arrays.copyOf(x, 25);
     double[] mean = BruteForce.means(valid, new int[25], 1)[0];
     assertArrayEquals(mean, r.centroids()[0], 1e-13, "k = 1: the centroid is the mean");
-    double total = BruteForce.withinSs(valid, new int[25], 1);
-    assertEquals(total, r.withinSs(), 1e-12 * total, "k = 1: within-SS is the total sum of squares");
+    double total = BruteForce.wcss(valid, new int[25], 1);
+    assertEquals(total, r.wcss(), 1e-12 * total, "k = 1: wcss is the total sum of squares");
     assertArrayEquals(new long[] {25}, r.sizes());
     ClusterResult.KScore s = r.selection().get(0);
     assertTrue(Double.isNaN(s.silhouette()) && Double.isNaN(s.calinskiHarabasz())
@@ -296,8 +296,8 @@ class ClusterJobTest extends SparkSuite {
     assertEquals(ra.k(), rb.k(), what + ": chosen k");
     assertArrayEquals(ra.sizes(), rb.sizes(), what + ": sizes");
     for (int i = 0; i < ra.selection().size(); i++) {
-      double wa = ra.selection().get(i).withinSs();
-      assertEquals(wa, rb.selection().get(i).withinSs(), 1e-11 * wa, what + ": within-SS, k = "
+      double wa = ra.selection().get(i).wcss();
+      assertEquals(wa, rb.selection().get(i).wcss(), 1e-11 * wa, what + ": wcss, k = "
           + ra.selection().get(i).k());
     }
     assertEquals(1.0, ReferenceData.adjustedRand(labels(a), labels(b)), 1e-12, what + ": same partition");

@@ -39,7 +39,7 @@ class ClusterStageTest extends SparkSuite {
     // single starts (README table), so 10 restarts find it; 1e-6 relative as the issue asks
     JsonNode k3 = ref.get("kmeans").get("standardized").get("k=3");
     double best = k3.get("best_tot_withinss").asDouble();
-    assertEquals(best, c.withinSs(), 1e-6 * best);
+    assertEquals(best, c.wcss(), 1e-6 * best);
     long[] sizes = c.sizes().clone();
     Arrays.sort(sizes);
     long[] expected = Datasets.doubles(k3.get("cluster_sizes")).length == 3
@@ -51,7 +51,7 @@ class ClusterStageTest extends SparkSuite {
     }
     JsonNode summary = new ObjectMapper().readTree(fit.resolve("summary.json").toFile());
     assertEquals(3, summary.get("clusters").get("k").asInt());
-    assertEquals(c.withinSs(), summary.get("clusters").get("within_ss").asDouble(), 0.0);
+    assertEquals(c.wcss(), summary.get("clusters").get("wcss").asDouble(), 0.0);
     assertTrue(Files.readString(fit.resolve("report.html")).contains("section-clusters"));
 
     // Labelling: the fitted rows labelled with the saved centroids of the k-means run. Clustering ran on the prepared
@@ -100,6 +100,6 @@ class ClusterStageTest extends SparkSuite {
     // reaches it from about 14% of single starts (README table), so 40 restarts miss it with probability 0.86^40 < 0.3%
     // (and the run is seeded, so the outcome is fixed)
     JsonNode summary = new ObjectMapper().readTree(fit.resolve("summary.json").toFile());
-    assertEquals(56.40317346, summary.get("clusters").get("within_ss").asDouble(), 1e-6 * 56.40317346);
+    assertEquals(56.40317346, summary.get("clusters").get("wcss").asDouble(), 1e-6 * 56.40317346);
   }
 }

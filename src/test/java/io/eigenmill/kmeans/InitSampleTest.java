@@ -49,7 +49,7 @@ class InitSampleTest extends SparkSuite {
     assertArrayEquals(new long[] {6000, 5000, 4000, 3000}, r.sizes(), "the blobs, numbered by size");
     assertEquals(1.0, ReferenceData.adjustedRand(ClusterJobTest.labels(sampled), ClusterJobTest.labels(full)),
         1e-12, "the same partition as with k-means|| over all rows");
-    assertEquals(full.result().withinSs(), r.withinSs(), 1e-11 * r.withinSs(), "the same local optimum");
+    assertEquals(full.result().wcss(), r.wcss(), 1e-11 * r.wcss(), "the same local optimum");
   }
 
   @Test
@@ -62,7 +62,7 @@ class InitSampleTest extends SparkSuite {
     }
     ClusterOutcome o = ClusterJobTest.run(ClusterJobTest.frame(x, 4), settings(3, 3, 10), 4);
     assertArrayEquals(new long[] {2000, 2000, 2000}, o.result().sizes());
-    assertEquals(0.0, o.result().withinSs(), 0.0);
+    assertEquals(0.0, o.result().wcss(), 0.0);
     assertEquals(0, o.result().initSample(), "reported: the initialisation ran over all rows");
     assertTrue(o.passes() >= 1 + ParallelKMeans.ROUNDS + 1 + 1, "the initialisation went over all rows: "
         + o.passes() + " passes");

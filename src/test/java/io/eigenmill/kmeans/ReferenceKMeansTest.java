@@ -59,9 +59,9 @@ class ReferenceKMeansTest extends SparkSuite {
     for (int k = 2; k <= 4; k++) {
       JsonNode ref = data.kmeans(k);
       double best = ref.get("best_tot_withinss").asDouble();
-      double wss = r.selection().get(k - 2).withinSs();
+      double wss = r.selection().get(k - 2).wcss();
       assertEquals(k, r.selection().get(k - 2).k());
-      assertEquals(wss, table.get(k - 2).getDouble(table.get(k - 2).fieldIndex("within_ss")), 0.0, "table = record");
+      assertEquals(wss, table.get(k - 2).getDouble(table.get(k - 2).fieldIndex("wcss")), 0.0, "table = record");
       // nothing can beat the best partition (README: best found by R Hartigan-Wong nstart=200 and others)
       assertTrue(wss >= best * (1 - 1e-9), dataset + " k=" + k + ": " + wss + " below the best " + best);
       if (dataset.equals("wine") && k == 4) {
@@ -69,7 +69,7 @@ class ReferenceKMeansTest extends SparkSuite {
         continue;
       }
       // R stats::kmeans best_tot_withinss, README table
-      assertEquals(best, wss, 1e-6 * best, dataset + " k=" + k + " within-SS");
+      assertEquals(best, wss, 1e-6 * best, dataset + " k=" + k + " wcss");
       // R stats::kmeans cluster_sizes at the best (descending)
       long[] sizes = longs(table.get(k - 2).getList(table.get(k - 2).fieldIndex("sizes")));
       assertArrayEquals(longs(ref.get("cluster_sizes")), sizes, dataset + " k=" + k + " sizes");
@@ -99,7 +99,7 @@ class ReferenceKMeansTest extends SparkSuite {
     assertEquals(ref.get("adjusted_rand_index_vs_label").get("value").asDouble(),
         ReferenceData.adjustedRand(ours, data.labels), 1e-12, "ARI vs cultivar");
     assertArrayEquals(longs(ref.get("cluster_sizes")), o.result().sizes(), "sizes, numbered by decreasing size");
-    assertEquals(ref.get("best_tot_withinss").asDouble(), o.result().withinSs(), 1e-9 * 1270.75);
+    assertEquals(ref.get("best_tot_withinss").asDouble(), o.result().wcss(), 1e-9 * 1270.75);
   }
 
   static long[] longs(JsonNode array) {

@@ -43,7 +43,7 @@ public final class Summaries {
 
   /**
    * Asserts that {@code actual} has the numbers of {@code expected}: rows exactly, features, method and components
-   * equal, eigenvalues, explained-variance ratios, means and total variance within {@link #RELATIVE}. {@code
+   * equal, eigenvalues, variance shares, means and total variance within {@link #RELATIVE}. {@code
    * reference} names the run {@code expected} comes from, for the failure message.
    */
   public static void assertSameFit(JsonNode expected, JsonNode actual, String reference) {
@@ -53,7 +53,7 @@ public final class Summaries {
     assertEquals(expected.get("features"), actual.get("features"), "features, against " + reference);
     assertEquals(expected.get("method"), actual.get("method"), "method, against " + reference);
     assertEquals(expected.get("components"), actual.get("components"), "components, against " + reference);
-    for (String field : List.of("eigenvalues", "explained_variance_ratio", "means")) {
+    for (String field : List.of("eigenvalues", "variance_share", "means")) {
       JsonNode e = expected.get(field);
       JsonNode a = actual.get(field);
       assertEquals(e.size(), a.size(), field + " length, against " + reference);

@@ -69,7 +69,7 @@ class FitJobTest extends SparkSuite {
     for (int c = 0; c < d; c++) {
       // R prcomp, via the dataset README: eigenvalues (n-1) and explained-variance ratios
       assertEquals(eigen[c], s.eigenvalues()[c], 1e-9 * top, "eigenvalue " + (c + 1));
-      assertEquals(ratios[c], s.explainedRatios()[c], 1e-9, "ratio " + (c + 1));
+      assertEquals(ratios[c], s.varianceShares()[c], 1e-9, "ratio " + (c + 1));
     }
     for (int c = 0; c < d; c++) {
       if (dataset.equals("longley") && c >= d - 3 && !scaling.equals("standardize") && !method.equals("tsqr")) {

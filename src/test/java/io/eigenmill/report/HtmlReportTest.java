@@ -26,7 +26,7 @@ class HtmlReportTest {
   static final List<String> ALL_CHARTS = List.of("chart-scree", "chart-loadings-heatmap", "chart-loadings-top-1",
       "chart-loadings-top-2", "chart-loadings-top-3", "chart-scores-pc1-pc2", "chart-scores-pc1-pc3",
       "chart-monitor-t2", "chart-monitor-q", "chart-cluster-silhouette", "chart-cluster-calinski-harabasz",
-      "chart-cluster-within-ss", "chart-cluster-sizes", "chart-compression", "chart-drift-angles",
+      "chart-cluster-wcss", "chart-cluster-sizes", "chart-compression", "chart-drift-angles",
       "chart-drift-explained", "chart-drift-shifts");
   static final List<String> ALL_SECTIONS = List.of("section-header", "section-warnings", "section-scree",
       "section-loadings", "section-scores", "section-monitoring", "section-clusters", "section-compression",
@@ -75,8 +75,8 @@ class HtmlReportTest {
   void explainedVarianceLabelsParseBackToTheSpectrum() {
     RunResult run = FLEET.fitOnly();
     String html = HtmlReport.render(run);
-    double[] ratios = run.fit().spectrum().explainedRatios();
-    double[] cumulative = run.fit().spectrum().cumulativeRatios();
+    double[] ratios = run.fit().spectrum().varianceShares();
+    double[] cumulative = run.fit().spectrum().cumulativeVarianceShares();
     double[] eigen = run.fit().spectrum().eigenvalues();
     List<String> shown = cells(html, "ev-ratio");
     List<String> shownCumulative = cells(html, "ev-cumulative");

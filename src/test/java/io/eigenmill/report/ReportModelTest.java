@@ -87,8 +87,8 @@ class ReportModelTest {
   void screeShowsTheSpectrumRatiosAndTheTarget() {
     RunResult run = FLEET.fitOnly();
     ScreeModel s = ReportModel.of(run).scree();
-    double[] ratios = run.fit().spectrum().explainedRatios();
-    double[] cumulative = run.fit().spectrum().cumulativeRatios();
+    double[] ratios = run.fit().spectrum().varianceShares();
+    double[] cumulative = run.fit().spectrum().cumulativeVarianceShares();
     assertEquals(FLEET.d, s.components().size());
     for (ScreeModel.Component c : s.components()) {
       int i = c.number() - 1;
@@ -196,7 +196,7 @@ class ReportModelTest {
     ScoreMapModel s = ReportModel.of(run).scores();
     assertEquals(List.of("chart-scores-pc1-pc2", "chart-scores-pc1-pc3"),
         s.plots().stream().map(ScoreMapModel.Plot::id).toList());
-    String share = Fmt.percent(run.fit().spectrum().explainedRatios()[1], 2);
+    String share = Fmt.percent(run.fit().spectrum().varianceShares()[1], 2);
     assertEquals("PC2 (" + share + " of variance)", s.plots().get(0).yLabel());
     assertEquals(run.sample().scores().length, s.sampleSize());
     assertEquals(3, s.legend().size());
@@ -330,7 +330,7 @@ class ReportModelTest {
     long clustered = java.util.Arrays.stream(c.sizes()).sum();
     assertEquals("k-means|| on all " + Fmt.count(clustered) + " rows, then Lloyd iterations over all of them",
         ClusterModel.startingCentroids(c), "a sample of at least every row is every row");
-    ClusterResult sampled = new ClusterResult(c.space(), c.entity(), c.k(), c.selectionRule(), c.withinSs(),
+    ClusterResult sampled = new ClusterResult(c.space(), c.entity(), c.k(), c.selectionRule(), c.wcss(),
         c.silhouette(), c.sizes(), c.selection(), c.dimensions(), c.centroids(), c.features(), c.centroidsOriginal(),
         c.profiles(), c.silhouetteSample(), 40);
     assertEquals("k-means|| on a seeded sample of 40 of the " + Fmt.count(clustered) + " rows, then Lloyd iterations"

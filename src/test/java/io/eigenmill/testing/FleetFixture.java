@@ -351,7 +351,7 @@ public final class FleetFixture {
   public DriftResult drift() {
     double[] angles = new double[k];
     double[] old = new double[k];
-    double[] ratios = spectrum.explainedRatios();
+    double[] ratios = spectrum.varianceShares();
     for (int c = 0; c < k; c++) {
       angles[c] = 1.6 + 4.3 * c * c / (double) k;
       old[c] = ratios[c] * (c == 0 ? 0.93 : 1.04);

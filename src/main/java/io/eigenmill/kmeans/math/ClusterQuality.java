@@ -23,12 +23,12 @@ public final class ClusterQuality {
   private ClusterQuality() {}
 
   /** Calinski-Harabasz index; NaN when k < 2 or n <= k; +infinity when W = 0 < B. */
-  public static double calinskiHarabasz(double totalSs, double withinSs, long n, int k) {
+  public static double calinskiHarabasz(double totalSs, double wcss, long n, int k) {
     if (k < 2 || n <= k) {
       return Double.NaN;
     }
-    double between = Math.max(0.0, totalSs - withinSs);
-    return (between / (k - 1)) / (withinSs / (n - k));
+    double between = Math.max(0.0, totalSs - wcss);
+    return (between / (k - 1)) / (wcss / (n - k));
   }
 
   /**

@@ -20,7 +20,7 @@ public record Spectrum(int d, double[] eigenvalues, double[] loadings, double to
     return eigenvalues.length;
   }
 
-  public double[] explainedRatios() {
+  public double[] varianceShares() {
     double[] r = new double[eigenvalues.length];
     for (int i = 0; i < r.length; i++) {
       r[i] = totalVariance > 0 ? eigenvalues[i] / totalVariance : 0.0;
@@ -28,8 +28,8 @@ public record Spectrum(int d, double[] eigenvalues, double[] loadings, double to
     return r;
   }
 
-  public double[] cumulativeRatios() {
-    double[] r = explainedRatios();
+  public double[] cumulativeVarianceShares() {
+    double[] r = varianceShares();
     double s = 0;
     for (int i = 0; i < r.length; i++) {
       s += r[i];
@@ -39,11 +39,11 @@ public record Spectrum(int d, double[] eigenvalues, double[] loadings, double to
   }
 
   /**
-   * The smallest k whose cumulative ratio reaches {@code target}, or -1 when the available eigenvalues do not reach
-   * it. A tolerance of 1e-12 absorbs rounding in a cumulative sum that should reach exactly 1.
+   * The smallest k whose cumulative variance share reaches {@code target}, or -1 when the available eigenvalues do not
+   * reach it. A tolerance of 1e-12 absorbs rounding in a cumulative sum that should reach exactly 1.
    */
   public int smallestReaching(double target) {
-    double[] cumulative = cumulativeRatios();
+    double[] cumulative = cumulativeVarianceShares();
     for (int i = 0; i < cumulative.length; i++) {
       if (cumulative[i] >= target - 1e-12) {
         return i + 1;

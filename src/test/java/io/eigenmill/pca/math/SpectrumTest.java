@@ -37,8 +37,8 @@ class SpectrumTest {
         Spectrum s = new Spectrum(d, eigenvalues, new double[d * d], total);
         double tol = 2 * MathFixtures.gamma(d + 1);
         String what = name + " " + kind;
-        assertArrayEquals(Datasets.doubles(pca.get("explained_variance_ratio")), s.explainedRatios(), tol, what);
-        assertArrayEquals(Datasets.doubles(pca.get("cumulative_ratio")), s.cumulativeRatios(), tol, what);
+        assertArrayEquals(Datasets.doubles(pca.get("explained_variance_ratio")), s.varianceShares(), tol, what);
+        assertArrayEquals(Datasets.doubles(pca.get("cumulative_ratio")), s.cumulativeVarianceShares(), tol, what);
         assertEquals(pca.get("n_components_90").asInt(), s.smallestReaching(0.90), what + " k for 90%");
         assertEquals(pca.get("n_components_95").asInt(), s.smallestReaching(0.95), what + " k for 95%");
         assertEquals(d, s.smallestReaching(1.0), what + " k for 100%");
@@ -50,8 +50,8 @@ class SpectrumTest {
   void aPartialSpectrumCanFallShortOfTheTarget() {
     // the randomized route reports l eigenvalues and the full trace: 6 + 3 of a total 12 is 0.75
     Spectrum s = new Spectrum(4, new double[] {6, 3}, new double[8], 12);
-    assertArrayEquals(new double[] {0.5, 0.25}, s.explainedRatios(), 0.0);
-    assertArrayEquals(new double[] {0.5, 0.75}, s.cumulativeRatios(), 0.0);
+    assertArrayEquals(new double[] {0.5, 0.25}, s.varianceShares(), 0.0);
+    assertArrayEquals(new double[] {0.5, 0.75}, s.cumulativeVarianceShares(), 0.0);
     assertEquals(1, s.smallestReaching(0.5));
     assertEquals(2, s.smallestReaching(0.75));
     assertEquals(-1, s.smallestReaching(0.8));
@@ -61,7 +61,7 @@ class SpectrumTest {
   @Test
   void aZeroTotalGivesZeroRatios() {
     Spectrum s = new Spectrum(2, new double[] {0, 0}, new double[4], 0);
-    assertArrayEquals(new double[] {0, 0}, s.explainedRatios(), 0.0);
+    assertArrayEquals(new double[] {0, 0}, s.varianceShares(), 0.0);
   }
 
   @Test
