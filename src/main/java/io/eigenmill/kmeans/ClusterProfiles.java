@@ -72,7 +72,7 @@ final class ClusterProfiles {
       profiles.add(new ClusterResult.Profile(c, sizes[c], (double) sizes[c] / n,
           distinguishing(original[c], overall, sd)));
     }
-    return new ClusterResult(space, entity, k, choice.rule(), f.withinSs(), choice.chosenSilhouette(), sizes,
+    return new ClusterResult(space, entity, k, choice.rule(), f.wcss(), choice.chosenSilhouette(), sizes,
         choice.scores(), List.copyOf(dims), centroids, List.copyOf(features), original, profiles,
         choice.sampleSize(), initSample);
   }

@@ -11,7 +11,7 @@ import java.util.Map;
 import java.util.TreeMap;
 
 /**
- * The best run of each k (lowest within-SS; ties to the lower restart), its quality measures and the choice of k.
+ * The best run of each k (lowest within-cluster sum of squares; ties to the lower restart), its quality measures and the choice of k.
  * Calinski-Harabasz and Davies-Bouldin use every point (from the Lloyd pass of the reported state); the silhouette
  * is exact on the seeded sample, each sampled point labelled by its nearest centroid. With a range, k is the best
  * by {@code cluster.select-by} (silhouette and Calinski-Harabasz: largest; Davies-Bouldin: smallest), ties and
@@ -43,7 +43,7 @@ final class KChoice {
     Map<Integer, Fitted> byK = new TreeMap<>();
     for (Fitted f : fitted) {
       Fitted held = byK.get(f.run().k());
-      if (held == null || f.withinSs() < held.withinSs()) {
+      if (held == null || f.wcss() < held.wcss()) {
         byK.put(f.run().k(), f);
       }
     }
@@ -60,7 +60,7 @@ final class KChoice {
       Fitted f = best.get(i);
       ks[i] = f.run().k();
       labels[i] = ClusterQuality.labels(sample, m, d, f.centroids(), ks[i]);
-      ch[i] = ClusterQuality.calinskiHarabasz(totalSs, f.withinSs(), n, ks[i]);
+      ch[i] = ClusterQuality.calinskiHarabasz(totalSs, f.wcss(), n, ks[i]);
       db[i] = ClusterQuality.daviesBouldin(f.centroids(), f.meanDistances(), f.sizes(), ks[i], d);
     }
     double[] sil = ClusterQuality.silhouettes(sample, m, d, labels, ks);
@@ -106,7 +106,7 @@ final class KChoice {
     List<ClusterResult.KScore> out = new ArrayList<>();
     for (int i = 0; i < best.size(); i++) {
       Fitted f = best.get(i);
-      out.add(new ClusterResult.KScore(f.run().k(), f.withinSs(), silhouette[i], calinskiHarabasz[i],
+      out.add(new ClusterResult.KScore(f.run().k(), f.wcss(), silhouette[i], calinskiHarabasz[i],
           daviesBouldin[i]));
     }
     return out;

@@ -42,9 +42,9 @@ import org.slf4j.LoggerFactory;
  * <p><b>Lloyd iterations</b>: one pass per iteration for all runs still moving; each run's new centroids are the
  * means of their rows. A run stops when no centroid moved more than {@code tolerance} times the data's RMS radius
  * (sqrt of the mean squared distance to the data mean), or after {@code maxIterations} passes. The reported state
- * of a run is the last one evaluated: the centroids of its last pass with that pass's exact within-SS, sizes and
+ * of a run is the last one evaluated: the centroids of its last pass with that pass's exact within-cluster sum of squares, sizes and
  * mean distances (a consistent pair; at convergence the next centroids differ by at most tolerance x radius, which
- * changes the within-SS by at most n (tolerance x radius)^2 = tolerance^2 x total SS). An empty cluster is re-seeded
+ * changes the within-cluster sum of squares by at most n (tolerance x radius)^2 = tolerance^2 x total SS). An empty cluster is re-seeded
  * deterministically with the row farthest from its centroid (the next farthest for a second empty cluster, ties by
  * identity), counted in {@link Fitted#reseeds}, and the run is not considered converged in that iteration.
  *
@@ -60,7 +60,7 @@ public final class ParallelKMeans {
    * Oversampling rounds of k-means|| (one pass each), each adding about l = 2k candidates per run. Two rounds keep
    * the initialisation to 3 passes (first centre from the summary pass, 2 rounds, weights); restarts run side by
    * side in the same passes and cover the variance of a short initialisation (see local-demo/BENCHMARKS.md for the
-   * within-SS this gives against the engine's k-means on the benchmark's scores).
+   * within-cluster sum of squares this gives against the engine's k-means on the benchmark's scores).
    */
   public static final int ROUNDS = 2;
   /** Further rounds allowed while a run has fewer than k distinct candidates. */
@@ -93,7 +93,7 @@ public final class ParallelKMeans {
    * @param converged false when the run stopped at the iteration cap
    * @param reseeds empty clusters re-seeded during the run
    */
-  public record Fitted(Run run, double[] centroids, long[] sizes, double[] meanDistances, double withinSs,
+  public record Fitted(Run run, double[] centroids, long[] sizes, double[] meanDistances, double wcss,
       int iterations, boolean converged, int reseeds) {}
 
   /** Fewer distinct points than a run's k. */
@@ -251,7 +251,7 @@ public final class ParallelKMeans {
         }
         reseeds[r] += empties;
         boolean still = empties > 0 || maxMove(current[r], next, k) > tolerance * radius;
-        out[r] = new Fitted(runs.get(r), unshifted(current[r], k), sizes, meanDistances, stats.withinSs(a), it,
+        out[r] = new Fitted(runs.get(r), unshifted(current[r], k), sizes, meanDistances, stats.wcss(a), it,
             !still, reseeds[r]);
         if (still) {
           current[r] = next;

@@ -17,7 +17,7 @@ import org.apache.spark.sql.types.StructType;
  *   <li>{@code variance_ratio} per feature: model variance, new variance, new / model;
  *   <li>{@code score_variance_ratio} per component: eigenvalue, new variance of the score, new / eigenvalue;
  *   <li>{@code score_mean_sd} per component: 0 (the fitted rows' mean score), new mean score, mean / sqrt(eigenvalue);
- *   <li>{@code explained_share} per component: the model's and the new rows' share of their total variance, new - model;
+ *   <li>{@code variance_share} per component: the model's and the new rows' share of their total variance, new - model;
  *   <li>{@code inside_share}, {@code outside_share}: the same in and outside the subspace, new - model;
  *   <li>{@code total_variance}: model and new total variance (prepared units), new / model.
  * </ul>
@@ -39,7 +39,7 @@ public final class DataDriftTable {
           c.varianceRatio()));
       rows.add(RowFactory.create("score_mean_sd", c.component(), null, 0.0,
           c.scoreMeanSd() * Math.sqrt(c.eigenvalue()), c.scoreMeanSd()));
-      rows.add(RowFactory.create("explained_share", c.component(), null, c.modelShare(), c.newShare(),
+      rows.add(RowFactory.create("variance_share", c.component(), null, c.modelShare(), c.newShare(),
           c.newShare() - c.modelShare()));
     }
     rows.add(RowFactory.create("inside_share", null, null, r.modelInsideShare(), r.newInsideShare(),

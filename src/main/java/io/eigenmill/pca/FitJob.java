@@ -80,7 +80,7 @@ public final class FitJob {
     String rule = chooseK(plan.settings().reduce(), spectrum, k, warnings);
     PcaModel model = model(first, keep, scales, spectrum, k[0]);
     clock.lap("model");
-    LOG.info("fit: {} rows used, k = {} ({}), first ratios {}", first.used(), k[0], rule,
+    LOG.info("fit: {} rows used, k = {} ({}), first variance shares {}", first.used(), k[0], rule,
         firstRatios(spectrum, Math.min(3, spectrum.available())));
     ReadCounts counts = first.counts();
     return new FitResult(plan, model, spectrum, dropped, counts.rowsRead(), counts.rowsDropped(), impute.cells(),

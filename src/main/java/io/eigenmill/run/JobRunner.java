@@ -25,6 +25,7 @@ import io.eigenmill.pca.FitTables;
 import io.eigenmill.plan.JobPlan;
 import io.eigenmill.plan.Planner;
 import io.eigenmill.record.RunResult;
+import io.eigenmill.record.SummaryJson;
 import io.eigenmill.report.HtmlReport;
 import io.eigenmill.settings.JobSettings;
 import java.util.ArrayList;

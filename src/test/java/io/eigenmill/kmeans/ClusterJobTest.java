@@ -28,7 +28,7 @@ import org.junit.jupiter.api.Test;
  * {@link BruteForce} (the published definitions), and degenerate inputs.
  *
  * <p>Rounding bounds used below. A centroid is a mean of at most 300 values below 12 in magnitude, summed in another
- * order than the brute force: it differs by at most 300 eps 12 = 8e-13 (checked at 1e-11). A within-SS is a sum of at
+ * order than the brute force: it differs by at most 300 eps 12 = 8e-13 (checked at 1e-11). A within-cluster sum of squares is a sum of at
  * most 600 exact squared distances: relative difference at most 600 eps = 1.3e-13 (checked at 1e-11). A run reported
  * as converged had no row change cluster in its last pass (a single row moving shifts a centroid by far more than
  * cluster.tolerance x radius here), so its centroids are the means of its clusters up to that rounding, and
@@ -100,7 +100,7 @@ class ClusterJobTest extends SparkSuite {
     assertArrayEquals(new double[] {1, 1}, r.centroids()[0], 1e-13);
     assertArrayEquals(new double[] {5, 1}, r.centroids()[1], 1e-13);
     assertArrayEquals(new double[] {1, 7}, r.centroids()[2], 1e-13);
-    // the within-SS is 0 up to the rounding of the centroids (a few ulps of values <= 7: 30 (4 ulp(7))^2 < 1e-26)
+    // the within-cluster sum of squares is 0 up to the rounding of the centroids (a few ulps of values <= 7: 30 (4 ulp(7))^2 < 1e-26)
     assertTrue(r.wcss() < 1e-20, "wcss " + r.wcss());
     // Rousseeuw: a(i) = 0 < b(i) for every point, so s(i) = 1; Davies-Bouldin: S_i = 0 up to rounding
     assertEquals(1.0, r.silhouette(), 1e-12);

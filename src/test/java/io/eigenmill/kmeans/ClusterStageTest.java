@@ -34,7 +34,7 @@ class ClusterStageTest extends SparkSuite {
         + "cluster { enabled = true, space = features, k = 3, restarts = 10 }\n"
         + "output.path = \"" + fit + "\"\n"));
     ClusterResult c = run.clusters();
-    // wine.reference.json, kmeans.standardized k=3: best within-SS over many restarts of R's kmeans (z-scores with
+    // wine.reference.json, kmeans.standardized k=3: best within-cluster sum of squares over many restarts of R's kmeans (z-scores with
     // the n-1 sd, as prepare.scaling = standardize); Lloyd from a k-means|| start reaches it in about a third of
     // single starts (README table), so 10 restarts find it; 1e-6 relative as the issue asks
     JsonNode k3 = ref.get("kmeans").get("standardized").get("k=3");
@@ -96,7 +96,7 @@ class ClusterStageTest extends SparkSuite {
     Dataset<Row> labelled = spark.read().parquet(apply.resolve("labels").toString()).select("state", "cluster");
     assertEquals(50, labelled.count());
     assertEquals(0, assigned.exceptAll(labelled).count(), "labels equal the fit's assignments");
-    // usarrests.reference.json, kmeans.standardized k=4: best within-SS 56.40317346 with sizes 16, 13, 13, 8; Lloyd
+    // usarrests.reference.json, kmeans.standardized k=4: best within-cluster sum of squares 56.40317346 with sizes 16, 13, 13, 8; Lloyd
     // reaches it from about 14% of single starts (README table), so 40 restarts miss it with probability 0.86^40 < 0.3%
     // (and the run is seeded, so the outcome is fixed)
     JsonNode summary = new ObjectMapper().readTree(fit.resolve("summary.json").toFile());

@@ -150,6 +150,6 @@ class PointBlockTest {
       assertEquals(whole.count(j), chunked.count(j), "size of cluster " + j);
     }
     // sums of the same rows in other chunkings: equal within rounding (at most 1024 terms of size <= 30)
-    assertEquals(whole.withinSs(0), chunked.withinSs(0), 1e-9 * whole.withinSs(0));
+    assertEquals(whole.wcss(0), chunked.wcss(0), 1e-9 * whole.wcss(0));
   }
 }

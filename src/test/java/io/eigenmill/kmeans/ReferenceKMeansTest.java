@@ -33,7 +33,7 @@ import org.junit.jupiter.params.provider.ValueSource;
  * at 1168.775747); we require WSS >= best (1 - 1e-9), which no partition can beat, and WSS <= 1168.775747 (1 + 1e-9),
  * the best such methods reached (1.38e-4 above the best).
  *
- * <p>Tolerance 1e-6 relative on the within-SS (the issue's bound): at a common optimum our within-SS is a sum of
+ * <p>Tolerance 1e-6 relative on the within-cluster sum of squares (the issue's bound): at a common optimum our within-cluster sum of squares is a sum of
  * n (<= 178) exactly recomputed squared distances, accurate to ~n eps = 4e-14 relative.
  */
 class ReferenceKMeansTest extends SparkSuite {

@@ -24,7 +24,7 @@ public final class LloydStats implements Serializable {
   private final long[] counts;
   private final double[] sums;
   private final double[] distanceSums;
-  private final double[] withinSs;
+  private final double[] wcss;
   private final RankedPoints[] farthest;
   /** Scratch of {@link #add}: all zero between calls; not part of the buffer's state. */
   private transient double[] indicator;
@@ -37,7 +37,7 @@ public final class LloydStats implements Serializable {
     this.counts = new long[total];
     this.sums = new double[total * d];
     this.distanceSums = new double[total];
-    this.withinSs = new double[runs];
+    this.wcss = new double[runs];
     this.farthest = new RankedPoints[runs];
     for (int r = 0; r < runs; r++) {
       // at most k - 1 clusters of a run can be empty at once
@@ -55,7 +55,7 @@ public final class LloydStats implements Serializable {
    * identity at {@code ids[idOff + i]}.
    */
   public void add(NearestSearch search, double[] x, int xoff, int rows, int ldx, long[] ids, int idOff) {
-    int runs = withinSs.length;
+    int runs = wcss.length;
     // coordinate sums of every centroid in one BLAS level-3 call below: sums (d x K) += X^T H, with H the rows x K
     // indicator of each row's nearest centroid in every run (a scatter loop instead waits on the previous row's
     // store whenever consecutive rows share a centroid, as clustered data does); H is all zero between calls
@@ -78,7 +78,7 @@ public final class LloydStats implements Serializable {
           far.offer(-d2, ids[idOff + i], x, xoff + i, ldx);
         }
       }
-      withinSs[r] += cost;
+      wcss[r] += cost;
     }
     Linalg.blas().dgemm("T", "N", d, total, rows, 1.0, x, xoff, ldx, indicator, 0, ldh, 1.0, sums, 0, d);
     for (int r = 0; r < runs; r++) {
@@ -100,15 +100,15 @@ public final class LloydStats implements Serializable {
     for (int i = 0; i < sums.length; i++) {
       sums[i] += other.sums[i];
     }
-    for (int r = 0; r < withinSs.length; r++) {
-      withinSs[r] += other.withinSs[r];
+    for (int r = 0; r < wcss.length; r++) {
+      wcss[r] += other.wcss[r];
       farthest[r].merge(other.farthest[r]);
     }
     return this;
   }
 
   public int runs() {
-    return withinSs.length;
+    return wcss.length;
   }
 
   public long count(int j) {
@@ -124,8 +124,8 @@ public final class LloydStats implements Serializable {
   }
 
   /** Exact within-cluster sum of squares of run r (rows to their nearest centroid). */
-  public double withinSs(int r) {
-    return withinSs[r];
+  public double wcss(int r) {
+    return wcss[r];
   }
 
   /** Rows of run r farthest from their centroids, farthest first (point-major, shifted coordinates). */
@@ -133,7 +133,7 @@ public final class LloydStats implements Serializable {
     return farthest[r].points();
   }
 
-  /** The serialized form: d, offsets, counts, sums, distance sums, within-SS, then each run's farthest rows. */
+  /** The serialized form: d, offsets, counts, sums, distance sums, within-cluster sum of squares, then each run's farthest rows. */
   public byte[] toBytes() {
     byte[][] far = new byte[farthest.length][];
     int farBytes = 0;
@@ -142,7 +142,7 @@ public final class LloydStats implements Serializable {
       farBytes += 4 + far[r].length;
     }
     ByteBuffer buf = ByteBuffer.allocate(8 + 4 * offsets.length + 8 * (counts.length + sums.length
-        + distanceSums.length + withinSs.length) + farBytes);
+        + distanceSums.length + wcss.length) + farBytes);
     buf.putInt(d).putInt(offsets.length);
     for (int o : offsets) {
       buf.putInt(o);
@@ -150,7 +150,7 @@ public final class LloydStats implements Serializable {
     for (long c : counts) {
       buf.putLong(c);
     }
-    for (double[] a : new double[][] {sums, distanceSums, withinSs}) {
+    for (double[] a : new double[][] {sums, distanceSums, wcss}) {
       for (double v : a) {
         buf.putDouble(v);
       }
@@ -172,7 +172,7 @@ public final class LloydStats implements Serializable {
     for (int j = 0; j < s.counts.length; j++) {
       s.counts[j] = buf.getLong();
     }
-    for (double[] a : new double[][] {s.sums, s.distanceSums, s.withinSs}) {
+    for (double[] a : new double[][] {s.sums, s.distanceSums, s.wcss}) {
       for (int i = 0; i < a.length; i++) {
         a[i] = buf.getDouble();
       }

@@ -174,7 +174,7 @@ public final class NearestSearch {
    * last place count as tied, and ties go to the lower index as in {@link #searchRun}. The distance kept is the
    * chosen centroid's untruncated one. Its rounding error is at most about (d + 2) u (||x|| + ||c||)^2 (Higham 2002,
    * §3.1, for the dot product and the two sums), an absolute error of the size of the rows' spread times u, since
-   * rows and centroids are shifted by the data mean. Summed over the rows, the within-SS is then off by at most about
+   * rows and centroids are shifted by the data mean. Summed over the rows, the within-cluster sum of squares is then off by at most about
    * 4 (d + 2) u times the total sum of squares. The second-nearest search recomputes distances exactly.
    */
   private void nearestOnly(int r, int rows) {

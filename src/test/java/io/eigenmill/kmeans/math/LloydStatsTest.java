@@ -8,7 +8,7 @@ import org.junit.jupiter.api.Test;
 
 /**
  * One Lloyd iteration's buffer against a direct computation (each row to its brute-force nearest centroid, counts,
- * coordinate sums, within-SS, sums of distances, farthest rows), and its merge laws. Tolerances: sums of 200 terms of
+ * coordinate sums, within-cluster sum of squares, sums of distances, farthest rows), and its merge laws. Tolerances: sums of 200 terms of
  * magnitude <= 10 differ from another summation order by at most 200 eps 10 = 4.4e-13; checked at 1e-11.
  */
 class LloydStatsTest {
@@ -73,7 +73,7 @@ class LloydStatsTest {
         assertEquals(sum[j * D + 1], s.sum(j, 1), 1e-11);
         assertEquals(dist[j], s.distanceSum(j), 1e-11);
       }
-      assertEquals(wss, s.withinSs(r), 1e-11 * wss);
+      assertEquals(wss, s.wcss(r), 1e-11 * wss);
       double[] f = s.farthestPoints(r);
       double top = Double.POSITIVE_INFINITY;
       for (int j = OFFSETS[r]; j < OFFSETS[r + 1]; j++) {
@@ -96,7 +96,7 @@ class LloydStatsTest {
         assertEquals(whole.distanceSum(j), s.distanceSum(j), 1e-11);
       }
       for (int r = 0; r < 2; r++) {
-        assertEquals(whole.withinSs(r), s.withinSs(r), 1e-11 * whole.withinSs(r));
+        assertEquals(whole.wcss(r), s.wcss(r), 1e-11 * whole.wcss(r));
         assertArrayEquals(whole.farthestPoints(r), s.farthestPoints(r), 0.0);
       }
     }
@@ -112,7 +112,7 @@ class LloydStatsTest {
       assertEquals(s.distanceSum(j), t.distanceSum(j), 0.0);
     }
     for (int r = 0; r < 2; r++) {
-      assertEquals(s.withinSs(r), t.withinSs(r), 0.0);
+      assertEquals(s.wcss(r), t.wcss(r), 0.0);
       assertArrayEquals(s.farthestPoints(r), t.farthestPoints(r), 0.0);
     }
   }

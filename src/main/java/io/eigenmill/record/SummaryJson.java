@@ -1,4 +1,4 @@
-package io.eigenmill.run;
+package io.eigenmill.record;
 
 import com.fasterxml.jackson.core.JsonProcessingException;
 import com.fasterxml.jackson.databind.ObjectMapper;
@@ -13,7 +13,6 @@ import io.eigenmill.monitor.MonitorResult;
 import io.eigenmill.monitor.ReconstructionResult;
 import io.eigenmill.pca.FitResult;
 import io.eigenmill.pca.math.Spectrum;
-import io.eigenmill.record.RunResult;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;

@@ -1,4 +1,4 @@
-package io.eigenmill.run;
+package io.eigenmill.record;
 
 import static org.junit.jupiter.api.Assertions.assertArrayEquals;
 import static org.junit.jupiter.api.Assertions.assertEquals;
@@ -7,7 +7,7 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
-import io.eigenmill.record.RunResult;
+import io.eigenmill.run.JobRunner;
 import io.eigenmill.testing.Datasets;
 import io.eigenmill.testing.FleetFixture;
 import io.eigenmill.testing.JobFiles;
