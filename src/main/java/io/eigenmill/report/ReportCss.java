@@ -71,7 +71,8 @@ final class ReportCss {
       .k-label { font-size: 12px; font-weight: 650; fill: var(--ink); }
       .group-line { stroke: var(--ink); stroke-width: 1.2; }
       .limit { stroke: var(--orange); stroke-width: 1.6; stroke-dasharray: 8 4; }
-      .limit-label { font-size: 11.5px; font-weight: 600; fill: var(--orange); }
+      .limit-label { font-size: 11.5px; font-weight: 600; fill: var(--orange);
+        paint-order: stroke; stroke: #fff; stroke-width: 3px; stroke-linejoin: round; }
       .pt { fill-opacity: .78; stroke: #1b1b1b; stroke-opacity: .35; stroke-width: .5; }
       .pt-series { fill-opacity: .7; }
       .pt-flagged { stroke: #5a2a00; stroke-width: .6; }
