@@ -16,7 +16,16 @@ import org.apache.spark.sql.SparkSession;
 public final class TableLoader {
   private TableLoader() {}
 
+  /**
+   * The job's input: the table as read, filtered by {@code input.where} when set ({@link InputFilter}) before
+   * anything else, so that every job (fit, apply, clustering) sees the same rows. Plans the filter; reads no data.
+   */
   public static Dataset<Row> load(SparkSession spark, JobSettings.Input input) {
+    return InputFilter.apply(read(spark, input), input);
+  }
+
+  /** The table as read, without {@code input.where} (the planner checks the predicate against its schema). */
+  public static Dataset<Row> read(SparkSession spark, JobSettings.Input input) {
     requireExists(spark, "input.path", input.path());
     DataFrameReader reader = spark.read();
     if (input.corruptFiles() == Choices.CorruptFiles.SKIP) {

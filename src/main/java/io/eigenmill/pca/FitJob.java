@@ -234,6 +234,10 @@ public final class FitJob {
 
   private void checkRows(ReadCounts counts, long used, MissingPolicy missing) {
     String path = plan.settings().input().path();
+    if (counts.rowsRead() == 0 && plan.settings().input().filtered()) {
+      throw new InvalidJobException("input.where = \"" + plan.settings().input().where() + "\" selects no rows of"
+          + " input.path = " + path + " (a fit needs at least 2 rows)");
+    }
     if (counts.rowsRead() == 0) {
       throw new InvalidJobException("input.path = " + path + ": the table has no rows");
     }

@@ -12,6 +12,7 @@ import java.util.List;
  * @param notes things the user should know that are not errors (columns skipped by a glob, ...)
  * @param warnings settings that have no effect in this job, as the user should change them (the settings' own
  *     warnings, then those found against the schema); a run keeps them among its warnings
+ * @param selection what {@code input.where} keeps of the input, or null when it is unset
  */
 public record JobPlan(
     JobSettings settings,
@@ -27,7 +28,16 @@ public record JobPlan(
     MemoryEstimate memory,
     List<String> outputs,
     List<String> notes,
-    List<String> warnings) {
+    List<String> warnings,
+    InputSelection selection) {
+
+  /** A plan of an unfiltered input. */
+  public JobPlan(JobSettings settings, String kind, List<String> features, List<String> featureTypes,
+      List<String> keys, List<String> partitionColumns, long rowEstimate, long inputBytes, Method method,
+      String methodReason, MemoryEstimate memory, List<String> outputs, List<String> notes, List<String> warnings) {
+    this(settings, kind, features, featureTypes, keys, partitionColumns, rowEstimate, inputBytes, method,
+        methodReason, memory, outputs, notes, warnings, null);
+  }
 
   /** A plan without warnings. */
   public JobPlan(JobSettings settings, String kind, List<String> features, List<String> featureTypes,
@@ -48,10 +58,15 @@ public record JobPlan(
     line(s, "job", j.name() + " (" + kind + ", from " + j.sourceFile() + ")");
     line(s, "input", j.input().path() + " [" + j.input().format().word() + "]"
         + (inputBytes >= 0 ? ", " + MemoryEstimate.human(inputBytes) : "")
-        + (rowEstimate >= 0 ? ", " + String.format(java.util.Locale.ROOT, "%,d", rowEstimate) + " rows (footers)"
-            : ", rows not counted"));
+        + (rowEstimate >= 0 ? ", " + String.format(java.util.Locale.ROOT, "%,d", rowEstimate) + " rows (footers"
+            + (selection != null ? ", kept files" : "") + ")" : ", rows not counted"));
     if (!partitionColumns.isEmpty()) {
       line(s, "partitioned by", String.join(", ", partitionColumns));
+    }
+    if (selection != null) {
+      for (String[] l : selection.describe()) {
+        line(s, l[0], l[1]);
+      }
     }
     line(s, "features (" + features.size() + ")", describeFeatures());
     line(s, "keys", keys.isEmpty() ? "(none)" : String.join(", ", keys));

@@ -1,5 +1,6 @@
 package io.eigenmill.plan;
 
+import io.eigenmill.io.InputFilter;
 import io.eigenmill.io.ModelStore;
 import io.eigenmill.io.PcaModel;
 import io.eigenmill.io.TableLoader;
@@ -43,7 +44,7 @@ public final class Planner {
     if (settings.apply().appliesModel()) {
       return planApply(spark, settings, ModelStore.read(spark, "apply.model", settings.apply().model()));
     }
-    Dataset<Row> table = TableLoader.load(spark, settings.input());
+    Dataset<Row> table = TableLoader.read(spark, settings.input());
     return plan(spark, settings, table);
   }
 
@@ -52,10 +53,11 @@ public final class Planner {
    * type it had when the model was fitted (columns may be in any order; extra columns are ignored).
    */
   public static JobPlan planApply(SparkSession spark, JobSettings settings, PcaModel model) {
-    Dataset<Row> table = TableLoader.load(spark, settings.input());
+    Dataset<Row> table = TableLoader.read(spark, settings.input());
     List<String> problems = new ArrayList<>();
     StructType schema = table.schema();
     checkDuplicates(schema, problems);
+    Dataset<Row> kept = filtered(table, settings, problems);
     List<String> keys = resolveKeys(schema, settings.features().keys(), problems);
     List<String> missing = new ArrayList<>();
     List<String> retyped = new ArrayList<>();
@@ -88,20 +90,26 @@ public final class Planner {
     int d = model.d();
     MemoryEstimate memory = new MemoryEstimate(8L * d * (model.k() + 2), 8L * settings.reduce().blockRows()
         * (2L * d + model.k()), driverHeap, taskHeap, "block of " + settings.reduce().blockRows() + " x " + d);
-    return new JobPlan(settings, "apply", model.features(), model.featureTypes(), keys,
-        partitionColumns(table, settings), rowEstimate(spark, table, settings),
-        TableLoader.sizeBytes(spark, settings.input().path()), model.method(),
-        "apply: the saved model (" + model.method().word() + ", k = " + model.k() + ", fitted on "
+    List<String> partitionColumns = partitionColumns(table, settings);
+    InputSelection selection = selection(table, kept, settings, model.features(), partitionColumns);
+    return new JobPlan(settings, "apply", model.features(), model.featureTypes(), keys, partitionColumns,
+        rowEstimate(spark, kept, selection, settings), TableLoader.sizeBytes(spark, settings.input().path()),
+        model.method(), "apply: the saved model (" + model.method().word() + ", k = " + model.k() + ", fitted on "
             + String.format(Locale.ROOT, "%,d", model.rows()) + " rows)", memory, outputs(settings), List.of(),
-        settings.warnings());
+        settings.warnings(), selection);
   }
 
+  /**
+   * The plan of a fit over {@code table}, the input as read: {@code input.where} is checked against its schema here
+   * (with every other problem) and its selection planned.
+   */
   public static JobPlan plan(SparkSession spark, JobSettings settings, Dataset<Row> table) {
     List<String> problems = new ArrayList<>();
     List<String> notes = new ArrayList<>();
     List<String> warnings = new ArrayList<>(settings.warnings());
     StructType schema = table.schema();
     checkDuplicates(schema, problems);
+    Dataset<Row> kept = filtered(table, settings, problems);
     List<String> partitionColumns = partitionColumns(table, settings);
     List<String> keys = resolveKeys(schema, settings.features().keys(), problems);
     List<StructField> features = resolveFeatures(schema, settings.features(), keys, problems, notes, warnings);
@@ -123,9 +131,32 @@ public final class Planner {
     }
     List<String> types = features.stream().map(f -> f.dataType().simpleString()).toList();
     String kind = settings.apply().appliesModel() ? "apply" : "fit";
-    return new JobPlan(settings, kind, names, types, keys, partitionColumns, rowEstimate(spark, table, settings),
-        TableLoader.sizeBytes(spark, settings.input().path()), choice.method(), choice.reason(), choice.memory(),
-        outputs(settings), notes, warnings);
+    InputSelection selection = selection(table, kept, settings, names, partitionColumns);
+    return new JobPlan(settings, kind, names, types, keys, partitionColumns,
+        rowEstimate(spark, kept, selection, settings), TableLoader.sizeBytes(spark, settings.input().path()),
+        choice.method(), choice.reason(), choice.memory(), outputs(settings), notes, warnings, selection);
+  }
+
+  /** {@code table} filtered by {@code input.where}; {@code table} when unset or when its problem is added. */
+  private static Dataset<Row> filtered(Dataset<Row> table, JobSettings settings, List<String> problems) {
+    if (!settings.input().filtered()) {
+      return table;
+    }
+    String problem = InputFilter.problem(table, settings.input().where());
+    if (problem != null) {
+      problems.add(problem);
+      return table;
+    }
+    return InputFilter.apply(table, settings.input());
+  }
+
+  private static InputSelection selection(Dataset<Row> table, Dataset<Row> kept, JobSettings settings,
+      List<String> features, List<String> partitionColumns) {
+    if (!settings.input().filtered()) {
+      return null;
+    }
+    return InputSelection.of(table, kept, settings.input().where(), settings.input().path(), features,
+        partitionColumns);
   }
 
   /** The method for d features, or null with its problem added when even the chosen method does not fit. */
@@ -265,11 +296,13 @@ public final class Planner {
     return out;
   }
 
-  private static long rowEstimate(SparkSession spark, Dataset<Row> table, JobSettings settings) {
+  /** Rows in the footers of the files the scan reads (those {@code input.where} keeps), or -1 when not cheap. */
+  private static long rowEstimate(SparkSession spark, Dataset<Row> table, InputSelection selection,
+      JobSettings settings) {
     if (settings.input().format() != InputFormat.PARQUET) {
       return -1;
     }
-    String[] files = table.inputFiles();
+    String[] files = selection != null ? selection.files().toArray(String[]::new) : table.inputFiles();
     if (files.length > FOOTER_LIMIT) {
       return -1;
     }

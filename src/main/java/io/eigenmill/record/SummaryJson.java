@@ -42,6 +42,7 @@ public final class SummaryJson {
     m.put("job", s.name());
     m.put("kind", run.plan().kind());
     m.put("input", s.input().path());
+    m.put("input_where", s.input().filtered() ? s.input().where() : null);
     m.put("output", run.outputPath());
     if (run.fit() != null) {
       m.putAll(fitSection(run.fit()));

@@ -104,6 +104,9 @@ public record HeaderModel(
     if (!plan.partitionColumns().isEmpty()) {
       f.add(new Fact("Partitioned by", String.join(", ", plan.partitionColumns())));
     }
+    if (s.input().filtered()) {
+      f.add(new Fact("Rows where", s.input().where()));
+    }
     if (s.apply().appliesModel()) {
       f.add(new Fact("Model applied", s.apply().model()));
     }

@@ -27,6 +27,7 @@ import io.eigenmill.plan.Planner;
 import io.eigenmill.record.RunResult;
 import io.eigenmill.record.SummaryJson;
 import io.eigenmill.report.HtmlReport;
+import io.eigenmill.settings.InvalidJobException;
 import io.eigenmill.settings.JobSettings;
 import java.util.ArrayList;
 import java.util.LinkedHashMap;
@@ -157,6 +158,11 @@ public final class JobRunner {
         return null;
       }
       ScoringStage.Outcome scored = scoring.score(table, !applying);
+      var input = settings.input();
+      if (applying && input.filtered() && scored.monitor().rowsScored() == 0) {
+        throw new InvalidJobException("input.where = \"" + input.where() + "\" selects no rows of input.path = "
+            + input.path() + " (nothing to score)");
+      }
       warnings.addAll(scored.monitor().warnings());
       sample = scored.sample();
       clock.lap("score");

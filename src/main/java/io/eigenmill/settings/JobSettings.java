@@ -46,7 +46,22 @@ public record JobSettings(
         List.copyOf(warnings));
   }
 
-  public record Input(String path, InputFormat format, CorruptFiles corruptFiles) implements Serializable {}
+  /**
+   * @param where a Spark SQL predicate over the input's columns; rows where it is true are the job's input (empty:
+   *     every row). Applied by {@code io.TableLoader.load} before anything else.
+   */
+  public record Input(String path, InputFormat format, CorruptFiles corruptFiles, String where)
+      implements Serializable {
+    /** An input without a row filter. */
+    public Input(String path, InputFormat format, CorruptFiles corruptFiles) {
+      this(path, format, corruptFiles, "");
+    }
+
+    /** True when {@code input.where} is set (not blank). */
+    public boolean filtered() {
+      return !where.isBlank();
+    }
+  }
 
   public record Features(List<String> columns, List<String> exclude, List<String> keys) implements Serializable {}
 

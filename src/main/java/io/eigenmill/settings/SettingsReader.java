@@ -153,7 +153,7 @@ public final class SettingsReader {
     }
     var input = new JobSettings.Input(f.required("input.path"),
         f.choice("input.format", Choices.InputFormat.values()),
-        f.choice("input.corrupt-files", Choices.CorruptFiles.values()));
+        f.choice("input.corrupt-files", Choices.CorruptFiles.values()), f.string("input.where").strip());
     var features = new JobSettings.Features(f.strings("features.columns"), f.strings("features.exclude"),
         f.strings("features.keys"));
     var prepare = new JobSettings.Prepare(f.choice("prepare.scaling", Choices.Scaling.values()),

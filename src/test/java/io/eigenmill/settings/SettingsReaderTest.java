@@ -31,6 +31,8 @@ class SettingsReaderTest {
     JobSettings s = read(MINIMAL);
     assertEquals(ref.getString("input.format"), s.input().format().word());
     assertEquals(ref.getString("input.corrupt-files"), s.input().corruptFiles().word());
+    assertEquals(ref.getString("input.where"), s.input().where());
+    assertFalse(s.input().filtered(), "no row filter by default");
     assertEquals(ref.getStringList("features.columns"), s.features().columns());
     assertEquals(ref.getString("prepare.scaling"), s.prepare().scaling().word());
     assertEquals(ref.getString("prepare.missing"), s.prepare().missing().word());
@@ -51,6 +53,17 @@ class SettingsReaderTest {
     assertEquals(ref.getInt("cluster.restarts"), s.cluster().restarts());
     assertEquals(ref.getString("spark.master"), s.spark().master());
     assertEquals("job", s.name(), "the name defaults to the job file's base name");
+  }
+
+  /** The predicate is read as written (surrounding blanks dropped); Spark checks it against the schema later. */
+  @Test
+  void aRowFilterIsReadAsWritten() {
+    JobSettings s = read(MINIMAL + "input.where = \" date >= '2026-11-01' and region = 'eu' \"\n");
+    assertEquals("date >= '2026-11-01' and region = 'eu'", s.input().where());
+    assertTrue(s.input().filtered());
+    assertFalse(read(MINIMAL + "input.where = \"  \"\n").input().filtered(), "blank: no filter");
+    assertEquals(List.of("job.conf:3: input.where = [1,2]: must be a string"),
+        problems(MINIMAL + "input.where = [1, 2]\n"));
   }
 
   @Test
