@@ -66,8 +66,8 @@ public final class Main {
       secrets.addAll(Redaction.secretValues(settings.spark().conf()));
       spark = Sessions.open(settings);
       if (a.command().equals("plan")) {
-        InputFiles.Check input = InputFiles.check(spark, settings.input());
-        if (!input.skipWarning().isEmpty()) {
+        InputFiles.Check input = settings.input().fromSnapshots() ? null : InputFiles.check(spark, settings.input());
+        if (input != null && !input.skipWarning().isEmpty()) {
           out.println(Redaction.scrub("warning: " + input.skipWarning(), secrets));
         }
         JobPlan plan = JobRunner.plan(spark, settings);

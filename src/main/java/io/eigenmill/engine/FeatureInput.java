@@ -3,7 +3,10 @@ package io.eigenmill.engine;
 import io.eigenmill.math.BlockPrep;
 import io.eigenmill.math.BlockSummary;
 import java.io.Serializable;
+import java.util.ArrayList;
+import java.util.LinkedHashMap;
 import java.util.List;
+import java.util.Map;
 import org.apache.spark.api.java.JavaRDD;
 import org.apache.spark.sql.Column;
 import org.apache.spark.sql.Dataset;
@@ -94,6 +97,60 @@ public final class FeatureInput {
       progress.done(result.counts().rowsRead());
       return result;
     }
+  }
+
+  /**
+   * Runs one keyed pass: as {@link #run}, but every partition keeps one partial per value of the {@code keys}
+   * columns (blocks of {@code capacity} rows per key, see {@link KeyedPasses}) and the partials merge per key on the
+   * driver, each key in the tree an unkeyed pass over that key's rows would use. Keys in the order they first
+   * appear (partition by partition).
+   */
+  public <A extends Serializable> KeyedResult<A> runKeyed(String stage, BlockAggregator<A> aggregator, ReadMode mode,
+      BlockPrep prep, KeyColumns keys, int capacity) {
+    var sc = table.sparkSession().sparkContext();
+    LongAccumulator rows = sc.longAccumulator("eigenmill rows read (" + stage + ")");
+    var spec = new PartitionPasses.PassSpec<>(features.size(), capacity, mode, prep, aggregator, rows);
+    JavaRDD<KeyedPasses.KeyedPartial<A>> partials = keyedPartials(spec, keys);
+    try (Progress progress = Progress.start(table.sparkSession(), stage, rows)) {
+      int p = partials.getNumPartitions();
+      Map<KeyValues, PartialResult<A>> merged = p == 0 ? new LinkedHashMap<>()
+          : KeyedPasses.mergeOnDriver(partials.collect(), p, aggregator);
+      ReadCounts total = new ReadCounts(features.size());
+      merged.values().forEach(r -> total.merge(r.counts()));
+      progress.done(total.rowsRead());
+      return new KeyedResult<>(keys, merged, total, keyedColumnar(keys) != null);
+    }
+  }
+
+  /** What a keyed pass found: the merged partial of each key (first-appearance order) and the counts of all rows. */
+  public record KeyedResult<A extends Serializable>(KeyColumns keys, Map<KeyValues, PartialResult<A>> byKey,
+      ReadCounts total, boolean columnar) {}
+
+  private <A extends Serializable> JavaRDD<KeyedPasses.KeyedPartial<A>> keyedPartials(
+      PartitionPasses.PassSpec<A> spec, KeyColumns keys) {
+    ColumnarScan scan = keyedColumnar(keys);
+    if (scan != null) {
+      int[] keyOrdinals = scan.ordinals(keys.names());
+      return scan.batches().mapPartitionsWithIndex(
+          new KeyedPasses.ColumnarKeyed<>(spec, scan.ordinals(features), kinds, keyOrdinals, keys), false);
+    }
+    List<Column> cols = new ArrayList<>();
+    features.forEach(f -> cols.add(functions.col(f).cast("double")));
+    keys.names().forEach(k -> cols.add(functions.col(k).cast("string")));
+    return table.select(cols.toArray(Column[]::new)).javaRDD()
+        .mapPartitionsWithIndex(new KeyedPasses.RowKeyed<>(spec, keys), false);
+  }
+
+  /** The columnar scan of the features and the key columns, or null (then keyed passes read rows). */
+  private ColumnarScan keyedColumnar(KeyColumns keys) {
+    if (!columnar()) {
+      return null;
+    }
+    List<Column> cols = new ArrayList<>();
+    features.forEach(f -> cols.add(functions.col(f)));
+    keys.names().forEach(k -> cols.add(functions.col(k)));
+    ColumnarScan scan = ColumnarScan.of(table.select(cols.toArray(Column[]::new)));
+    return scan != null && scan.ordinals(features) != null && scan.ordinals(keys.names()) != null ? scan : null;
   }
 
   /** Runs one pass that computes a {@link BlockSummary} per partition ({@link SummaryAggregator}), as above. */

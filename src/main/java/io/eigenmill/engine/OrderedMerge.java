@@ -45,8 +45,52 @@ public final class OrderedMerge {
     return tree(ordered, merge);
   }
 
+  /**
+   * Merges one partial per partition index, {@code slots[p]} null where partition p holds none, in exactly the tree
+   * {@link #merge} builds over P partitions: a null slot stands for an empty partial, the identity of the merge, so
+   * the result is bit for bit what {@link #merge} gives when those partitions hold empty partials (a keyed pass's
+   * partials of one key against a pass over that key's rows alone). Null when every slot is null.
+   */
+  public static <T extends Serializable> T mergeSlots(List<T> slots, Function2<T, T, T> merge) {
+    int p = slots.size();
+    if (p <= DIRECT) {
+      return treeWithGaps(slots, merge);
+    }
+    int fan = (int) Math.ceil(Math.sqrt(p));
+    List<T> groups = new ArrayList<>();
+    for (int from = 0; from < p; from += fan) {
+      groups.add(treeWithGaps(slots.subList(from, Math.min(p, from + fan)), merge));
+    }
+    return treeWithGaps(groups, merge);
+  }
+
+  /** {@link #tree} where null items are the identity (null when all are). */
+  static <T extends Serializable> T treeWithGaps(List<T> items, Function2<T, T, T> merge) {
+    if (items.isEmpty()) {
+      return null;
+    }
+    List<T> level = new ArrayList<>(items);
+    try {
+      while (level.size() > 1) {
+        List<T> next = new ArrayList<>((level.size() + 1) / 2);
+        for (int i = 0; i + 1 < level.size(); i += 2) {
+          T a = level.get(i);
+          T b = level.get(i + 1);
+          next.add(a == null ? b : b == null ? a : merge.call(a, b));
+        }
+        if (level.size() % 2 == 1) {
+          next.add(level.get(level.size() - 1));
+        }
+        level = next;
+      }
+    } catch (Exception e) {
+      throw new IllegalStateException("merging partial results failed", e);
+    }
+    return level.get(0);
+  }
+
   /** Balanced pairwise merge of an ordered list. */
-  static <T extends Serializable> T tree(List<T> items,
+  public static <T extends Serializable> T tree(List<T> items,
       Function2<T, T, T> merge) {
     List<T> level = new ArrayList<>(items);
     try {

@@ -86,15 +86,63 @@ public final class PartitionPasses {
       for (int j = 0; j < ordinals.length; j++) {
         vectors[j] = batch.column(ordinals[j]);
       }
-      int rows = batch.numRows();
-      for (int start = 0; start < rows; ) {
-        int t = sink.room(rows - start);
-        ColumnBlock block = sink.block();
-        for (int j = 0; j < ordinals.length; j++) {
-          copyColumn(vectors[j], kinds[j], start, t, block, j);
-        }
-        sink.commit(t);
-        start += t;
+      copyRows(vectors, kinds, 0, batch.numRows(), sink);
+    }
+  }
+
+  /** Copies rows {@code start .. start + count - 1} of the batch columns {@code vectors} into {@code sink}. */
+  static void copyRows(ColumnVector[] vectors, int[] kinds, int start, int count, SliceSink sink) {
+    int end = start + count;
+    while (start < end) {
+      int t = sink.room(end - start);
+      ColumnBlock block = sink.block();
+      for (int j = 0; j < vectors.length; j++) {
+        copyColumn(vectors[j], kinds[j], start, t, block, j);
+      }
+      sink.commit(t);
+      start += t;
+    }
+  }
+
+  /**
+   * Copies the batch rows {@code rows[from .. from + count - 1]} (in that order) of the columns {@code vectors} into
+   * {@code sink}: the gathered form of {@link #copyRows}, for rows of one key scattered through a batch.
+   */
+  static void gatherRows(ColumnVector[] vectors, int[] kinds, int[] rows, int from, int count, SliceSink sink) {
+    int end = from + count;
+    while (from < end) {
+      int t = sink.room(end - from);
+      ColumnBlock block = sink.block();
+      for (int j = 0; j < vectors.length; j++) {
+        gatherColumn(vectors[j], kinds[j], rows, from, t, block, j);
+      }
+      sink.commit(t);
+      from += t;
+    }
+  }
+
+  /**
+   * Column j of {@link #gatherRows}: the same values and missing cells as {@link #copyColumn} gives for the same rows
+   * (a null cell never read, NaN and infinities missing, the sink's origin subtracted), one value at a time.
+   */
+  static void gatherColumn(ColumnVector v, int kind, int[] rows, int from, int t, BlockSink sink, int j) {
+    double[] dst = sink.block();
+    int off = j * sink.ld() + sink.base();
+    double[] origin = sink.origin();
+    double o = origin == null ? 0.0 : origin[j];
+    double[] heap = kind == DOUBLE ? HeapColumns.doubles(v) : null;
+    boolean nulls = v.hasNull();
+    for (int i = 0; i < t; i++) {
+      int r = rows[from + i];
+      if (nulls && v.isNullAt(r)) {
+        sink.markMissing(i, j);
+        continue;
+      }
+      double x = heap != null ? heap[r] : kind == DOUBLE ? v.getDouble(r) : kind == FLOAT ? v.getFloat(r)
+          : exactValue(v, kind, r);
+      dst[off + i] = x - o;
+      if (x - x != 0.0) {
+        sink.markMissing(i, j);
       }
     }
   }
@@ -221,29 +269,33 @@ public final class PartitionPasses {
       BlockFiller<A> filler = spec.filler();
       int d = spec.d();
       while (rows.hasNext()) {
-        Row row = rows.next();
-        filler.room(1);
-        ColumnBlock block = filler.block();
-        double[] dst = block.block();
-        int base = block.base();
-        int ld = block.ld();
-        double[] origin = block.origin();
-        for (int j = 0; j < d; j++) {
-          if (row.isNullAt(j)) {
-            block.markMissing(0, j);
-            continue;
-          }
-          double x = row.getDouble(j);
-          dst[j * ld + base] = origin == null ? x : x - origin[j];
-          if (Double.isNaN(x) || Double.isInfinite(x)) {
-            block.markMissing(0, j);
-          }
-        }
-        filler.commit(1);
+        copyRow(rows.next(), d, filler);
       }
       PartialResult<A> result = filler.finish();
       spec.rowsRead().add(result.counts().rowsRead());
       return List.of(result).iterator();
+    }
+
+    /** Copies the d doubles at the start of {@code row} into {@code sink} as one slice of one row. */
+    static void copyRow(Row row, int d, SliceSink sink) {
+      sink.room(1);
+      ColumnBlock block = sink.block();
+      double[] dst = block.block();
+      int base = block.base();
+      int ld = block.ld();
+      double[] origin = block.origin();
+      for (int j = 0; j < d; j++) {
+        if (row.isNullAt(j)) {
+          block.markMissing(0, j);
+          continue;
+        }
+        double x = row.getDouble(j);
+        dst[j * ld + base] = origin == null ? x : x - origin[j];
+        if (Double.isNaN(x) || Double.isInfinite(x)) {
+          block.markMissing(0, j);
+        }
+      }
+      sink.commit(1);
     }
   }
 

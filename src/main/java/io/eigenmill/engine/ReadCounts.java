@@ -14,6 +14,15 @@ public final class ReadCounts implements Serializable {
     missingCells = new long[d];
   }
 
+  /** Counts known from elsewhere (a snapshot store's): rows read, rows dropped, missing cells per feature. */
+  public static ReadCounts of(long rowsRead, long rowsDropped, long[] missingCells) {
+    ReadCounts c = new ReadCounts(missingCells.length);
+    c.rowsRead = rowsRead;
+    c.rowsDropped = rowsDropped;
+    System.arraycopy(missingCells, 0, c.missingCells, 0, missingCells.length);
+    return c;
+  }
+
   public long rowsRead() {
     return rowsRead;
   }

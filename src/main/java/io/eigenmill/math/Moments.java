@@ -318,6 +318,71 @@ public final class Moments implements BlockSummary<Moments> {
     return c;
   }
 
+  /**
+   * The state to keep between runs (a snapshot): count, the shift (the fixed origin of the means), the mean relative
+   * to the shift, and the upper triangle of the co-moment matrix packed column by column (entry (i, j), i <= j, at
+   * j (j + 1) / 2 + i). {@link #restore} rebuilds these moments bit for bit. Requires the Gram.
+   */
+  public State state() {
+    if (!gram) {
+      throw new IllegalStateException("these moments keep only the variances; a snapshot needs the co-moments");
+    }
+    double[] packed = new double[d * (d + 1) / 2];
+    int at = 0;
+    for (int j = 0; j < d; j++) {
+      for (int i = 0; i <= j; i++) {
+        packed[at++] = m2[i + j * d];
+      }
+    }
+    return new State(n, shift.clone(), mean.clone(), packed);
+  }
+
+  /**
+   * The moments of the columns {@code cols} of these (in that order): the same count, the columns' means and the
+   * co-moments among them, exactly (values are copied, nothing is recomputed). Requires the Gram.
+   */
+  public Moments select(int[] cols) {
+    if (!gram) {
+      throw new IllegalStateException("these moments keep only the variances, not the co-moments");
+    }
+    int e = cols.length;
+    Moments m = empty(e, true);
+    m.n = n;
+    for (int a = 0; a < e; a++) {
+      m.shift[a] = shift[cols[a]];
+      m.mean[a] = mean[cols[a]];
+      for (int b = a; b < e; b++) {
+        int i = Math.min(cols[a], cols[b]);
+        int j = Math.max(cols[a], cols[b]);
+        m.m2[a + b * e] = m2[i + j * d];
+      }
+    }
+    return m;
+  }
+
+  /** See {@link #state}: arrays of d, d and d (d + 1) / 2 values. */
+  public record State(long n, double[] shift, double[] mean, double[] packedM2) {}
+
+  /** The moments (with the Gram) whose {@link #state} is {@code s}; bit for bit. */
+  public static Moments restore(State s) {
+    int d = s.shift().length;
+    if (s.mean().length != d || s.packedM2().length != d * (d + 1) / 2 || s.n() < 0) {
+      throw new IllegalArgumentException("a moments state of " + d + " columns needs " + d + " means and "
+          + d * (d + 1) / 2 + " co-moments, not " + s.mean().length + " and " + s.packedM2().length);
+    }
+    Moments m = empty(d, true);
+    m.n = s.n();
+    System.arraycopy(s.shift(), 0, m.shift, 0, d);
+    System.arraycopy(s.mean(), 0, m.mean, 0, d);
+    int at = 0;
+    for (int j = 0; j < d; j++) {
+      for (int i = 0; i <= j; i++) {
+        m.m2[i + j * d] = s.packedM2()[at++];
+      }
+    }
+    return m;
+  }
+
   /** The serialized form: d, gram flag, n, shift, mean relative to the shift, m2 (big-endian). */
   public byte[] toBytes() {
     ByteBuffer buf = ByteBuffer.allocate(4 + 1 + 8 + 8 * (shift.length + mean.length + m2.length));

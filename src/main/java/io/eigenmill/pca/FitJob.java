@@ -2,6 +2,13 @@ package io.eigenmill.pca;
 
 import io.eigenmill.Version;
 import io.eigenmill.engine.FeatureInput;
+import io.eigenmill.engine.OrderedMerge;
+import io.eigenmill.engine.SummaryAggregator;
+import io.eigenmill.io.Snapshot;
+import io.eigenmill.io.SnapshotEntry;
+import io.eigenmill.io.SnapshotKey;
+import io.eigenmill.io.SnapshotStore;
+import io.eigenmill.plan.SnapshotPlan;
 import io.eigenmill.engine.PartialResult;
 import io.eigenmill.engine.ReadCounts;
 import io.eigenmill.engine.ReadMode;
@@ -62,6 +69,9 @@ public final class FitJob {
    * column-means, tsqr or moments, the method, model.
    */
   public FitResult execute(Dataset<Row> table) {
+    if (plan.settings().input().fromSnapshots()) {
+      return executeFromSnapshots();
+    }
     Stopwatch clock = new Stopwatch();
     List<String> warnings = new ArrayList<>();
     FeatureInput input = open(table);
@@ -69,6 +79,65 @@ public final class FitJob {
     Imputation impute = imputation(input, clock);
     FirstPass first = firstPass(input, impute, clock);
     checkRows(first.counts(), first.used(), plan.settings().prepare().missing());
+    return finish(input, impute, first, clock, warnings);
+  }
+
+  /**
+   * The fit from {@code input.snapshots}: the selected snapshots' moments (of the planned features) merged in key
+   * order as a balanced tree, then the same steps as a fit over their rows. Timings keys: snapshots (read and
+   * merge), covariance, model.
+   */
+  private FitResult executeFromSnapshots() {
+    Stopwatch clock = new Stopwatch();
+    JobSettings.Input in = plan.settings().input();
+    SnapshotStore store = SnapshotStore.open(spark.sparkContext().hadoopConfiguration(), "input.snapshots",
+        in.snapshots(), false);
+    List<Snapshot> snaps = store.readAll(plan.snapshots().selected());
+    List<String> stored = snaps.get(0).features();
+    int d = plan.d();
+    int[] cols = new int[d];
+    for (int j = 0; j < d; j++) {
+      cols[j] = stored.indexOf(plan.features().get(j));
+    }
+    List<Moments> parts = new ArrayList<>();
+    List<SnapshotUse.KeyRows> keys = new ArrayList<>();
+    long[] missing = new long[d];
+    for (Snapshot s : snaps) {
+      long read = 0;
+      long used = 0;
+      for (SnapshotEntry e : s.entries()) {
+        parts.add(Moments.restore(new Moments.State(e.n(), e.shift(), e.mean(), e.packedM2())).select(cols));
+        read += e.rowsRead();
+        used += e.rowsUsed();
+        for (int j = 0; j < d; j++) {
+          missing[j] += e.missingCells()[cols[j]];
+        }
+      }
+      keys.add(new SnapshotUse.KeyRows(s.key().values(), s.key().display(), read, used));
+    }
+    Moments merged = OrderedMerge.tree(parts, Moments::merge);
+    ReadCounts counts = ReadCounts.of(0, 0, missing);
+    clock.lap("snapshots");
+    LOG.info("fit: merged {} snapshots of {} ({} rows), reading no rows", snaps.size(), in.snapshots(),
+        merged.count());
+    if (plan.settings().prepare().missing() == MissingPolicy.FAIL && counts.totalMissingCells() > 0) {
+      throw new InvalidJobException("prepare.missing = fail: the rows of the selected snapshots had missing values"
+          + " (null, NaN or infinite; those rows are not in the moments): " + missingSummary(counts)
+          + "; set prepare.missing = drop-rows to fit on the complete rows");
+    }
+    if (merged.count() < 2) {
+      throw new InvalidJobException(in.named() + (in.filtered() ? " where " + in.where() : "") + ": the selected"
+          + " snapshots hold " + merged.count() + " usable row" + (merged.count() == 1 ? "" : "s")
+          + "; a PCA needs at least 2 rows");
+    }
+    SnapshotUse use = new SnapshotUse(in.snapshots(), false, plan.snapshots().by().names(), keys, List.of());
+    return finish(null, new Imputation(null, 0, 0), new FirstPass(null, merged, counts, use), clock,
+        new ArrayList<>());
+  }
+
+  /** The steps after the first pass: kept columns, scales, the decomposition, k, the model. */
+  private FitResult finish(FeatureInput input, Imputation impute, FirstPass first, Stopwatch clock,
+      List<String> warnings) {
     List<String> dropped = new ArrayList<>();
     int[] keep = keptColumns(first.means(), first.variances(), dropped);
     warnAboutLostData(first.counts(), dropped, warnings);
@@ -84,7 +153,8 @@ public final class FitJob {
         firstRatios(spectrum, Math.min(3, spectrum.available())));
     ReadCounts counts = first.counts();
     return new FitResult(plan, model, spectrum, dropped, counts.rowsRead(), counts.rowsDropped(), impute.cells(),
-        counts.missingCells(), input.columnar(), passes(impute), rule, Linalg.describe(), clock.timings(), warnings);
+        counts.missingCells(), input != null && input.columnar(), input == null ? 0 : passes(impute), rule,
+        Linalg.describe(), clock.timings(), warnings, first.snapshots());
   }
 
   /** The imputation values of impute-mean (null otherwise), the cells they fill and the pass that found them. */
@@ -98,7 +168,11 @@ public final class FitJob {
    * The first pass over the rows: TSQR's R factor of the centred rows (with count and means), or the moments (with
    * the full Gram for the covariance method); exactly one of the two is set.
    */
-  private record FirstPass(RFactor rFactor, Moments moments, ReadCounts counts) {
+  private record FirstPass(RFactor rFactor, Moments moments, ReadCounts counts, SnapshotUse snapshots) {
+    FirstPass(RFactor rFactor, Moments moments, ReadCounts counts) {
+      this(rFactor, moments, counts, null);
+    }
+
     long used() {
       return rFactor != null ? rFactor.count() : moments.count();
     }
@@ -142,10 +216,48 @@ public final class FitJob {
       clock.lap("tsqr");
       return new FirstPass(pass.value(), null, pass.counts());
     }
+    SnapshotPlan snapshots = plan.snapshots();
+    if (snapshots != null && snapshots.writing()) {
+      return keyedMoments(input, mode, imputation, snapshots, clock);
+    }
     PartialResult<Moments> pass = input.run("fit/moments",
           Moments.factory(d, plan.method() == Method.COVARIANCE), mode, imputation);
     clock.lap("moments");
     return new FirstPass(null, pass.value(), pass.counts());
+  }
+
+  /**
+   * The first pass of a fit that writes snapshots: the moments of each value of {@code snapshots.by} (one keyed
+   * pass, blocks of {@code reduce.block-rows} rows per key), kept as the snapshots to write, and merged in the order
+   * the keys appeared (a balanced tree) into the moments of all rows.
+   */
+  private FirstPass keyedMoments(FeatureInput input, ReadMode mode, BlockPrep imputation, SnapshotPlan snapshots,
+      Stopwatch clock) {
+    int d = plan.d();
+    FeatureInput.KeyedResult<Moments> keyed = input.runKeyed("fit/moments", new SummaryAggregator<>(
+        Moments.factory(d, true)), mode, imputation, snapshots.by(), plan.settings().reduce().blockRows());
+    List<Snapshot> pending = new ArrayList<>();
+    List<SnapshotUse.KeyRows> keys = new ArrayList<>();
+    List<Moments> parts = new ArrayList<>();
+    String fingerprint = PcaModel.fingerprint(plan.features(), plan.featureTypes());
+    for (var e : keyed.byKey().entrySet()) {
+      Moments m = e.getValue().value();
+      ReadCounts c = e.getValue().counts();
+      Moments.State state = m.state();
+      SnapshotKey key = new SnapshotKey(snapshots.by().names(), snapshots.by().types(), e.getKey().texts());
+      pending.add(new Snapshot(key, SnapshotStore.FORMAT_VERSION, Version.current(), plan.features(),
+          plan.featureTypes(), fingerprint, List.of(), List.of(), plan.settings().input().path(), List.of(
+              new SnapshotEntry(null, c.rowsRead(), m.count(), c.missingCells(), state.n(), state.shift(),
+                  state.mean(), state.packedM2()))));
+      keys.add(new SnapshotUse.KeyRows(e.getKey().texts(), key.display(), c.rowsRead(), m.count()));
+      parts.add(Moments.restore(state));
+    }
+    Moments all = parts.isEmpty() ? Moments.empty(d, true) : OrderedMerge.tree(parts, Moments::merge);
+    clock.lap("moments");
+    LOG.info("fit: moments of {} snapshot keys ({}) to write to {}", keys.size(),
+        String.join(", ", snapshots.by().names()), snapshots.store());
+    return new FirstPass(null, all, keyed.total(), new SnapshotUse(snapshots.store(), true,
+        snapshots.by().names(), keys, pending));
   }
 
   private void warnAboutLostData(ReadCounts counts, List<String> dropped, List<String> warnings) {

@@ -12,6 +12,7 @@ import java.util.Map;
  *
  * @param missingCells per planned feature, cells that were null, NaN or infinite
  * @param kRule how k was chosen, in words
+ * @param snapshots what the fit wrote to or merged from a snapshot store; null without one
  */
 public record FitResult(
     JobPlan plan,
@@ -27,7 +28,21 @@ public record FitResult(
     String kRule,
     String blas,
     Map<String, Double> timings,
-    List<String> warnings) {
+    List<String> warnings,
+    SnapshotUse snapshots) {
+
+  /** A fit without a snapshot store. */
+  public FitResult(JobPlan plan, PcaModel model, Spectrum spectrum, List<String> droppedConstant, long rowsRead,
+      long rowsDropped, long imputedCells, long[] missingCells, boolean columnarRead, int passes, String kRule,
+      String blas, Map<String, Double> timings, List<String> warnings) {
+    this(plan, model, spectrum, droppedConstant, rowsRead, rowsDropped, imputedCells, missingCells, columnarRead,
+        passes, kRule, blas, timings, warnings, null);
+  }
+
+  /** True when the fit merged snapshots instead of reading rows. */
+  public boolean fromSnapshots() {
+    return snapshots != null && !snapshots.written();
+  }
 
   public long rowsUsed() {
     return model.rows();

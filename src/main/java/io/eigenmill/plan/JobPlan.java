@@ -29,7 +29,17 @@ public record JobPlan(
     List<String> outputs,
     List<String> notes,
     List<String> warnings,
-    InputSelection selection) {
+    InputSelection selection,
+    SnapshotPlan snapshots) {
+
+  /** A plan without a snapshot store. */
+  public JobPlan(JobSettings settings, String kind, List<String> features, List<String> featureTypes,
+      List<String> keys, List<String> partitionColumns, long rowEstimate, long inputBytes, Method method,
+      String methodReason, MemoryEstimate memory, List<String> outputs, List<String> notes, List<String> warnings,
+      InputSelection selection) {
+    this(settings, kind, features, featureTypes, keys, partitionColumns, rowEstimate, inputBytes, method,
+        methodReason, memory, outputs, notes, warnings, selection, null);
+  }
 
   /** A plan of an unfiltered input. */
   public JobPlan(JobSettings settings, String kind, List<String> features, List<String> featureTypes,
@@ -56,15 +66,23 @@ public record JobPlan(
     StringBuilder s = new StringBuilder();
     JobSettings j = settings;
     line(s, "job", j.name() + " (" + kind + ", from " + j.sourceFile() + ")");
-    line(s, "input", j.input().path() + " [" + j.input().format().word() + "]"
-        + (inputBytes >= 0 ? ", " + MemoryEstimate.human(inputBytes) : "")
-        + (rowEstimate >= 0 ? ", " + String.format(java.util.Locale.ROOT, "%,d", rowEstimate) + " rows (footers"
-            + (selection != null ? ", kept files" : "") + ")" : ", rows not counted"));
+    String rows = rowEstimate >= 0 ? ", " + String.format(java.util.Locale.ROOT, "%,d", rowEstimate) + " rows ("
+        + (j.input().fromSnapshots() ? "in the selected snapshots" : "footers" + (selection != null ? ", kept files"
+        : "")) + ")" : ", rows not counted";
+    line(s, "input", (j.input().fromSnapshots() ? "snapshot store " + j.input().snapshots()
+        + (j.input().filtered() ? " where " + j.input().where() : "") : j.input().path() + " ["
+        + j.input().format().word() + "]" + (inputBytes >= 0 ? ", " + MemoryEstimate.human(inputBytes) : ""))
+        + rows);
     if (!partitionColumns.isEmpty()) {
       line(s, "partitioned by", String.join(", ", partitionColumns));
     }
     if (selection != null) {
       for (String[] l : selection.describe()) {
+        line(s, l[0], l[1]);
+      }
+    }
+    if (snapshots != null) {
+      for (String[] l : snapshots.describe()) {
         line(s, l[0], l[1]);
       }
     }

@@ -44,6 +44,9 @@ public final class Planner {
     if (settings.apply().appliesModel()) {
       return planApply(spark, settings, ModelStore.read(spark, "apply.model", settings.apply().model()));
     }
+    if (settings.input().fromSnapshots()) {
+      return SnapshotPlanner.planFit(spark, settings);
+    }
     Dataset<Row> table = TableLoader.read(spark, settings.input());
     return plan(spark, settings, table);
   }
@@ -126,6 +129,8 @@ public final class Planner {
     List<String> names = features.stream().map(StructField::name).toList();
     ClusterColumns.check(settings, schema, keys, names, problems);
     MethodChoice.Choice choice = d == 0 ? null : choose(spark, settings, d, problems);
+    SnapshotPlan snapshots = !settings.output().writesSnapshots() || d == 0 ? null
+        : SnapshotPlanner.planWrite(spark, settings, schema, partitionColumns, names, choice, problems);
     if (!problems.isEmpty()) {
       throw new InvalidJobException(problems);
     }
@@ -134,7 +139,7 @@ public final class Planner {
     InputSelection selection = selection(table, kept, settings, names, partitionColumns);
     return new JobPlan(settings, kind, names, types, keys, partitionColumns,
         rowEstimate(spark, kept, selection, settings), TableLoader.sizeBytes(spark, settings.input().path()),
-        choice.method(), choice.reason(), choice.memory(), outputs(settings), notes, warnings, selection);
+        choice.method(), choice.reason(), choice.memory(), outputs(settings), notes, warnings, selection, snapshots);
   }
 
   /** {@code table} filtered by {@code input.where}; {@code table} when unset or when its problem is added. */
@@ -160,7 +165,7 @@ public final class Planner {
   }
 
   /** The method for d features, or null with its problem added when even the chosen method does not fit. */
-  private static MethodChoice.Choice choose(SparkSession spark, JobSettings settings, int d, List<String> problems) {
+  static MethodChoice.Choice choose(SparkSession spark, JobSettings settings, int d, List<String> problems) {
     try {
       return MethodChoice.choose(settings.reduce(), d, driverHeap(spark), taskHeap(spark));
     } catch (InvalidJobException e) {
@@ -169,7 +174,7 @@ public final class Planner {
     }
   }
 
-  private static void checkDuplicates(StructType schema, List<String> problems) {
+  static void checkDuplicates(StructType schema, List<String> problems) {
     Set<String> seen = new LinkedHashSet<>();
     for (String name : schema.fieldNames()) {
       if (!seen.add(name.toLowerCase(Locale.ROOT))) {
@@ -197,7 +202,7 @@ public final class Planner {
    * {@code features.exclude}. A glob never picks a key column; when the user's own glob matches a numeric key that
    * {@code features.exclude} does not remove, a warning says that the column is used as a key only.
    */
-  private static List<StructField> resolveFeatures(StructType schema, JobSettings.Features f, List<String> keys,
+  static List<StructField> resolveFeatures(StructType schema, JobSettings.Features f, List<String> keys,
       List<String> problems, List<String> notes, List<String> warnings) {
     Set<String> chosen = new LinkedHashSet<>();
     Map<String, String> keysMatched = new LinkedHashMap<>();
@@ -318,7 +323,7 @@ public final class Planner {
     return rows;
   }
 
-  private static List<String> outputs(JobSettings s) {
+  static List<String> outputs(JobSettings s) {
     List<String> out = new ArrayList<>(List.of("summary.json", "report.html"));
     if (s.apply().appliesModel()) {
       out.add("scores/");

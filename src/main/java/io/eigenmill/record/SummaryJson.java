@@ -41,11 +41,15 @@ public final class SummaryJson {
     m.put("version", Version.current());
     m.put("job", s.name());
     m.put("kind", run.plan().kind());
-    m.put("input", s.input().path());
+    m.put("input", s.input().fromSnapshots() ? s.input().snapshots() : s.input().path());
     m.put("input_where", s.input().filtered() ? s.input().where() : null);
+    m.put("source", s.input().fromSnapshots() ? "snapshots" : "table");
     m.put("output", run.outputPath());
     if (run.fit() != null) {
       m.putAll(fitSection(run.fit()));
+      if (run.fit().snapshots() != null) {
+        m.put("snapshots", snapshotSection(run.fit().snapshots()));
+      }
     } else {
       m.put("model", modelSection(run.model(), s.apply().model()));
     }
@@ -71,6 +75,31 @@ public final class SummaryJson {
     m.put("timings_seconds", run.timings());
     m.put("warnings", run.warnings());
     m.put("total_seconds", run.totalSeconds());
+    return m;
+  }
+
+  /**
+   * The snapshot store a fit wrote to ({@code written}: true) or merged from: its path, the key columns and each
+   * key with its rows (read, and used in the moments).
+   */
+  static Map<String, Object> snapshotSection(io.eigenmill.pca.SnapshotUse use) {
+    Map<String, Object> m = new LinkedHashMap<>();
+    m.put("store", use.store());
+    m.put("written", use.written());
+    m.put("key_columns", use.keyColumns());
+    List<Map<String, Object>> keys = new java.util.ArrayList<>();
+    for (var k : use.keys()) {
+      Map<String, Object> key = new LinkedHashMap<>();
+      Map<String, String> values = new LinkedHashMap<>();
+      for (int i = 0; i < use.keyColumns().size(); i++) {
+        values.put(use.keyColumns().get(i), k.values().get(i));
+      }
+      key.put("key", values);
+      key.put("rows_read", k.rowsRead());
+      key.put("rows_used", k.rowsUsed());
+      keys.add(key);
+    }
+    m.put("keys", keys);
     return m;
   }
 

@@ -5,6 +5,7 @@ import io.eigenmill.io.InputFiles;
 import io.eigenmill.io.ModelStore;
 import io.eigenmill.io.OutputCommit;
 import io.eigenmill.io.PcaModel;
+import io.eigenmill.io.SnapshotStore;
 import io.eigenmill.io.TableLoader;
 import io.eigenmill.io.WriterSession;
 import io.eigenmill.kmeans.ClusterOutcome;
@@ -70,7 +71,10 @@ public final class JobRunner {
     SparkSession spark = WriterSession.of(caller, settings.spark().conf());
     // every Parquet footer is read before anything else: an unreadable file fails the run here (exit 2, naming it)
     // or, with input.corrupt-files = skip, is left out and reported
-    String skipped = InputFiles.check(spark, settings.input()).skipWarning();
+    String skipped = settings.input().fromSnapshots() ? "" : InputFiles.check(spark, settings.input()).skipWarning();
+    // a store path that is not a store fails here, before any work (an absent or empty folder becomes a store)
+    SnapshotStore store = settings.output().writesSnapshots() ? SnapshotStore.open(
+        spark.sparkContext().hadoopConfiguration(), "output.snapshots", settings.output().snapshots(), true) : null;
     boolean applying = settings.apply().appliesModel();
     PcaModel applied = applying ? ModelStore.read(spark, "apply.model", settings.apply().model()) : null;
     PcaModel earlier = settings.apply().compareWith().isEmpty() ? null
@@ -84,6 +88,7 @@ public final class JobRunner {
       RunResult result = execute(spark, plan, applied, earlier, out, started, skipped);
       out.writeText("summary.json", SummaryJson.render(result));
       out.writeText("report.html", HtmlReport.render(result));
+      commitSnapshots(store, result);
       out.commit();
       LOG.info("run: committed {}", out.finalPath());
       return result;
@@ -93,10 +98,24 @@ public final class JobRunner {
     }
   }
 
+  /**
+   * Commits the snapshots a fit wrote, once every other output is staged: the store gets all of them or none
+   * ({@link SnapshotStore#commit}); the output folder is committed after it.
+   */
+  private static void commitSnapshots(SnapshotStore store, RunResult result) {
+    if (store == null || result.fit() == null || result.fit().snapshots() == null) {
+      return;
+    }
+    var pending = result.fit().snapshots().pending();
+    store.commit(pending);
+    LOG.info("run: {} snapshot{} committed to {}", pending.size(), pending.size() == 1 ? "" : "s", store.path());
+  }
+
   private static RunResult execute(SparkSession spark, JobPlan plan, PcaModel applied, PcaModel earlier,
       OutputCommit out, long started, String skipped) {
     Steps run = new Steps(spark, plan, out, skipped);
-    Dataset<Row> table = TableLoader.load(spark, plan.settings().input());
+    Dataset<Row> table = plan.settings().input().fromSnapshots() ? null
+        : TableLoader.load(spark, plan.settings().input());
     FitResult fit = applied == null ? run.fit(table) : null;
     PcaModel model = fit == null ? applied : fit.model();
     ScoringStage scoring = new ScoringStage(spark, plan, model, out);

@@ -50,11 +50,26 @@ public record JobSettings(
    * @param where a Spark SQL predicate over the input's columns; rows where it is true are the job's input (empty:
    *     every row). Applied by {@code io.TableLoader.load} before anything else.
    */
-  public record Input(String path, InputFormat format, CorruptFiles corruptFiles, String where)
+  public record Input(String path, InputFormat format, CorruptFiles corruptFiles, String where, String snapshots)
       implements Serializable {
     /** An input without a row filter. */
     public Input(String path, InputFormat format, CorruptFiles corruptFiles) {
       this(path, format, corruptFiles, "");
+    }
+
+    /** A table input (not a snapshot store). */
+    public Input(String path, InputFormat format, CorruptFiles corruptFiles, String where) {
+      this(path, format, corruptFiles, where, "");
+    }
+
+    /** True when the job fits from a snapshot store ({@code input.snapshots}) instead of a table. */
+    public boolean fromSnapshots() {
+      return !snapshots.isBlank();
+    }
+
+    /** What the input is, for messages: {@code input.path = P} or {@code input.snapshots = P}. */
+    public String named() {
+      return fromSnapshots() ? "input.snapshots = " + snapshots : "input.path = " + path;
     }
 
     /** True when {@code input.where} is set (not blank). */
@@ -106,9 +121,22 @@ public record JobSettings(
       String entity,
       boolean entitySpread) implements Serializable {}
 
+  /**
+   * @param snapshots a snapshot store the fit also writes its moments to, one snapshot per value of
+   *     {@code snapshotsBy} ({@code output.snapshots}; empty: none)
+   * @param snapshotsBy the key columns of the snapshots ({@code snapshots.by}; empty: the input's partition columns)
+   */
   public record Output(
-      String path, OutputMode mode, boolean scores, boolean reconstruction, int reportSample)
-      implements Serializable {}
+      String path, OutputMode mode, boolean scores, boolean reconstruction, int reportSample, String snapshots,
+      List<String> snapshotsBy) implements Serializable {
+    public Output(String path, OutputMode mode, boolean scores, boolean reconstruction, int reportSample) {
+      this(path, mode, scores, reconstruction, reportSample, "", List.of());
+    }
+
+    public boolean writesSnapshots() {
+      return !snapshots.isBlank();
+    }
+  }
 
   public record SparkSection(String master, Map<String, String> conf) implements Serializable {}
 }

@@ -151,9 +151,15 @@ public final class SettingsReader {
     if (name.isEmpty()) {
       name = source.replaceFirst("\\.conf$", "");
     }
-    var input = new JobSettings.Input(f.required("input.path"),
-        f.choice("input.format", Choices.InputFormat.values()),
-        f.choice("input.corrupt-files", Choices.CorruptFiles.values()), f.string("input.where").strip());
+    String snapshotsIn = f.string("input.snapshots").strip();
+    String inputPath = snapshotsIn.isEmpty() ? f.required("input.path") : f.string("input.path");
+    if (!snapshotsIn.isEmpty() && !inputPath.isBlank()) {
+      f.problem("input.snapshots", "input.snapshots = " + snapshotsIn + " and input.path = " + inputPath
+          + " are both set: a fit reads either a table or a snapshot store; remove one");
+    }
+    var input = new JobSettings.Input(inputPath, f.choice("input.format", Choices.InputFormat.values()),
+        f.choice("input.corrupt-files", Choices.CorruptFiles.values()), f.string("input.where").strip(),
+        snapshotsIn);
     var features = new JobSettings.Features(f.strings("features.columns"), f.strings("features.exclude"),
         f.strings("features.keys"));
     var prepare = new JobSettings.Prepare(f.choice("prepare.scaling", Choices.Scaling.values()),
@@ -182,9 +188,77 @@ public final class SettingsReader {
         f.bool("cluster.entity-spread"));
     var output = new JobSettings.Output(f.required("output.path"),
         f.choice("output.mode", Choices.OutputMode.values()), f.bool("output.scores"),
-        f.bool("output.reconstruction"), f.intIn("output.report-sample", 0, 50_000));
+        f.bool("output.reconstruction"), f.intIn("output.report-sample", 0, 50_000),
+        f.string("output.snapshots").strip(), f.strings("snapshots.by"));
+    if (!input.fromSnapshots() || !output.writesSnapshots()) {
+      snapshotRules(f, input, output, apply, cluster, reduce, prepare);
+    } else {
+      f.problem("output.snapshots", "output.snapshots = " + output.snapshots() + " with input.snapshots = "
+          + input.snapshots() + ": a fit from snapshots reads no rows, so it has no new snapshots to write;"
+          + " remove output.snapshots");
+    }
     var spark = new JobSettings.SparkSection(f.string("spark.master"), f.sparkConf());
     return new JobSettings(name, source, input, features, prepare, reduce, monitor, apply, cluster, output, spark);
+  }
+
+  /**
+   * What a snapshot store asks of the other settings. Writing ({@code output.snapshots}): a fit (not an apply job)
+   * with the covariance method, whose first pass computes the moments a snapshot keeps, and without impute-mean,
+   * whose filled cells depend on the means of the run's whole input. Reading ({@code input.snapshots}): a fit that
+   * needs no rows (no scores, clusters, reconstruction, labels) by the covariance method, without impute-mean
+   * (moments of complete rows cannot tell what a mean-filled cell would have added).
+   */
+  private static void snapshotRules(Fields f, JobSettings.Input input, JobSettings.Output output,
+      JobSettings.Apply apply, JobSettings.Cluster cluster, JobSettings.Reduce reduce, JobSettings.Prepare prepare) {
+    boolean writing = output.writesSnapshots();
+    boolean reading = input.fromSnapshots();
+    if (!writing && !reading) {
+      if (f.userSet("snapshots.by")) {
+        f.problem("snapshots.by", "snapshots.by = " + output.snapshotsBy() + " has no effect without"
+            + " output.snapshots (the store the snapshots go to); set output.snapshots or remove snapshots.by");
+      }
+      return;
+    }
+    String key = writing ? "output.snapshots" : "input.snapshots";
+    String named = key + " = " + (writing ? output.snapshots() : input.snapshots());
+    if (apply.appliesModel()) {
+      f.problem(key, named + " with apply.model = " + apply.model() + ": snapshots are a fit's moments; an apply"
+          + " job neither writes nor reads them");
+    }
+    if (reduce.method() != Choices.Method.AUTO && reduce.method() != Choices.Method.COVARIANCE) {
+      f.problem(key, named + " with reduce.method = " + reduce.method().word() + ": snapshots hold the"
+          + " covariance method's moments; set reduce.method = covariance (or auto)");
+    }
+    if (prepare.missing() == Choices.MissingPolicy.IMPUTE_MEAN) {
+      f.problem(key, named + " with prepare.missing = impute-mean: a cell filled with the mean of one run's"
+          + " input changes the co-moments by amounts that depend on that run's whole input, so snapshots of"
+          + " several runs could not be merged into the moments of a fit over their rows; set prepare.missing ="
+          + " drop-rows (or fail)");
+    }
+    if (reading) {
+      if (f.userSet("snapshots.by")) {
+        f.problem("snapshots.by", "snapshots.by = " + output.snapshotsBy() + " with input.snapshots: the keys"
+            + " are the store's own; select them with input.where");
+      }
+      List<String> rowOutputs = new ArrayList<>();
+      if (output.scores()) {
+        rowOutputs.add("output.scores = true");
+      }
+      if (output.reconstruction()) {
+        rowOutputs.add("output.reconstruction = true");
+      }
+      if (cluster.enabled()) {
+        rowOutputs.add("cluster.enabled = true");
+      }
+      if (!apply.centroids().isEmpty()) {
+        rowOutputs.add("apply.centroids = " + apply.centroids());
+      }
+      if (!rowOutputs.isEmpty()) {
+        f.problem(key, named + " with " + String.join(", ", rowOutputs) + ": a fit from snapshots reads no rows,"
+            + " so it has none to score or cluster; fit from snapshots, then apply the model to the rows"
+            + " (apply.model)");
+      }
+    }
   }
 
   /** Typed getters that record a problem instead of throwing, so that all problems are reported together. */

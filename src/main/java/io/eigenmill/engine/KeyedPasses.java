@@ -1,0 +1,210 @@
+package io.eigenmill.engine;
+
+import java.io.Serializable;
+import java.util.ArrayList;
+import java.util.Arrays;
+import java.util.Iterator;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
+import org.apache.spark.api.java.function.Function2;
+import org.apache.spark.api.java.function.PairFlatMapFunction;
+import org.apache.spark.sql.Row;
+import org.apache.spark.sql.vectorized.ColumnVector;
+import org.apache.spark.sql.vectorized.ColumnarBatch;
+import scala.Tuple2;
+
+/**
+ * Executor-side functions of a keyed pass: every partition keeps one block and one partial per key it meets (a
+ * {@link BlockFiller} per key), routes each row to its key's block, and emits the keys' partials. A batch whose rows
+ * all have one key (a partition column, a sorted table) is copied as in an unkeyed pass; a batch of mixed keys is
+ * ordered by key code (a counting sort of its row numbers, stable, so each key's rows keep the table's order) and
+ * each key's rows are gathered into its block.
+ *
+ * <p>Equality with a pass over one key's rows: a key's rows reach its block in the table's order and fill blocks of
+ * the same capacity, so with the capacity of the unkeyed pass ({@code reduce.block-rows}) a key's partial in each
+ * partition is bit for bit that of an unkeyed pass over a table filtered to the key; merged per key in the unkeyed
+ * pass's tree ({@link OrderedMerge#mergeSlots}), the result is too.
+ */
+public final class KeyedPasses {
+  private KeyedPasses() {}
+
+  /** The partials of one partition: one per key met, in the order the keys first appeared. */
+  public record KeyedPartial<A extends Serializable>(int partition, List<KeyValues> keys,
+      List<PartialResult<A>> partials) implements Serializable {}
+
+  /** Per-partition routing of rows to the blocks of their keys. */
+  private static final class Router<A extends Serializable> {
+    private final PartitionPasses.PassSpec<A> spec;
+    private final List<BlockFiller<A>> fillers = new ArrayList<>();
+
+    Router(PartitionPasses.PassSpec<A> spec) {
+      this.spec = spec;
+    }
+
+    BlockFiller<A> filler(int code) {
+      while (fillers.size() <= code) {
+        fillers.add(spec.filler());
+      }
+      return fillers.get(code);
+    }
+
+    KeyedPartial<A> finish(int partition, KeyColumns.Coder coder) {
+      List<KeyValues> keys = new ArrayList<>();
+      List<PartialResult<A>> partials = new ArrayList<>();
+      long rows = 0;
+      for (int c = 0; c < coder.count(); c++) {
+        PartialResult<A> p = filler(c).finish();
+        keys.add(coder.key(c));
+        partials.add(p);
+        rows += p.counts().rowsRead();
+      }
+      spec.rowsRead().add(rows);
+      return new KeyedPartial<>(partition, keys, partials);
+    }
+  }
+
+  /** Reads columnar batches: features at {@code ordinals} (types {@code kinds}), keys at {@code keyOrdinals}. */
+  static final class ColumnarKeyed<A extends Serializable>
+      implements Function2<Integer, Iterator<ColumnarBatch>, Iterator<KeyedPartial<A>>> {
+    private static final long serialVersionUID = 1L;
+    private final PartitionPasses.PassSpec<A> spec;
+    private final int[] ordinals;
+    private final int[] kinds;
+    private final int[] keyOrdinals;
+    private final KeyColumns keys;
+
+    ColumnarKeyed(PartitionPasses.PassSpec<A> spec, int[] ordinals, int[] kinds, int[] keyOrdinals,
+        KeyColumns keys) {
+      this.spec = spec;
+      this.ordinals = ordinals;
+      this.kinds = kinds;
+      this.keyOrdinals = keyOrdinals;
+      this.keys = keys;
+    }
+
+    @Override
+    public Iterator<KeyedPartial<A>> call(Integer partition, Iterator<ColumnarBatch> batches) {
+      Router<A> router = new Router<>(spec);
+      KeyColumns.Coder coder = keys.coder();
+      ColumnVector[] vectors = new ColumnVector[ordinals.length];
+      ColumnVector[] keyVectors = new ColumnVector[keyOrdinals.length];
+      int[] codes = new int[0];
+      int[] order = new int[0];
+      int[] starts = new int[0];
+      while (batches.hasNext()) {
+        ColumnarBatch batch = batches.next();
+        for (int j = 0; j < ordinals.length; j++) {
+          vectors[j] = batch.column(ordinals[j]);
+        }
+        for (int c = 0; c < keyOrdinals.length; c++) {
+          keyVectors[c] = batch.column(keyOrdinals[c]);
+        }
+        int rows = batch.numRows();
+        if (rows == 0) {
+          continue;
+        }
+        if (codes.length < rows) {
+          codes = new int[rows];
+          order = new int[rows];
+        }
+        boolean uniform = true;
+        for (int r = 0; r < rows; r++) {
+          codes[r] = coder.code(keyVectors, r);
+          uniform &= codes[r] == codes[0];
+        }
+        if (uniform) {
+          PartitionPasses.copyRows(vectors, kinds, 0, rows, router.filler(codes[0]));
+          continue;
+        }
+        int keysNow = coder.count();
+        if (starts.length < keysNow + 1) {
+          starts = new int[Math.max(keysNow + 1, 2 * starts.length)];
+        }
+        Arrays.fill(starts, 0, keysNow + 1, 0);
+        for (int r = 0; r < rows; r++) {
+          starts[codes[r] + 1]++;
+        }
+        for (int c = 0; c < keysNow; c++) {
+          starts[c + 1] += starts[c];
+        }
+        int[] next = Arrays.copyOf(starts, keysNow);
+        for (int r = 0; r < rows; r++) {
+          order[next[codes[r]]++] = r;
+        }
+        for (int c = 0; c < keysNow; c++) {
+          int count = starts[c + 1] - starts[c];
+          if (count > 0) {
+            PartitionPasses.gatherRows(vectors, kinds, order, starts[c], count, router.filler(c));
+          }
+        }
+      }
+      return List.of(router.finish(partition, coder)).iterator();
+    }
+  }
+
+  /** Reads Rows: the d features cast to double, then the key columns cast to string. */
+  static final class RowKeyed<A extends Serializable>
+      implements Function2<Integer, Iterator<Row>, Iterator<KeyedPartial<A>>> {
+    private static final long serialVersionUID = 1L;
+    private final PartitionPasses.PassSpec<A> spec;
+    private final KeyColumns keys;
+
+    RowKeyed(PartitionPasses.PassSpec<A> spec, KeyColumns keys) {
+      this.spec = spec;
+      this.keys = keys;
+    }
+
+    @Override
+    public Iterator<KeyedPartial<A>> call(Integer partition, Iterator<Row> rows) {
+      Router<A> router = new Router<>(spec);
+      KeyColumns.Coder coder = keys.coder();
+      int d = spec.d();
+      while (rows.hasNext()) {
+        Row row = rows.next();
+        PartitionPasses.RowPass.copyRow(row, d, router.filler(coder.code(row, d)));
+      }
+      return List.of(router.finish(partition, coder)).iterator();
+    }
+  }
+
+  /** Each key's partial of a partition as a record keyed by the key, with the partition index beside it. */
+  static final class ByKey<A extends Serializable>
+      implements PairFlatMapFunction<KeyedPartial<A>, KeyValues, Tuple2<Integer, PartialResult<A>>> {
+    private static final long serialVersionUID = 1L;
+
+    @Override
+    public Iterator<Tuple2<KeyValues, Tuple2<Integer, PartialResult<A>>>> call(KeyedPartial<A> p) {
+      List<Tuple2<KeyValues, Tuple2<Integer, PartialResult<A>>>> out = new ArrayList<>(p.keys().size());
+      for (int i = 0; i < p.keys().size(); i++) {
+        out.add(new Tuple2<>(p.keys().get(i), new Tuple2<>(p.partition(), p.partials().get(i))));
+      }
+      return out.iterator();
+    }
+  }
+
+  /** Merges one key's partials (partition index, partial) in the unkeyed pass's tree over {@code partitions}. */
+  public static <A extends Serializable> PartialResult<A> mergeKey(Iterable<Tuple2<Integer, PartialResult<A>>> parts,
+      int partitions, BlockAggregator<A> aggregator) {
+    List<PartialResult<A>> slots = new ArrayList<>(java.util.Collections.nCopies(partitions, null));
+    for (Tuple2<Integer, PartialResult<A>> t : parts) {
+      slots.set(t._1(), t._2());
+    }
+    return OrderedMerge.mergeSlots(slots, new PartitionPasses.MergePartials<>(aggregator));
+  }
+
+  /** Merges collected partitions' partials per key, on the driver; keys in the order they first appear. */
+  static <A extends Serializable> Map<KeyValues, PartialResult<A>> mergeOnDriver(List<KeyedPartial<A>> collected,
+      int partitions, BlockAggregator<A> aggregator) {
+    Map<KeyValues, List<Tuple2<Integer, PartialResult<A>>>> byKey = new LinkedHashMap<>();
+    for (KeyedPartial<A> p : collected) {
+      for (int i = 0; i < p.keys().size(); i++) {
+        byKey.computeIfAbsent(p.keys().get(i), k -> new ArrayList<>())
+            .add(new Tuple2<>(p.partition(), p.partials().get(i)));
+      }
+    }
+    Map<KeyValues, PartialResult<A>> merged = new LinkedHashMap<>();
+    byKey.forEach((key, parts) -> merged.put(key, mergeKey(parts, partitions, aggregator)));
+    return merged;
+  }
+}
