@@ -138,16 +138,28 @@ public final class FitJob {
   /** The steps after the first pass: kept columns, scales, the decomposition, k, the model. */
   private FitResult finish(FeatureInput input, Imputation impute, FirstPass first, Stopwatch clock,
       List<String> warnings) {
-    List<String> dropped = new ArrayList<>();
-    int[] keep = keptColumns(first.means(), first.variances(), dropped);
-    warnAboutLostData(first.counts(), dropped, warnings);
-    checkComponents(keep.length);
-    double[] scales = scales(first.variances(), keep);
-    Spectrum spectrum = spectrum(input, impute, first, keep, scales);
+    ModelSolver solver = solver();
+    ModelSolver.Solved solved;
+    if (plan.method() == Method.RANDOMIZED) {
+      List<String> dropped = new ArrayList<>();
+      int[] keep = solver.keptColumns(first.means(), first.variances(), dropped);
+      solver.checkComponents(keep.length);
+      double[] scales = solver.scales(first.variances(), keep);
+      int l = Math.min(keep.length, MethodChoice.sketchSize(plan.settings().reduce(), keep.length));
+      Spectrum spectrum = randomizedSpectrum(input, impute.values(), first.means(), keep, scales,
+          first.variances(), first.used(), l);
+      solved = solver.finish(first.used(), first.means(), first.variances(), keep, scales, spectrum, dropped);
+    } else {
+      solved = solver.solve(first.moments(), first.rFactor());
+    }
     clock.lap(plan.method().word());
-    int[] k = new int[1];
-    String rule = chooseK(plan.settings().reduce(), spectrum, k, warnings);
-    PcaModel model = model(first, keep, scales, spectrum, k[0]);
+    List<String> dropped = solved.dropped();
+    warnAboutLostData(first.counts(), dropped, warnings);
+    warnings.addAll(solved.warnings());
+    Spectrum spectrum = solved.spectrum();
+    String rule = solved.kRule();
+    PcaModel model = solved.model();
+    int[] k = {model.k()};
     clock.lap("model");
     LOG.info("fit: {} rows used, k = {} ({}), first variance shares {}", first.used(), k[0], rule,
         firstRatios(spectrum, Math.min(3, spectrum.available())));
@@ -271,60 +283,16 @@ public final class FitJob {
     }
   }
 
-  /**
-   * {@code reduce.components} against the non-constant features, before the decomposition: the planner has checked
-   * it against all d features, but which columns are constant is known only from the first pass.
-   */
-  private void checkComponents(int dk) {
-    JobSettings.Reduce r = plan.settings().reduce();
-    if (r.components().isPresent() && r.components().getAsInt() > dk) {
-      throw new InvalidJobException("reduce.components = " + r.components().getAsInt() + ": more components than the "
-          + dk + " non-constant features");
-    }
-  }
-
-  /** The scale of each kept column: its standard deviation with standardize, else 1. */
-  private double[] scales(double[] variances, int[] keep) {
-    boolean standardize = plan.settings().prepare().scaling() == Scaling.STANDARDIZE;
-    double[] scales = new double[keep.length];
-    for (int i = 0; i < keep.length; i++) {
-      scales[i] = standardize ? Math.sqrt(variances[keep[i]]) : 1.0;
-    }
-    return scales;
-  }
-
-  private Spectrum spectrum(FeatureInput input, Imputation impute, FirstPass first, int[] keep, double[] scales) {
-    int dk = keep.length;
-    return switch (plan.method()) {
-      case COVARIANCE -> covarianceSpectrum(first.moments(), keep, scales);
-      case TSQR -> Spectrum.ofRFactor(first.rFactor(), keep, inverses(scales));
-      default -> {
-        int l = Math.min(dk, MethodChoice.sketchSize(plan.settings().reduce(), dk));
-        yield randomizedSpectrum(input, impute.values(), first.means(), keep, scales, first.variances(),
-            first.used(), l);
-      }
-    };
+  /** The model solver of this plan's features and settings. */
+  ModelSolver solver() {
+    return new ModelSolver(plan.features(), plan.featureTypes(), plan.settings().prepare().scaling(), plan.method(),
+        plan.settings().reduce());
   }
 
   /** Passes over the input: column means (impute-mean), the first pass, the randomized method's own. */
   private int passes(Imputation impute) {
     int own = plan.method() == Method.RANDOMIZED ? plan.settings().reduce().powerIterations() + 1 : 0;
     return impute.passes() + 1 + own;
-  }
-
-  private PcaModel model(FirstPass first, int[] keep, double[] scales, Spectrum spectrum, int k) {
-    List<String> kept = new ArrayList<>();
-    List<String> keptTypes = new ArrayList<>();
-    for (int j : keep) {
-      kept.add(plan.features().get(j));
-      keptTypes.add(plan.featureTypes().get(j));
-    }
-    double[] loadings = new double[keep.length * k];
-    System.arraycopy(spectrum.loadings(), 0, loadings, 0, loadings.length);
-    return new PcaModel(PcaModel.FORMAT_VERSION, Version.current(), kept, keptTypes,
-        plan.settings().prepare().scaling().word(), plan.method(), first.used(), select(first.means(), keep), scales,
-        k, loadings, spectrum.eigenvalues(), plan.method() != Method.RANDOMIZED, spectrum.totalVariance(),
-        PcaModel.fingerprint(kept, keptTypes), sqrtOf(select(first.variances(), keep)));
   }
 
   private static double[] imputationValues(ColumnStats stats, List<String> features) {
@@ -378,57 +346,6 @@ public final class FitJob {
     return String.join(", ", parts);
   }
 
-  /**
-   * Columns kept: those whose sample standard deviation exceeds 64 eps |mean| (and zero). A constant column's
-   * computed deviation is rounding noise of order eps |mean|, so 64 eps |mean| separates it from any real spread
-   * (an offset of 1e9 with deviation 1e-3 is kept: 1e-3 >> 64 * 2.2e-16 * 1e9 = 1.4e-5).
-   */
-  private int[] keptColumns(double[] means, double[] variances, List<String> dropped) {
-    List<Integer> keep = new ArrayList<>();
-    for (int j = 0; j < means.length; j++) {
-      double sd = Math.sqrt(variances[j]);
-      if (sd > 64 * Math.ulp(1.0) * Math.abs(means[j]) && sd > 0) {
-        keep.add(j);
-      } else {
-        dropped.add(plan.features().get(j));
-      }
-    }
-    if (keep.isEmpty()) {
-      throw new InvalidJobException("features.columns: every feature column is constant ("
-          + String.join(", ", dropped) + "): there is no variance to analyse");
-    }
-    return keep.stream().mapToInt(Integer::intValue).toArray();
-  }
-
-  private static double[] sqrtOf(double[] values) {
-    double[] out = new double[values.length];
-    for (int i = 0; i < out.length; i++) {
-      out[i] = Math.sqrt(values[i]);
-    }
-    return out;
-  }
-
-  private static double[] select(double[] values, int[] keep) {
-    double[] out = new double[keep.length];
-    for (int i = 0; i < keep.length; i++) {
-      out[i] = values[keep[i]];
-    }
-    return out;
-  }
-
-  private static Spectrum covarianceSpectrum(Moments moments, int[] keep, double[] scales) {
-    int d = moments.dimension();
-    double[] full = moments.covariance();
-    int dk = keep.length;
-    double[] c = new double[dk * dk];
-    for (int b = 0; b < dk; b++) {
-      for (int a = 0; a < dk; a++) {
-        c[a + b * dk] = full[keep[a] + keep[b] * d] / (scales[a] * scales[b]);
-      }
-    }
-    return Spectrum.ofCovariance(c, dk);
-  }
-
   private static BlockPrep centreAndScale(double[] impute, double[] means, double[] variances, int[] keep,
       double[] scales) {
     double[] factor = new double[means.length];
@@ -440,14 +357,6 @@ public final class FitJob {
 
   private static ReadMode modeFor(double[] impute) {
     return impute == null ? ReadMode.DROP : ReadMode.MARK;
-  }
-
-  private static double[] inverses(double[] scales) {
-    double[] f = new double[scales.length];
-    for (int i = 0; i < f.length; i++) {
-      f[i] = 1.0 / scales[i];
-    }
-    return f;
   }
 
   private Spectrum randomizedSpectrum(FeatureInput input, double[] impute, double[] means, int[] keep,
@@ -475,34 +384,6 @@ public final class FitJob {
       }
     }
     return RandomizedSubspace.finish(q, z, dk, l, n, trace);
-  }
-
-  /** k and the rule that chose it; {@code reduce.components} is at most the kept columns ({@link #checkComponents}). */
-  private static String chooseK(JobSettings.Reduce r, Spectrum spectrum, int[] k, List<String> warnings) {
-    if (r.components().isPresent()) {
-      int want = r.components().getAsInt();
-      k[0] = Math.min(want, spectrum.available());
-      return "reduce.components = " + want;
-    }
-    int reach = spectrum.smallestReaching(r.varianceTarget());
-    if (reach < 0) {
-      k[0] = Math.min(spectrum.available(), r.maxComponents());
-      warnings.add("the " + spectrum.available() + " components computed explain only "
-          + String.format(java.util.Locale.ROOT, "%.4f", spectrum.cumulativeVarianceShares()[spectrum.available() - 1])
-          + " of the variance, below reduce.variance-target = " + r.varianceTarget() + "; kept k = " + k[0]
-          + ": raise reduce.max-components to reach the target");
-      return "variance target " + r.varianceTarget() + " not reached within " + spectrum.available()
-          + " computed components";
-    }
-    if (reach > r.maxComponents()) {
-      k[0] = r.maxComponents();
-      warnings.add("reaching reduce.variance-target = " + r.varianceTarget() + " needs k = " + reach
-          + " > reduce.max-components = " + r.maxComponents() + "; kept k = " + k[0]
-          + ": raise reduce.max-components to keep more");
-      return "capped by reduce.max-components = " + r.maxComponents();
-    }
-    k[0] = reach;
-    return "smallest k with cumulative explained variance >= " + r.varianceTarget();
   }
 
   private static String firstRatios(Spectrum s, int count) {
