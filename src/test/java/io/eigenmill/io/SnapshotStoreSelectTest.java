@@ -101,8 +101,10 @@ class SnapshotStoreSelectTest extends SparkSuite {
         () -> store.select(spark, "date > '2027-01-01'"));
     assertTrue(none.getMessage().startsWith("input.where = \"date > '2027-01-01'\": selects none of the 2"),
         none.getMessage());
-    assertTrue(none.getMessage().contains(store.path().replace("file:", "")) || none.getMessage()
-        .contains("output.snapshots = "), none.getMessage());
+    assertTrue(none.getMessage().contains("(keys from date=2026-11-01 to date=2026-11-02)"),
+        none.getMessage());
+    assertTrue(none.getMessage().contains("output.snapshots = " + store.path().replace("file:", "")),
+        none.getMessage());
     InvalidJobException notBoolean = assertThrows(InvalidJobException.class, () -> store.select(spark, "date"));
     assertTrue(notBoolean.getMessage().contains("boolean predicate"), notBoolean.getMessage());
   }
