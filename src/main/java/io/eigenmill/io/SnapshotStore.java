@@ -84,7 +84,7 @@ import org.apache.spark.sql.types.StructType;
  *       makes all of the run's snapshots visible together (on the local file system and HDFS a rename is atomic).
  *   <li>Readers know only committed versions: the commit files are the index. For each key, the committed version
  *       with the greatest commit id wins (two runs on one key: the later commit id wins, whichever renamed first).
- *   <li>After the rename, best effort (a failure to delete is harmless and only logged nowhere): the run deletes the
+ *   <li>After the rename, best effort (a failure to delete is harmless: readers ignore what is left): the run deletes the
  *       superseded committed versions of the keys it wrote, the commit files none of whose keys it still wins, the
  *       orphan version files (whose commit file does not exist) and temporary commit files of commit ids more than
  *       one hour old, anywhere in the store.
@@ -313,6 +313,12 @@ public final class SnapshotStore {
     }
     if (s.entries().isEmpty()) {
       throw new IllegalArgumentException("snapshot " + s.key().display() + " has no entries");
+    }
+    if (s.productVersion() == null
+        || !PcaModel.fingerprint(s.features(), s.featureTypes()).equals(s.fingerprint())) {
+      throw new IllegalArgumentException("snapshot " + s.key().display() + ": a product version and the"
+          + " fingerprint of its features (PcaModel.fingerprint) are needed, found " + s.productVersion() + " and "
+          + s.fingerprint());
     }
     for (SnapshotEntry e : s.entries()) {
       String shape = e.shapeProblem(d);
@@ -623,7 +629,13 @@ public final class SnapshotStore {
       typed[j + 1] = functions.col(quoted).cast(first.types().get(j)).as(columns.get(j));
       order[j] = functions.col(quoted).asc_nulls_first();
     }
-    Dataset<Row> table = spark.createDataFrame(rows, schema).select(typed);
+    Dataset<Row> table;
+    try {
+      table = spark.createDataFrame(rows, schema).select(typed);
+    } catch (RuntimeException e) {
+      throw new InvalidJobException(settingKey + " = " + shownPath + ": the key columns " + first.layout()
+          + " are not Spark SQL types the keys can be cast to: " + InputFilter.firstLine(e));
+    }
     Dataset<Row> filtered = table;
     if (!all) {
       String problem = whereProblem(table, where, first);

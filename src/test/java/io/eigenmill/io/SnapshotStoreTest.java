@@ -496,6 +496,28 @@ class SnapshotStoreTest {
   }
 
   @Test
+  void aMalformedSnapshotIsRefusedBeforeAnythingIsWritten() throws IOException {
+    SnapshotStore store = fresh("malformed");
+    Snapshot a = snapshot(date("2026-11-01"), 3, 0, 1);
+    store.commit(List.of(a));
+    List<Path> before = files(store, "");
+    SnapshotEntry e = a.entries().get(0);
+    SnapshotEntry shortM2 = new SnapshotEntry(null, 1, 1, e.missingCells(), 1, e.shift(), e.mean(),
+        Arrays.copyOf(e.packedM2(), 5));
+    Snapshot bad = new Snapshot(date("2026-11-02"), 1, "v", a.features(), a.featureTypes(), a.fingerprint(),
+        List.of(), List.of(), "in", List.of(shortM2));
+    IllegalArgumentException x = assertThrows(IllegalArgumentException.class,
+        () -> store.commit(List.of(snapshot(date("2026-11-03"), 3, 0, 3), bad)));
+    assertTrue(x.getMessage().contains("packedM2 5"), x.getMessage());
+    Snapshot wrongPrint = new Snapshot(date("2026-11-02"), 1, "v", a.features(), a.featureTypes(), "0123",
+        List.of(), List.of(), "in", a.entries());
+    assertThrows(IllegalArgumentException.class, () -> store.commit(List.of(wrongPrint)));
+    assertThrows(IllegalArgumentException.class, () -> store.commit(List.of(a, a)));
+    assertEquals(before, files(store, ""));
+    assertEquals(List.of(a.key()), store.keys());
+  }
+
+  @Test
   void readingAnAbsentKeyNamesIt() {
     SnapshotStore store = fresh("absent");
     store.commit(List.of(snapshot(date("2026-11-01"), 2, 0, 1)));
