@@ -498,6 +498,9 @@ public final class SnapshotStore {
             + " for the key " + key.display() + " (" + key.layout() + ")");
       }
       Path v = versionPath(key, winner);
+      if (attempt == 0) {
+        hook.at("read", key);
+      }
       if (attempt == 0 && !fs.exists(v)) {
         index = index(); // superseded and cleaned up after the index was read: read the index again
         continue;

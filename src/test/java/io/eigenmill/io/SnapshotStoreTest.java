@@ -230,6 +230,27 @@ class SnapshotStoreTest {
   }
 
   @Test
+  void aReadRacingACommitOnItsKeyReadsTheNewVersion() {
+    SnapshotStore store = fresh("race");
+    Snapshot old = snapshot(date("2026-11-01"), 3, 0, 1);
+    Snapshot other = snapshot(date("2026-11-02"), 3, 0, 2);
+    store.commit(List.of(old, other));
+    Snapshot newer = snapshot(date("2026-11-01"), 3, 0, 3);
+    SnapshotStore writer = SnapshotStore.open(CONF, "output.snapshots", store.path(), true);
+    // between the reader's listing of the commits and its read, another run replaces the key and deletes the
+    // version the reader's listing names
+    store.hook = (at, key) -> {
+      if (at.equals("read") && key.equals(old.key())) {
+        store.hook = (a, k) -> { };
+        writer.commit(List.of(newer));
+      }
+    };
+    List<Snapshot> read = store.readAll(List.of(other.key(), old.key()));
+    assertSameBits(other, read.get(0));
+    assertSameBits(newer, read.get(1));
+  }
+
+  @Test
   void aKilledRunIsIgnored() throws IOException {
     SnapshotStore store = fresh("killed");
     Snapshot a = snapshot(date("2026-11-01"), 3, 0, 1);
