@@ -84,7 +84,7 @@ import org.apache.spark.sql.types.StructType;
  *       makes all of the run's snapshots visible together (on the local file system and HDFS a rename is atomic).
  *   <li>Readers know only committed versions: the commit files are the index. For each key, the committed version
  *       with the greatest commit id wins (two runs on one key: the later commit id wins, whichever renamed first).
- *   <li>After the rename, best effort (a failure to delete is harmless and only logged nowhere): the run deletes the
+ *   <li>After the rename, best effort (a failure to delete is harmless: readers ignore what is left): the run deletes the
  *       superseded committed versions of the keys it wrote, the commit files none of whose keys it still wins, the
  *       orphan version files (whose commit file does not exist) and temporary commit files of commit ids more than
  *       one hour old, anywhere in the store.
@@ -314,6 +314,12 @@ public final class SnapshotStore {
     if (s.entries().isEmpty()) {
       throw new IllegalArgumentException("snapshot " + s.key().display() + " has no entries");
     }
+    if (s.productVersion() == null
+        || !PcaModel.fingerprint(s.features(), s.featureTypes()).equals(s.fingerprint())) {
+      throw new IllegalArgumentException("snapshot " + s.key().display() + ": a product version and the"
+          + " fingerprint of its features (PcaModel.fingerprint) are needed, found " + s.productVersion() + " and "
+          + s.fingerprint());
+    }
     for (SnapshotEntry e : s.entries()) {
       String shape = e.shapeProblem(d);
       if (shape != null) {
@@ -362,7 +368,7 @@ public final class SnapshotStore {
         }
         for (String c : index.commitsOf.getOrDefault(k, List.of())) {
           if (c.compareTo(winner) < 0) {
-            ;
+            deleteQuietly(versionPath(k, c));
           }
         }
       }
@@ -477,25 +483,34 @@ public final class SnapshotStore {
   /** Reads one committed snapshot (bit-exact doubles); an {@link InvalidJobException} naming the key if absent. */
   public Snapshot read(SnapshotKey key) {
     try {
-      for (int attempt = 0; ; attempt++) {
-        String winner = index().winners.get(key);
-        if (winner == null) {
-          throw new InvalidJobException(SNAPSHOTS_KEY + ": the snapshot store " + shownPath + " holds no snapshot"
-              + " for the key " + key.display() + " (" + key.layout() + ")");
-        }
-        Path v = versionPath(key, winner);
-        if (attempt == 0 && !fs.exists(v)) {
-          continue; // superseded and cleaned up after the index was read: read the index again
-        }
-        Snapshot s = readSnapshot(v);
-        if (!s.key().equals(key)) {
-          throw new InvalidJobException(SNAPSHOTS_KEY + " = " + v + ": the file holds the key " + s.key().display()
-              + " where the store's index says " + key.display() + "; the store is damaged");
-        }
-        return s;
-      }
+      return read(index(), key);
     } catch (IOException e) {
       throw new UncheckedIOException("cannot read the snapshot " + key.display() + " from " + root, e);
+    }
+  }
+
+  /** Reads {@code key}'s winner in {@code index}; once more with a fresh index if a cleanup deleted it meanwhile. */
+  private Snapshot read(Index index, SnapshotKey key) throws IOException {
+    for (int attempt = 0; ; attempt++) {
+      String winner = index.winners.get(key);
+      if (winner == null) {
+        throw new InvalidJobException(SNAPSHOTS_KEY + ": the snapshot store " + shownPath + " holds no snapshot"
+            + " for the key " + key.display() + " (" + key.layout() + ")");
+      }
+      Path v = versionPath(key, winner);
+      if (attempt == 0) {
+        hook.at("read", key);
+      }
+      if (attempt == 0 && !fs.exists(v)) {
+        index = index(); // superseded and cleaned up after the index was read: read the index again
+        continue;
+      }
+      Snapshot s = readSnapshot(v);
+      if (!s.key().equals(key)) {
+        throw new InvalidJobException(SNAPSHOTS_KEY + " = " + v + ": the file holds the key " + s.key().display()
+            + " where the store's index says " + key.display() + "; the store is damaged");
+      }
+      return s;
     }
   }
 
@@ -506,12 +521,23 @@ public final class SnapshotStore {
    */
   public List<Snapshot> readAll(List<SnapshotKey> keys) {
     List<Snapshot> out = new ArrayList<>(keys.size());
+    Index index;
+    try {
+      index = index(); // one listing of the commit files for all the keys
+    } catch (IOException e) {
+      throw new UncheckedIOException("cannot list the snapshot store " + root, e);
+    }
     for (SnapshotKey k : keys) {
-      Snapshot s = read(k);
+      Snapshot s;
+      try {
+        s = read(index, k);
+      } catch (IOException e) {
+        throw new UncheckedIOException("cannot read the snapshot " + k.display() + " from " + root, e);
+      }
       if (!out.isEmpty()) {
         String problem = mergeProblem(out.get(0), s);
         if (problem != null) {
-          throw new InvalidJobException(SNAPSHOTS_KEY + " (store " + shownPath + "): the snapshots "
+          throw new InvalidJobException(SNAPSHOTS_KEY + " = " + shownPath + ": the snapshots "
               + out.get(0).key().display() + " and " + s.key().display() + " cannot be merged: " + problem);
         }
       }
@@ -606,19 +632,29 @@ public final class SnapshotStore {
       typed[j + 1] = functions.col(quoted).cast(first.types().get(j)).as(columns.get(j));
       order[j] = functions.col(quoted).asc_nulls_first();
     }
-    Dataset<Row> table = spark.createDataFrame(rows, schema).select(typed);
+    Dataset<Row> table;
+    try {
+      table = spark.createDataFrame(rows, schema).select(typed);
+    } catch (RuntimeException e) {
+      throw new InvalidJobException(settingKey + " = " + shownPath + ": the key columns " + first.layout()
+          + " are not Spark SQL types the keys can be cast to: " + InputFilter.firstLine(e));
+    }
+    Dataset<Row> filtered = table;
     if (!all) {
       String problem = whereProblem(table, where, first);
       if (problem != null) {
         throw new InvalidJobException(problem);
       }
-      table = table.filter(functions.expr(where));
+      filtered = table.filter(functions.expr(where));
     }
-    List<Row> picked = table.orderBy(order).select(index).collectAsList();
+    List<Row> picked = filtered.orderBy(order).select(index).collectAsList();
     if (picked.isEmpty()) {
+      List<Row> every = table.orderBy(order).select(index).collectAsList();
+      SnapshotKey low = keys.get(every.get(0).getInt(0));
+      SnapshotKey high = keys.get(every.get(every.size() - 1).getInt(0));
       throw new InvalidJobException(WHERE_KEY + " = \"" + where + "\": selects none of the " + keys.size()
-          + " snapshots in the store " + settingKey + " = " + shownPath + " (keys " + keys.get(0).display()
-          + (keys.size() > 1 ? " ... " : "") + ")");
+          + " snapshots in the store " + settingKey + " = " + shownPath + " (keys from " + low.display() + " to "
+          + high.display() + ")");
     }
     List<SnapshotKey> out = new ArrayList<>(picked.size());
     for (Row r : picked) {
