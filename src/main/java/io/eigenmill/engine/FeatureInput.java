@@ -107,18 +107,62 @@ public final class FeatureInput {
    */
   public <A extends Serializable> KeyedResult<A> runKeyed(String stage, BlockAggregator<A> aggregator, ReadMode mode,
       BlockPrep prep, KeyColumns keys, int capacity) {
+    return runKeyed(stage, aggregator, mode, prep, keys, capacity, KeyedPasses.Routing.full());
+  }
+
+  /** {@link #runKeyed} with the blocks of later keys smaller and some keys left out ({@code routing}). */
+  public <A extends Serializable> KeyedResult<A> runKeyed(String stage, BlockAggregator<A> aggregator, ReadMode mode,
+      BlockPrep prep, KeyColumns keys, int capacity, KeyedPasses.Routing routing) {
     var sc = table.sparkSession().sparkContext();
     LongAccumulator rows = sc.longAccumulator("eigenmill rows read (" + stage + ")");
     var spec = new PartitionPasses.PassSpec<>(features.size(), capacity, mode, prep, aggregator, rows);
-    JavaRDD<KeyedPasses.KeyedPartial<A>> partials = keyedPartials(spec, keys);
+    ColumnarScan scan = keyedColumnar(keys);
+    JavaRDD<KeyedPasses.KeyedPartial<A>> partials = keyedPartials(spec, keys, scan, routing);
     try (Progress progress = Progress.start(table.sparkSession(), stage, rows)) {
       int p = partials.getNumPartitions();
       Map<KeyValues, PartialResult<A>> merged = p == 0 ? new LinkedHashMap<>()
           : KeyedPasses.mergeOnDriver(partials.collect(), p, aggregator);
       ReadCounts total = new ReadCounts(features.size());
-      merged.values().forEach(r -> total.merge(r.counts()));
-      progress.done(total.rowsRead());
-      return new KeyedResult<>(keys, merged, total, keyedColumnar(keys) != null);
+      merged.forEach((k, r) -> {
+        if (!k.equals(KeyedPasses.POOLED)) {
+          total.merge(r.counts());
+        }
+      });
+      if (merged.containsKey(KeyedPasses.POOLED)) {
+        // the pooled partial counts every row, those of skipped keys too
+        ReadCounts pooled = merged.get(KeyedPasses.POOLED).counts();
+        total.rowsRead = pooled.rowsRead;
+        total.rowsDropped = pooled.rowsDropped;
+        System.arraycopy(pooled.missingCells, 0, total.missingCells, 0, total.missingCells.length);
+      }
+      progress.done(rows.value());
+      return new KeyedResult<>(keys, merged, total, scan != null);
+    }
+  }
+
+  /**
+   * A keyed pass whose partials merge per key on the executors (one shuffle of partials into {@code reducers}
+   * partitions, each key merged in the same tree as on the driver), where {@code finish} turns each key's merged
+   * partial into a small result; only the results reach the driver, in no particular order. For many keys, whose
+   * summaries together would not fit the driver.
+   */
+  public <A extends Serializable, R extends Serializable> List<R> runKeyedOnExecutors(String stage,
+      BlockAggregator<A> aggregator, ReadMode mode, BlockPrep prep, KeyColumns keys, int capacity,
+      KeyedPasses.Routing routing, org.apache.spark.api.java.function.Function<scala.Tuple2<KeyValues,
+          PartialResult<A>>, R> finish, int reducers) {
+    var sc = table.sparkSession().sparkContext();
+    LongAccumulator rows = sc.longAccumulator("eigenmill rows read (" + stage + ")");
+    var spec = new PartitionPasses.PassSpec<>(features.size(), capacity, mode, prep, aggregator, rows);
+    JavaRDD<KeyedPasses.KeyedPartial<A>> partials = keyedPartials(spec, keys, keyedColumnar(keys), routing);
+    int p = partials.getNumPartitions();
+    try (Progress progress = Progress.start(table.sparkSession(), stage, rows)) {
+      if (p == 0) {
+        return List.of();
+      }
+      List<R> out = partials.flatMapToPair(new KeyedPasses.ByKey<A>()).groupByKey(Math.max(1, reducers))
+          .map(new KeyedPasses.MergeAndFinish<>(p, aggregator, finish)).collect();
+      progress.done(rows.value());
+      return out;
     }
   }
 
@@ -127,18 +171,17 @@ public final class FeatureInput {
       ReadCounts total, boolean columnar) {}
 
   private <A extends Serializable> JavaRDD<KeyedPasses.KeyedPartial<A>> keyedPartials(
-      PartitionPasses.PassSpec<A> spec, KeyColumns keys) {
-    ColumnarScan scan = keyedColumnar(keys);
+      PartitionPasses.PassSpec<A> spec, KeyColumns keys, ColumnarScan scan, KeyedPasses.Routing routing) {
     if (scan != null) {
       int[] keyOrdinals = scan.ordinals(keys.names());
       return scan.batches().mapPartitionsWithIndex(
-          new KeyedPasses.ColumnarKeyed<>(spec, scan.ordinals(features), kinds, keyOrdinals, keys), false);
+          new KeyedPasses.ColumnarKeyed<>(spec, scan.ordinals(features), kinds, keyOrdinals, keys, routing), false);
     }
     List<Column> cols = new ArrayList<>();
     features.forEach(f -> cols.add(functions.col(f).cast("double")));
     keys.names().forEach(k -> cols.add(functions.col(k).cast("string")));
     return table.select(cols.toArray(Column[]::new)).javaRDD()
-        .mapPartitionsWithIndex(new KeyedPasses.RowKeyed<>(spec, keys), false);
+        .mapPartitionsWithIndex(new KeyedPasses.RowKeyed<>(spec, keys, routing), false);
   }
 
   /** The columnar scan of the features and the key columns, or null (then keyed passes read rows). */

@@ -33,31 +33,95 @@ public final class KeyedPasses {
   public record KeyedPartial<A extends Serializable>(int partition, List<KeyValues> keys,
       List<PartialResult<A>> partials) implements Serializable {}
 
+  /**
+   * How a task sizes its keys' blocks and which keys it leaves out.
+   *
+   * @param fullKeys the first {@code fullKeys} keys a task meets get blocks of the pass's {@code blockRows} (the
+   *     unkeyed pass's size, for equality with it); later keys get blocks of {@code smallRows} rows, so that the
+   *     blocks of many keys stay within a task's memory
+   * @param skip keys whose rows are read but not summarised (groups known to be too small)
+   */
+  public record Routing(int fullKeys, int smallRows, java.util.Set<KeyValues> skip, boolean pooled)
+      implements Serializable {
+    /** Every key with full blocks, none skipped, no pooled partial. */
+    public static Routing full() {
+      return new Routing(Integer.MAX_VALUE, 0, java.util.Set.of(), false);
+    }
+  }
+
+  /**
+   * The key of the pooled partial ({@link Routing#pooled}): all rows of the partition, skipped keys' rows included.
+   * No key of a pass has zero columns, so it never names a real key.
+   */
+  public static final KeyValues POOLED = new KeyValues(List.of());
+
   /** Per-partition routing of rows to the blocks of their keys. */
   private static final class Router<A extends Serializable> {
     private final PartitionPasses.PassSpec<A> spec;
+    private final Routing routing;
+    private final KeyColumns.Coder coder;
     private final List<BlockFiller<A>> fillers = new ArrayList<>();
+    private long skippedRows;
+    private int made;
+    /** With a pooled partial: the rows of skipped keys, which join only the pooled partial. */
+    private BlockFiller<A> rest;
 
-    Router(PartitionPasses.PassSpec<A> spec) {
+    Router(PartitionPasses.PassSpec<A> spec, Routing routing, KeyColumns.Coder coder) {
       this.spec = spec;
+      this.routing = routing;
+      this.coder = coder;
     }
 
+    /** The filler of key {@code code}; for a skipped key null, or the pooled partial's filler of the rest. */
     BlockFiller<A> filler(int code) {
       while (fillers.size() <= code) {
-        fillers.add(spec.filler());
+        boolean skip = routing.skip().contains(coder.key(fillers.size()));
+        if (skip) {
+          if (routing.pooled() && rest == null) {
+            rest = spec.filler();
+          }
+          fillers.add(rest);
+        } else {
+          fillers.add(spec.filler(made++ < routing.fullKeys() ? spec.blockRows() : routing.smallRows()));
+        }
       }
       return fillers.get(code);
     }
 
-    KeyedPartial<A> finish(int partition, KeyColumns.Coder coder) {
+    void skipRows(int rows) {
+      skippedRows += rows;
+    }
+
+    KeyedPartial<A> finish(int partition) {
       List<KeyValues> keys = new ArrayList<>();
       List<PartialResult<A>> partials = new ArrayList<>();
-      long rows = 0;
+      long rows = skippedRows;
       for (int c = 0; c < coder.count(); c++) {
-        PartialResult<A> p = filler(c).finish();
+        BlockFiller<A> f = filler(c);
+        if (f == null || f == rest) {
+          continue;
+        }
+        PartialResult<A> p = f.finish();
         keys.add(coder.key(c));
         partials.add(p);
         rows += p.counts().rowsRead();
+      }
+      if (routing.pooled()) {
+        // the keys' partials in the order they appeared, then the rest; the aggregator's merge folds its right
+        // side into its left and leaves the right unchanged (summaries do), so the keys' partials stay as they are
+        BlockAggregator<A> agg = spec.aggregator();
+        PartialResult<A> pooled = new PartialResult<>(new ReadCounts(spec.d()), agg.zero());
+        List<PartialResult<A>> all = new ArrayList<>(partials);
+        if (rest != null) {
+          PartialResult<A> r = rest.finish();
+          rows += r.counts().rowsRead();
+          all.add(r);
+        }
+        for (PartialResult<A> p : all) {
+          pooled = new PartialResult<>(pooled.counts().merge(p.counts()), agg.merge(pooled.value(), p.value()));
+        }
+        keys.add(POOLED);
+        partials.add(pooled);
       }
       spec.rowsRead().add(rows);
       return new KeyedPartial<>(partition, keys, partials);
@@ -73,20 +137,22 @@ public final class KeyedPasses {
     private final int[] kinds;
     private final int[] keyOrdinals;
     private final KeyColumns keys;
+    private final Routing routing;
 
     ColumnarKeyed(PartitionPasses.PassSpec<A> spec, int[] ordinals, int[] kinds, int[] keyOrdinals,
-        KeyColumns keys) {
+        KeyColumns keys, Routing routing) {
       this.spec = spec;
       this.ordinals = ordinals;
       this.kinds = kinds;
       this.keyOrdinals = keyOrdinals;
       this.keys = keys;
+      this.routing = routing;
     }
 
     @Override
     public Iterator<KeyedPartial<A>> call(Integer partition, Iterator<ColumnarBatch> batches) {
-      Router<A> router = new Router<>(spec);
       KeyColumns.Coder coder = keys.coder();
+      Router<A> router = new Router<>(spec, routing, coder);
       ColumnVector[] vectors = new ColumnVector[ordinals.length];
       ColumnVector[] keyVectors = new ColumnVector[keyOrdinals.length];
       int[] codes = new int[0];
@@ -114,7 +180,12 @@ public final class KeyedPasses {
           uniform &= codes[r] == codes[0];
         }
         if (uniform) {
-          PartitionPasses.copyRows(vectors, kinds, 0, rows, router.filler(codes[0]));
+          BlockFiller<A> f = router.filler(codes[0]);
+          if (f == null) {
+            router.skipRows(rows);
+          } else {
+            PartitionPasses.copyRows(vectors, kinds, 0, rows, f);
+          }
           continue;
         }
         int keysNow = coder.count();
@@ -135,11 +206,16 @@ public final class KeyedPasses {
         for (int c = 0; c < keysNow; c++) {
           int count = starts[c + 1] - starts[c];
           if (count > 0) {
-            PartitionPasses.gatherRows(vectors, kinds, order, starts[c], count, router.filler(c));
+            BlockFiller<A> f = router.filler(c);
+            if (f == null) {
+              router.skipRows(count);
+            } else {
+              PartitionPasses.gatherRows(vectors, kinds, order, starts[c], count, f);
+            }
           }
         }
       }
-      return List.of(router.finish(partition, coder)).iterator();
+      return List.of(router.finish(partition)).iterator();
     }
   }
 
@@ -149,22 +225,29 @@ public final class KeyedPasses {
     private static final long serialVersionUID = 1L;
     private final PartitionPasses.PassSpec<A> spec;
     private final KeyColumns keys;
+    private final Routing routing;
 
-    RowKeyed(PartitionPasses.PassSpec<A> spec, KeyColumns keys) {
+    RowKeyed(PartitionPasses.PassSpec<A> spec, KeyColumns keys, Routing routing) {
       this.spec = spec;
       this.keys = keys;
+      this.routing = routing;
     }
 
     @Override
     public Iterator<KeyedPartial<A>> call(Integer partition, Iterator<Row> rows) {
-      Router<A> router = new Router<>(spec);
       KeyColumns.Coder coder = keys.coder();
+      Router<A> router = new Router<>(spec, routing, coder);
       int d = spec.d();
       while (rows.hasNext()) {
         Row row = rows.next();
-        PartitionPasses.RowPass.copyRow(row, d, router.filler(coder.code(row, d)));
+        BlockFiller<A> f = router.filler(coder.code(row, d));
+        if (f == null) {
+          router.skipRows(1);
+        } else {
+          PartitionPasses.RowPass.copyRow(row, d, f);
+        }
       }
-      return List.of(router.finish(partition, coder)).iterator();
+      return List.of(router.finish(partition)).iterator();
     }
   }
 
@@ -180,6 +263,28 @@ public final class KeyedPasses {
         out.add(new Tuple2<>(p.keys().get(i), new Tuple2<>(p.partition(), p.partials().get(i))));
       }
       return out.iterator();
+    }
+  }
+
+  /** Merges a key's partials (as {@link #mergeKey}) and finishes the key's result, on an executor. */
+  static final class MergeAndFinish<A extends Serializable, R extends Serializable>
+      implements org.apache.spark.api.java.function.Function<Tuple2<KeyValues,
+          Iterable<Tuple2<Integer, PartialResult<A>>>>, R> {
+    private static final long serialVersionUID = 1L;
+    private final int partitions;
+    private final BlockAggregator<A> aggregator;
+    private final org.apache.spark.api.java.function.Function<Tuple2<KeyValues, PartialResult<A>>, R> finish;
+
+    MergeAndFinish(int partitions, BlockAggregator<A> aggregator,
+        org.apache.spark.api.java.function.Function<Tuple2<KeyValues, PartialResult<A>>, R> finish) {
+      this.partitions = partitions;
+      this.aggregator = aggregator;
+      this.finish = finish;
+    }
+
+    @Override
+    public R call(Tuple2<KeyValues, Iterable<Tuple2<Integer, PartialResult<A>>>> key) throws Exception {
+      return finish.call(new Tuple2<>(key._1(), mergeKey(key._2(), partitions, aggregator)));
     }
   }
 

@@ -32,7 +32,11 @@ public final class PartitionPasses {
   record PassSpec<A extends Serializable>(int d, int blockRows, ReadMode mode, BlockPrep prep,
       BlockAggregator<A> aggregator, LongAccumulator rowsRead) implements Serializable {
     BlockFiller<A> filler() {
-      return new BlockFiller<>(d, blockRows, mode, prep, aggregator);
+      return filler(blockRows);
+    }
+
+    BlockFiller<A> filler(int capacity) {
+      return new BlockFiller<>(d, capacity, mode, prep, aggregator);
     }
   }
 

@@ -1,9 +1,14 @@
 package io.eigenmill.io;
 
+import io.eigenmill.engine.KeyColumns;
+import io.eigenmill.engine.KeyValues;
 import io.eigenmill.settings.Choices.Method;
 import io.eigenmill.settings.InvalidJobException;
 import java.util.ArrayList;
 import java.util.List;
+import java.util.Map;
+import org.apache.spark.sql.Column;
+import org.apache.spark.sql.functions;
 import org.apache.spark.sql.Dataset;
 import org.apache.spark.sql.Row;
 import org.apache.spark.sql.RowFactory;
@@ -38,6 +43,11 @@ public final class ModelStore {
       .add("sds", DataTypes.createArrayType(DataTypes.DoubleType), false);
 
   public static void write(SparkSession spark, PcaModel m, String path) {
+    spark.createDataFrame(List.of(RowFactory.create(fields(m))), SCHEMA).coalesce(1).write().parquet(path);
+  }
+
+  /** The values of a model's row, in the order of {@link #SCHEMA}. */
+  private static Object[] fields(PcaModel m) {
     List<double[]> columns = new ArrayList<>();
     for (int c = 0; c < m.k(); c++) {
       double[] col = new double[m.d()];
@@ -46,11 +56,10 @@ public final class ModelStore {
       }
       columns.add(col);
     }
-    Row row = RowFactory.create(m.formatVersion(), m.productVersion(), m.features().toArray(new String[0]),
-        m.featureTypes().toArray(new String[0]), m.scaling(), m.method().word(), m.rows(), m.means(), m.scales(), m.k(),
-        columns.toArray(new double[0][]), m.eigenvalues(), m.eigenvaluesComplete(), m.totalVariance(),
-        m.schemaFingerprint(), m.sds());
-    spark.createDataFrame(List.of(row), SCHEMA).coalesce(1).write().parquet(path);
+    return new Object[] {m.formatVersion(), m.productVersion(), m.features().toArray(new String[0]),
+        m.featureTypes().toArray(new String[0]), m.scaling(), m.method().word(), m.rows(), m.means(), m.scales(),
+        m.k(), columns.toArray(new double[0][]), m.eigenvalues(), m.eigenvaluesComplete(), m.totalVariance(),
+        m.schemaFingerprint(), m.sds()};
   }
 
   /**
@@ -58,12 +67,16 @@ public final class ModelStore {
    * the setting the path came from, for error messages.
    */
   public static PcaModel read(SparkSession spark, String key, String path) {
-    String modelPath = TableLoader.exists(spark, path + "/model") ? path + "/model" : path;
-    TableLoader.requireExists(spark, key, modelPath);
-    Dataset<Row> table;
+    Dataset<Row> table = table(spark, key, path);
+    List<String> groups = groupColumns(table);
+    if (!groups.isEmpty() && List.of(table.schema().fieldNames()).contains("format_version")) {
+      throw new InvalidJobException(key + " = " + path + ": a model with groups (one model per value of "
+          + String.join(", ", groups) + "); " + key + " takes one model: use the fit's pooled-model/ folder"
+          + " (the model of all its rows)" + (key.equals("apply.model") ? "" : ", or apply the groups' models with"
+          + " apply.model"));
+    }
     List<Row> rows;
     try {
-      table = spark.read().parquet(modelPath);
       rows = table.collectAsList();
     } catch (RuntimeException e) {
       throw new InvalidJobException(key + " = " + path + ": not a readable model: " + TableLoader.firstLine(e));
@@ -72,8 +85,110 @@ public final class ModelStore {
       throw new InvalidJobException(key + " = " + path + ": not an eigenmill model (expected one row with"
           + " format_version, found " + rows.size() + " rows)");
     }
-    Row r = rows.get(0);
-    List<String> present = List.of(table.schema().fieldNames());
+    return parse(key, path, rows.get(0), List.of(table.schema().fieldNames()));
+  }
+
+  /** Whether the model table at {@code path} holds one model per group ({@link #writeGroups}). */
+  public static boolean grouped(SparkSession spark, String key, String path) {
+    return !groupColumns(table(spark, key, path)).isEmpty();
+  }
+
+  /**
+   * Writes one model per group: the group columns first (with the types they have in the input: their text cast
+   * back), then the columns of a single model.
+   */
+  public static void writeGroups(SparkSession spark, KeyColumns by, Map<KeyValues, PcaModel> models, String path) {
+    StructType schema = new StructType();
+    for (String c : by.names()) {
+      schema = schema.add(c, DataTypes.StringType, true);
+    }
+    for (var f : SCHEMA.fields()) {
+      schema = schema.add(f);
+    }
+    List<Row> rows = new ArrayList<>();
+    models.forEach((key, m) -> {
+      List<Object> values = new ArrayList<>(key.texts());
+      values.addAll(List.of(fields(m)));
+      rows.add(RowFactory.create(values.toArray()));
+    });
+    spark.createDataFrame(rows, schema).select(typed(by)).coalesce(1).write().parquet(path);
+  }
+
+  /** The columns: the group columns cast to their types, then every other column as it is. */
+  public static Column[] typed(KeyColumns by) {
+    return typed(by, SCHEMA.fieldNames());
+  }
+
+  /** The group columns cast to their types, then the columns {@code rest}. */
+  public static Column[] typed(KeyColumns by, String[] rest) {
+    List<Column> cols = new ArrayList<>();
+    for (int i = 0; i < by.size(); i++) {
+      cols.add(functions.col(by.names().get(i)).cast(by.types().get(i)).as(by.names().get(i)));
+    }
+    for (String f : rest) {
+      cols.add(functions.col(f));
+    }
+    return cols.toArray(Column[]::new);
+  }
+
+  /**
+   * Reads a model table with groups: the group columns (names and types) and each group's model by its key (the
+   * group values as text). An empty table (no group had a model) gives no models.
+   */
+  public static GroupModels readGroups(SparkSession spark, String key, String path) {
+    Dataset<Row> table = table(spark, key, path);
+    List<String> groups = groupColumns(table);
+    if (groups.isEmpty()) {
+      throw new InvalidJobException(key + " = " + path + ": a model without groups");
+    }
+    List<String> types = new ArrayList<>();
+    List<Column> cols = new ArrayList<>();
+    for (String g : groups) {
+      types.add(table.schema().apply(g).dataType().simpleString());
+      cols.add(functions.col(g).cast("string").as(g));
+    }
+    for (String f : SCHEMA.fieldNames()) {
+      cols.add(functions.col(f));
+    }
+    Dataset<Row> texts = table.select(cols.toArray(Column[]::new));
+    List<String> present = List.of(texts.schema().fieldNames());
+    Map<KeyValues, PcaModel> models = new java.util.LinkedHashMap<>();
+    for (Row r : texts.collectAsList()) {
+      List<String> values = new ArrayList<>();
+      for (int i = 0; i < groups.size(); i++) {
+        values.add(r.isNullAt(i) ? null : r.getString(i));
+      }
+      models.put(new KeyValues(values), parse(key, path, r, present));
+    }
+    return new GroupModels(groups, types, models);
+  }
+
+  private static Dataset<Row> table(SparkSession spark, String key, String path) {
+    String modelPath = TableLoader.exists(spark, path + "/model") ? path + "/model" : path;
+    TableLoader.requireExists(spark, key, modelPath);
+    try {
+      return spark.read().parquet(modelPath);
+    } catch (RuntimeException e) {
+      throw new InvalidJobException(key + " = " + path + ": not a readable model: " + TableLoader.firstLine(e));
+    }
+  }
+
+  /** The columns of a model table that are not a model's: the group columns of a grouped model, in order. */
+  private static List<String> groupColumns(Dataset<Row> table) {
+    List<String> known = List.of(SCHEMA.fieldNames());
+    List<String> out = new ArrayList<>();
+    if (!List.of(table.schema().fieldNames()).contains("format_version")) {
+      return out;
+    }
+    for (String f : table.schema().fieldNames()) {
+      if (!known.contains(f)) {
+        out.add(f);
+      }
+    }
+    return out;
+  }
+
+  private static PcaModel parse(String key, String path, Row r, List<String> present) {
     for (String field : SCHEMA.fieldNames()) {
       if (!present.contains(field)) {
         throw new InvalidJobException(key + " = " + path + ": the model lacks the field " + field

@@ -77,9 +77,43 @@ public final class FitJob {
     FeatureInput input = open(table);
     clock.lap("plan");
     Imputation impute = imputation(input, clock);
+    if (plan.groups() != null) {
+      return grouped(input, impute, clock, warnings);
+    }
     FirstPass first = firstPass(input, impute, clock);
     checkRows(first.counts(), first.used(), plan.settings().prepare().missing());
     return finish(input, impute, first, clock, warnings);
+  }
+
+  /**
+   * A grouped fit ({@link GroupedFit}): the model of every group and the pooled model of all rows, in one pass.
+   * Timings keys: groups (the count and the pass, with the groups' solves), model.
+   */
+  private FitResult grouped(FeatureInput input, Imputation impute, Stopwatch clock, List<String> warnings) {
+    GroupedFit.Outcome out = GroupedFit.run(input, plan.groups(), solver(), modeFor(impute.values()), impute.prep(),
+        plan.settings().reduce().blockRows());
+    clock.lap("groups");
+    ReadCounts counts = out.total();
+    checkRows(counts, out.pooled().rowsUsed(), plan.settings().prepare().missing());
+    ModelSolver.Solved pooled = out.pooled().solved();
+    warnAboutLostData(counts, pooled.dropped(), warnings);
+    long fitted = out.groups().stream().filter(GroupFit::hasModel).count();
+    if (fitted == 0) {
+      warnings.add("reduce.group-by = " + plan.groups().by().names() + ": no group has a model (" + out.groups()
+          .size() + " groups, each below reduce.min-group-rows = " + plan.groups().minRows() + " usable rows or"
+          + " without variance); lower reduce.min-group-rows or group by fewer columns");
+    } else if (fitted < out.groups().size()) {
+      warnings.add((out.groups().size() - fitted) + " of " + out.groups().size() + " groups have no model (fewer"
+          + " than reduce.min-group-rows = " + plan.groups().minRows() + " usable rows, or no variance): listed"
+          + " in the summary's groups; their rows are scored as an unknown group");
+    }
+    clock.lap("model");
+    Groups groups = new Groups(plan.groups().by(), plan.groups().minRows(), out.onDriver(), out.groups());
+    LOG.info("fit: {} groups, {} with a model, solved on the {}", out.groups().size(), fitted,
+        out.onDriver() ? "driver" : "executors");
+    return new FitResult(plan, pooled.model(), pooled.spectrum(), pooled.dropped(), counts.rowsRead(),
+        counts.rowsDropped(), impute.cells(), counts.missingCells(), input.columnar(), passes(impute),
+        pooled.kRule(), Linalg.describe(), clock.timings(), warnings, null, groups);
   }
 
   /**

@@ -13,6 +13,8 @@ import java.util.Map;
  * @param missingCells per planned feature, cells that were null, NaN or infinite
  * @param kRule how k was chosen, in words
  * @param snapshots what the fit wrote to or merged from a snapshot store; null without one
+ * @param groups the groups of a grouped fit, each with its model; null without groups ({@code model} is then
+ *     the one model; with groups it is the pooled model of all rows)
  */
 public record FitResult(
     JobPlan plan,
@@ -29,7 +31,16 @@ public record FitResult(
     String blas,
     Map<String, Double> timings,
     List<String> warnings,
-    SnapshotUse snapshots) {
+    SnapshotUse snapshots,
+    Groups groups) {
+
+  /** A fit without groups. */
+  public FitResult(JobPlan plan, PcaModel model, Spectrum spectrum, List<String> droppedConstant, long rowsRead,
+      long rowsDropped, long imputedCells, long[] missingCells, boolean columnarRead, int passes, String kRule,
+      String blas, Map<String, Double> timings, List<String> warnings, SnapshotUse snapshots) {
+    this(plan, model, spectrum, droppedConstant, rowsRead, rowsDropped, imputedCells, missingCells, columnarRead,
+        passes, kRule, blas, timings, warnings, snapshots, null);
+  }
 
   /** A fit without a snapshot store. */
   public FitResult(JobPlan plan, PcaModel model, Spectrum spectrum, List<String> droppedConstant, long rowsRead,

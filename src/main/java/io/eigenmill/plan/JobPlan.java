@@ -30,7 +30,17 @@ public record JobPlan(
     List<String> notes,
     List<String> warnings,
     InputSelection selection,
-    SnapshotPlan snapshots) {
+    SnapshotPlan snapshots,
+    GroupPlan groups) {
+
+  /** A plan without groups. */
+  public JobPlan(JobSettings settings, String kind, List<String> features, List<String> featureTypes,
+      List<String> keys, List<String> partitionColumns, long rowEstimate, long inputBytes, Method method,
+      String methodReason, MemoryEstimate memory, List<String> outputs, List<String> notes, List<String> warnings,
+      InputSelection selection, SnapshotPlan snapshots) {
+    this(settings, kind, features, featureTypes, keys, partitionColumns, rowEstimate, inputBytes, method,
+        methodReason, memory, outputs, notes, warnings, selection, snapshots, null);
+  }
 
   /** A plan without a snapshot store. */
   public JobPlan(JobSettings settings, String kind, List<String> features, List<String> featureTypes,
@@ -83,6 +93,11 @@ public record JobPlan(
     }
     if (snapshots != null) {
       for (String[] l : snapshots.describe()) {
+        line(s, l[0], l[1]);
+      }
+    }
+    if (groups != null) {
+      for (String[] l : groups.describe()) {
         line(s, l[0], l[1]);
       }
     }

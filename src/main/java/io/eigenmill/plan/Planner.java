@@ -131,6 +131,8 @@ public final class Planner {
     MethodChoice.Choice choice = d == 0 ? null : choose(spark, settings, d, problems);
     SnapshotPlan snapshots = !settings.output().writesSnapshots() || d == 0 ? null
         : SnapshotPlanner.planWrite(spark, settings, schema, partitionColumns, names, choice, problems);
+    GroupPlan groups = !settings.reduce().grouped() || d == 0 ? null
+        : groupPlan(spark, settings, schema, names, choice, problems);
     if (!problems.isEmpty()) {
       throw new InvalidJobException(problems);
     }
@@ -139,7 +141,67 @@ public final class Planner {
     InputSelection selection = selection(table, kept, settings, names, partitionColumns);
     return new JobPlan(settings, kind, names, types, keys, partitionColumns,
         rowEstimate(spark, kept, selection, settings), TableLoader.sizeBytes(spark, settings.input().path()),
-        choice.method(), choice.reason(), choice.memory(), outputs(settings), notes, warnings, selection, snapshots);
+        choice.method(), choice.reason(), choice.memory(), outputs(settings), notes, warnings, selection, snapshots,
+        groups);
+  }
+
+  /**
+   * Checks {@code reduce.group-by} against the input and the other settings: each column present, of a key type,
+   * not a feature (within a group it would be constant); the covariance or TSQR method (the randomized method's
+   * passes would need a basis per group); no clustering, reconstruction or snapshots yet, whose outputs are of one
+   * model. Problems are added.
+   */
+  private static GroupPlan groupPlan(SparkSession spark, JobSettings settings, StructType schema,
+      List<String> features, MethodChoice.Choice choice, List<String> problems) {
+    JobSettings.Reduce r = settings.reduce();
+    String named = "reduce.group-by = " + r.groupBy();
+    List<String> types = new ArrayList<>();
+    for (String c : r.groupBy()) {
+      var index = schema.getFieldIndex(c);
+      if (index.isEmpty()) {
+        problems.add(named + ": column " + c + " is not in the input (columns: "
+            + String.join(", ", schema.fieldNames()) + ")");
+        continue;
+      }
+      DataType type = schema.fields()[(Integer) index.get()].dataType();
+      String rule = io.eigenmill.engine.KeyColumns.unsupported(type);
+      if (rule != null) {
+        problems.add(named + ": column " + c + ": " + rule);
+      } else if (features.contains(c)) {
+        problems.add(named + ": column " + c + " is also a feature; within a group it is constant, so it cannot"
+            + " be both: exclude it with features.exclude");
+      }
+      types.add(type.simpleString());
+    }
+    if (choice != null && choice.method() == io.eigenmill.settings.Choices.Method.RANDOMIZED) {
+      problems.add(named + " with " + (r.method() == io.eigenmill.settings.Choices.Method.AUTO
+          ? "reduce.method = auto, which chose randomized (" + choice.reason() + ")" : "reduce.method = randomized")
+          + ": the randomized method's passes multiply the rows by one basis, and groups would need one basis"
+          + " each; set reduce.method = covariance or tsqr, or select fewer features");
+    }
+    List<String> other = new ArrayList<>();
+    if (settings.cluster().enabled()) {
+      other.add("cluster.enabled = true");
+    }
+    if (settings.output().reconstruction()) {
+      other.add("output.reconstruction = true");
+    }
+    if (settings.output().writesSnapshots()) {
+      other.add("output.snapshots");
+    }
+    if (!other.isEmpty()) {
+      problems.add(named + " with " + String.join(", ", other) + ": not available with groups in this version"
+          + " (their outputs are of one model); remove " + (other.size() > 1 ? "them" : "it") + " or the grouping");
+    }
+    if (types.size() != r.groupBy().size()) {
+      return null;
+    }
+    int d = features.size();
+    long summary = 8L * d * d;
+    long block = 8L * r.blockRows() * (d + 1L);
+    return new GroupPlan(new io.eigenmill.engine.KeyColumns(r.groupBy(), types,
+        spark.conf().get("spark.sql.session.timeZone")), r.minGroupRows(d), summary, block, driverHeap(spark) / 4,
+        taskHeap(spark) / 4);
   }
 
   /** {@code table} filtered by {@code input.where}; {@code table} when unset or when its problem is added. */

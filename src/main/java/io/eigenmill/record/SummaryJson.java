@@ -50,6 +50,10 @@ public final class SummaryJson {
       if (run.fit().snapshots() != null) {
         m.put("snapshots", snapshotSection(run.fit().snapshots()));
       }
+      if (run.fit().groups() != null) {
+        m.put("group_by", groupBySection(run.fit().groups()));
+        m.put("groups", groupsSection(run.fit().groups()));
+      }
     } else {
       m.put("model", modelSection(run.model(), s.apply().model()));
     }
@@ -101,6 +105,48 @@ public final class SummaryJson {
     }
     m.put("keys", keys);
     return m;
+  }
+
+  /** How a grouped fit grouped: the columns, the row threshold, where the groups were solved, the counts. */
+  static Map<String, Object> groupBySection(io.eigenmill.pca.Groups g) {
+    Map<String, Object> m = new LinkedHashMap<>();
+    m.put("columns", g.by().names());
+    m.put("min_group_rows", g.minRows());
+    m.put("solved_on", g.onDriver() ? "driver" : "executors");
+    m.put("groups", g.groups().size());
+    m.put("groups_with_model", g.groups().size() - g.skipped());
+    return m;
+  }
+
+  /**
+   * Each group, by rows read (descending): its key, rows, and either its model's k, variance shares of the kept
+   * components and total variance, or why it has none.
+   */
+  static List<Map<String, Object>> groupsSection(io.eigenmill.pca.Groups g) {
+    List<Map<String, Object>> out = new java.util.ArrayList<>();
+    for (io.eigenmill.pca.GroupFit f : g.groups()) {
+      Map<String, Object> m = new LinkedHashMap<>();
+      Map<String, String> key = new LinkedHashMap<>();
+      for (int i = 0; i < g.by().size(); i++) {
+        key.put(g.by().names().get(i), f.key().get(i));
+      }
+      m.put("key", key);
+      m.put("rows_read", f.rowsRead());
+      m.put("rows_used", f.rowsUsed());
+      m.put("skipped", !f.hasModel());
+      if (f.hasModel()) {
+        PcaModel model = f.solved().model();
+        m.put("components", model.k());
+        double[] shares = f.solved().spectrum().varianceShares();
+        m.put("variance_shares", java.util.Arrays.copyOf(shares, model.k()));
+        m.put("total_variance", model.totalVariance());
+        m.put("features_dropped", f.solved().dropped());
+      } else {
+        m.put("reason", f.skipReason());
+      }
+      out.add(m);
+    }
+    return out;
   }
 
   static Map<String, Object> modelSection(PcaModel model, String path) {

@@ -72,4 +72,12 @@ public final class Choices {
     QLimit(String word) { this.word = word; }
     @Override public String word() { return word; }
   }
+
+  /** {@code apply.unknown-group}: what a row of a group the model has no model for gets. */
+  public enum UnknownGroup implements Word {
+    FAIL("fail"), SKIP("skip"), FLAG("flag");
+    private final String word;
+    UnknownGroup(String word) { this.word = word; }
+    @Override public String word() { return word; }
+  }
 }

@@ -82,7 +82,13 @@ public record JobSettings(
 
   public record Prepare(Scaling scaling, MissingPolicy missing) implements Serializable {}
 
-  /** {@code components} empty means: choose k by {@code varianceTarget}, at most {@code maxComponents}. */
+  /**
+   * {@code components} empty means: choose k by {@code varianceTarget}, at most {@code maxComponents}.
+   *
+   * @param groupBy one model per value of these columns ({@code reduce.group-by}; empty: one model)
+   * @param minGroupRows groups with fewer usable rows get no model ({@code reduce.min-group-rows}; empty: 10 x the
+   *     features, see {@link #minGroupRows(int)})
+   */
   public record Reduce(
       Method method,
       OptionalInt components,
@@ -92,13 +98,40 @@ public record JobSettings(
       int covarianceMaxFeatures,
       int oversample,
       int powerIterations,
-      long seed) implements Serializable {}
+      long seed,
+      List<String> groupBy,
+      OptionalInt minGroupRows) implements Serializable {
+
+    public Reduce(Method method, OptionalInt components, double varianceTarget, int maxComponents, int blockRows,
+        int covarianceMaxFeatures, int oversample, int powerIterations, long seed) {
+      this(method, components, varianceTarget, maxComponents, blockRows, covarianceMaxFeatures, oversample,
+          powerIterations, seed, List.of(), OptionalInt.empty());
+    }
+
+    public boolean grouped() {
+      return !groupBy.isEmpty();
+    }
+
+    /**
+     * The fewest usable rows a group needs for its own model with d features: {@code reduce.min-group-rows}, or
+     * 10 d by default (a covariance of d features from fewer than about 10 d rows has eigenvalues far from the
+     * population's: common practice, no source).
+     */
+    public long minGroupRows(int d) {
+      return minGroupRows.isPresent() ? minGroupRows.getAsInt() : 10L * d;
+    }
+  }
 
   /** @param qLimit how the Q control limit is computed ({@code monitor.q-limit}) */
   public record Monitor(double confidence, Choices.QLimit qLimit) implements Serializable {}
 
   /** @param labelRows with entity centroids, also label each row ({@code apply.label-rows}) */
-  public record Apply(String model, String compareWith, String centroids, boolean labelRows) implements Serializable {
+  public record Apply(String model, String compareWith, String centroids, boolean labelRows,
+      Choices.UnknownGroup unknownGroup) implements Serializable {
+    public Apply(String model, String compareWith, String centroids, boolean labelRows) {
+      this(model, compareWith, centroids, labelRows, Choices.UnknownGroup.FLAG);
+    }
+
     public boolean appliesModel() {
       return !model.isEmpty();
     }

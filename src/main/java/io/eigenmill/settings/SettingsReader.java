@@ -173,11 +173,13 @@ public final class SettingsReader {
         f.fraction("reduce.variance-target"), f.intIn("reduce.max-components", 1, 100_000),
         f.intIn("reduce.block-rows", 16, 1 << 20), f.intIn("reduce.covariance-max-features", 1, 200_000),
         f.intIn("reduce.randomized.oversample", 0, 1000), f.intIn("reduce.randomized.power-iterations", 1, 50),
-        f.longValue("reduce.randomized.seed"));
+        f.longValue("reduce.randomized.seed"), f.strings("reduce.group-by"),
+        f.optionalInt("reduce.min-group-rows", 2, Integer.MAX_VALUE));
     var monitor = new JobSettings.Monitor(f.openFraction("monitor.confidence"),
         f.choice("monitor.q-limit", Choices.QLimit.values()));
     var apply = new JobSettings.Apply(f.string("apply.model"), f.string("apply.compare-with"),
-        f.string("apply.centroids"), f.bool("apply.label-rows"));
+        f.string("apply.centroids"), f.bool("apply.label-rows"),
+        f.choice("apply.unknown-group", Choices.UnknownGroup.values()));
     int[] kRange = f.range("cluster.k-range");
     var cluster = new JobSettings.Cluster(f.bool("cluster.enabled"),
         f.choice("cluster.space", Choices.ClusterSpace.values()), f.optionalInt("cluster.k", 1, 10_000),

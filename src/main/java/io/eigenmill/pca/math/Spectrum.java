@@ -9,7 +9,8 @@ package io.eigenmill.pca.math;
  * @param totalVariance trace of the (scaled) covariance: the sum of all d eigenvalues, known even when the method
  *     does not produce them all
  */
-public record Spectrum(int d, double[] eigenvalues, double[] loadings, double totalVariance) {
+public record Spectrum(int d, double[] eigenvalues, double[] loadings, double totalVariance)
+    implements java.io.Serializable {
 
   /** The loading of feature {@code j} in component {@code c} (both zero-based). */
   public double loading(int j, int c) {

@@ -1,0 +1,244 @@
+package io.eigenmill.pca;
+
+import static org.junit.jupiter.api.Assertions.assertArrayEquals;
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertFalse;
+import static org.junit.jupiter.api.Assertions.assertNull;
+import static org.junit.jupiter.api.Assertions.assertThrows;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import com.fasterxml.jackson.databind.JsonNode;
+import com.fasterxml.jackson.databind.ObjectMapper;
+import io.eigenmill.engine.KeyValues;
+import io.eigenmill.io.GroupModels;
+import io.eigenmill.io.ModelStore;
+import io.eigenmill.io.PcaModel;
+import io.eigenmill.record.RunResult;
+import io.eigenmill.run.JobRunner;
+import io.eigenmill.settings.InvalidJobException;
+import io.eigenmill.testing.Datasets;
+import io.eigenmill.testing.JobFiles;
+import io.eigenmill.testing.SparkSuite;
+import java.io.InputStream;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.Arrays;
+import java.util.List;
+import java.util.SplittableRandom;
+import org.apache.spark.sql.Row;
+import org.apache.spark.sql.RowFactory;
+import org.apache.spark.sql.types.DataTypes;
+import org.apache.spark.sql.types.StructType;
+import org.junit.jupiter.api.BeforeAll;
+import org.junit.jupiter.api.Test;
+
+/**
+ * One model per group: each group's model against numpy's eigendecomposition of that group's covariance and
+ * correlation (wine split by its class: src/test/resources/groups/make_reference.py), and the grouped fit against
+ * separate fits of each group's rows (input.where), which it must equal bit for bit.
+ */
+class GroupedFitTest extends SparkSuite {
+  static final String[] FEATURES = {"a", "b", "c", "d", "e"};
+  static Path dir;
+  static Path fleet;
+
+  @BeforeAll
+  static void table() {
+    dir = JobFiles.scratch("groups");
+    fleet = dir.resolve("fleet");
+    StructType schema = new StructType().add("host", DataTypes.StringType).add("hw", DataTypes.StringType);
+    for (String f : FEATURES) {
+      schema = schema.add(f, DataTypes.DoubleType);
+    }
+    SplittableRandom r = new SplittableRandom(5);
+    List<Row> rows = new ArrayList<>();
+    String[] hw = {"gen1", "gen2", "gen3", null, "tiny"};
+    for (int i = 0; i < 5000; i++) {
+      int g = r.nextInt(100) < 2 ? 4 : r.nextInt(4);
+      if (g == 4 && i % 3 != 0) {
+        g = 0;
+      }
+      double u = r.nextGaussian();
+      double v = r.nextGaussian();
+      Object[] x = new Object[FEATURES.length + 2];
+      x[0] = "edge-" + (i % 50);
+      x[1] = hw[g];
+      // each generation loads the two factors differently: the groups' subspaces differ
+      x[2] = 100 * g + u * (1 + g) + 0.1 * r.nextGaussian();
+      x[3] = (g % 2 == 0 ? u : -u) + 2 * v + 0.1 * r.nextGaussian();
+      x[4] = r.nextInt(40) == 0 ? null : g * v + 0.3 * r.nextGaussian();
+      x[5] = 1e6 + 1e3 * (u - v) * (g + 1) + r.nextGaussian();
+      x[6] = r.nextGaussian();
+      rows.add(RowFactory.create(x));
+    }
+    spark.createDataFrame(rows, schema).repartition(4).write().parquet(fleet.toString());
+  }
+
+  static RunResult run(String hocon) {
+    return JobRunner.run(spark, JobFiles.settings(hocon));
+  }
+
+  static JsonNode numpy() throws Exception {
+    try (InputStream in = GroupedFitTest.class.getResourceAsStream("/groups/wine-by-class.reference.json")) {
+      return new ObjectMapper().readTree(in);
+    }
+  }
+
+  @Test
+  void eachWineClassMatchesNumpysEigendecompositionOfItsRows() throws Exception {
+    JsonNode ref = numpy();
+    List<String> features = Datasets.strings(ref.get("features"));
+    String csv = Datasets.csv("wine").toString();
+    for (String scaling : List.of("none", "standardize")) {
+      Path out = dir.resolve("wine-" + scaling);
+      RunResult result = run("input.path = \"" + csv + "\"\ninput.format = csv\nfeatures.columns = "
+          + JobFiles.quoted(features) + "\nreduce.group-by = [class]\nreduce.min-group-rows = 20\n"
+          + "reduce.components = 3\nprepare.scaling = " + scaling + "\noutput.path = \"" + out + "\"\n");
+      Groups groups = result.fit().groups();
+      assertEquals(3, groups.groups().size());
+      GroupModels stored = ModelStore.readGroups(spark, "apply.model", out.toString());
+      assertEquals(List.of("class"), stored.columns());
+      assertEquals(3, stored.models().size());
+      for (String c : List.of("1", "2", "3")) {
+        JsonNode g = ref.get("groups").get(c);
+        JsonNode side = g.get(scaling.equals("none") ? "covariance" : "correlation");
+        PcaModel m = stored.models().get(KeyValues.of(c));
+        assertEquals(g.get("rows").asLong(), m.rows(), "class " + c);
+        double[] ev = Datasets.doubles(side.get("eigenvalues"));
+        // eigenvalues: 1e-9 relative to the largest (both sides are LAPACK-accurate to ~1e-15 lambda_1; the
+        // moments are summed in another order)
+        for (int i = 0; i < ev.length; i++) {
+          assertEquals(ev[i], m.eigenvalues()[i], 1e-9 * ev[0], "class " + c + " eigenvalue " + i);
+        }
+        // loadings of the 3 kept components: within 1e-9 or 64 eps lambda_1 / gap (Davis-Kahan), the larger
+        double[][] v = Datasets.matrix(side.get("loadings_first3"));
+        for (int comp = 0; comp < 3; comp++) {
+          double gap = Math.min(comp > 0 ? ev[comp - 1] - ev[comp] : Double.MAX_VALUE, ev[comp] - ev[comp + 1]);
+          double tol = Math.max(1e-9, 64 * Math.ulp(1.0) * ev[0] / gap);
+          for (int j = 0; j < features.size(); j++) {
+            assertEquals(v[comp][j], m.loading(j, comp), tol, "class " + c + " loading " + j + " of " + comp);
+          }
+        }
+        double[] means = Datasets.doubles(g.get("means"));
+        for (int j = 0; j < means.length; j++) {
+          assertEquals(means[j], m.means()[j], 1e-12 * Math.abs(means[j]), "class " + c + " mean " + j);
+        }
+      }
+      JsonNode summary = new ObjectMapper().readTree(out.resolve("summary.json").toFile());
+      assertEquals(3, summary.get("groups").size());
+      assertEquals("2", summary.get("groups").get(0).get("key").get("class").asText(), "largest class first");
+      assertEquals(3, summary.get("groups").get(0).get("components").asInt());
+      assertEquals(3, summary.get("groups").get(0).get("variance_shares").size());
+      assertEquals("driver", summary.get("group_by").get("solved_on").asText());
+      // the pooled model of all 178 rows, as a fit without groups writes it
+      assertEquals(178, ModelStore.read(spark, "apply.model", out.resolve("pooled-model").toString()).rows());
+    }
+  }
+
+  @Test
+  void theGroupedFitEqualsSeparateFitsOfEachGroupsRowsBitForBit() {
+    Path out = dir.resolve("grouped");
+    String common = "input.path = \"" + fleet + "\"\nfeatures.columns = " + JobFiles.quoted(List.of(FEATURES))
+        + "\nreduce.components = 2\nreduce.block-rows = 64\n";
+    RunResult grouped = run(common + "reduce.group-by = [hw]\nreduce.min-group-rows = 50\noutput.path = \""
+        + out + "\"\n");
+    Groups groups = grouped.fit().groups();
+    assertEquals(5, groups.groups().size());
+    int compared = 0;
+    for (GroupFit g : groups.groups()) {
+      String hw = g.key().get(0);
+      if (!g.hasModel()) {
+        assertEquals("tiny", hw, "only the tiny group is below 50 rows");
+        assertTrue(g.skipReason().contains("reduce.min-group-rows = 50"), g.skipReason());
+        continue;
+      }
+      String where = hw == null ? "hw is null" : "hw = '" + hw + "'";
+      RunResult alone = run(common + "input.where = \"" + where + "\"\noutput.path = \""
+          + dir.resolve("alone-" + hw) + "\"\n");
+      PcaModel a = alone.model();
+      PcaModel b = g.solved().model();
+      assertEquals(a.rows(), b.rows(), where);
+      assertArrayEquals(a.eigenvalues(), b.eigenvalues(), 0.0, where + ": eigenvalues, bit for bit");
+      assertArrayEquals(a.loadings(), b.loadings(), 0.0, where + ": loadings, bit for bit");
+      assertArrayEquals(a.means(), b.means(), 0.0, where + ": means, bit for bit");
+      compared++;
+    }
+    assertEquals(4, compared, "gen1, gen2, gen3 and the null group");
+    GroupModels stored = ModelStore.readGroups(spark, "apply.model", out.toString());
+    assertTrue(stored.models().containsKey(new KeyValues(Arrays.asList((String) null))), "the null group");
+    assertFalse(stored.models().containsKey(KeyValues.of("tiny")));
+    assertEquals(5000, grouped.fit().rowsRead());
+    assertEquals(5000 - grouped.fit().rowsDropped(), grouped.model().rows(), "the pooled model has every row");
+  }
+
+  @Test
+  void thePartitioningChangesNothingBeyondRounding() {
+    String common = "features.columns = " + JobFiles.quoted(List.of(FEATURES)) + "\nreduce.components = 2\n"
+        + "reduce.group-by = [hw]\nreduce.min-group-rows = 50\n";
+    Path one = dir.resolve("one-file");
+    spark.read().parquet(fleet.toString()).coalesce(1).write().parquet(one.toString());
+    RunResult a = run(common + "input.path = \"" + fleet + "\"\noutput.path = \"" + dir.resolve("p4") + "\"\n");
+    RunResult b = run(common + "input.path = \"" + one + "\"\noutput.path = \"" + dir.resolve("p1") + "\"\n");
+    var ma = a.fit().groups().models();
+    var mb = b.fit().groups().models();
+    assertEquals(ma.keySet(), mb.keySet());
+    for (KeyValues k : ma.keySet()) {
+      double[] ea = ma.get(k).eigenvalues();
+      double[] eb = mb.get(k).eigenvalues();
+      for (int i = 0; i < ea.length; i++) {
+        // the same rows merged in other trees: 1e-10 relative to the largest eigenvalue (the moments agree to a
+        // few hundred eps of lambda_1)
+        assertEquals(ea[i], eb[i], 1e-10 * ea[0], k + " eigenvalue " + i);
+      }
+    }
+  }
+
+  @Test
+  void oneGroupAKeyThatIsAFeatureAndTheRandomizedMethodAreDocumentedCases() {
+    String common = "input.path = \"" + fleet + "\"\nfeatures.columns = " + JobFiles.quoted(List.of(FEATURES))
+        + "\n";
+    RunResult single = run(common + "input.where = \"hw = 'gen2'\"\nreduce.group-by = [hw]\nreduce.components = 2\n"
+        + "output.path = \"" + dir.resolve("single") + "\"\n");
+    assertEquals(1, single.fit().groups().groups().size());
+    PcaModel only = single.fit().groups().models().get(KeyValues.of("gen2"));
+    assertArrayEquals(single.model().eigenvalues(), only.eigenvalues(), 1e-12 * only.eigenvalues()[0],
+        "one group: its model is the pooled model");
+    InvalidJobException feature = assertThrows(InvalidJobException.class, () -> run("input.path = \"" + fleet
+        + "\"\nreduce.group-by = [a]\noutput.path = \"" + dir.resolve("x1") + "\"\n"));
+    assertTrue(feature.getMessage().contains("reduce.group-by = [a]: column a is also a feature"),
+        feature.getMessage());
+    InvalidJobException randomized = assertThrows(InvalidJobException.class, () -> run(common
+        + "reduce.group-by = [hw]\nreduce.method = randomized\noutput.path = \"" + dir.resolve("x2") + "\"\n"));
+    assertTrue(randomized.getMessage().contains("reduce.method = randomized"), randomized.getMessage());
+    InvalidJobException missing = assertThrows(InvalidJobException.class, () -> run(common
+        + "reduce.group-by = [rack]\noutput.path = \"" + dir.resolve("x3") + "\"\n"));
+    assertTrue(missing.getMessage().contains("column rack is not in the input"), missing.getMessage());
+    // default minimum: 10 x 5 features = 50 rows; the tiny group (about 30 rows) has none
+    RunResult defaults = run(common + "reduce.group-by = [hw]\noutput.path = \"" + dir.resolve("defaults") + "\"\n");
+    assertEquals(50, defaults.fit().groups().minRows());
+    GroupFit tiny = defaults.fit().groups().groups().stream().filter(g -> "tiny".equals(g.key().get(0)))
+        .findFirst().orElseThrow();
+    assertNull(tiny.solved());
+  }
+
+  @Test
+  void tsqrFitsEachGroupToo() {
+    RunResult cov = run("input.path = \"" + fleet + "\"\nfeatures.columns = " + JobFiles.quoted(List.of(FEATURES))
+        + "\nreduce.group-by = [hw]\nreduce.components = 2\nreduce.method = covariance\noutput.path = \""
+        + dir.resolve("cov") + "\"\n");
+    RunResult tsqr = run("input.path = \"" + fleet + "\"\nfeatures.columns = " + JobFiles.quoted(List.of(FEATURES))
+        + "\nreduce.group-by = [hw]\nreduce.components = 2\nreduce.method = tsqr\noutput.path = \""
+        + dir.resolve("tsqr") + "\"\n");
+    var a = cov.fit().groups().models();
+    var b = tsqr.fit().groups().models();
+    assertEquals(a.keySet(), b.keySet());
+    for (KeyValues k : a.keySet()) {
+      for (int i = 0; i < 5; i++) {
+        // two methods, the same eigenvalues: 1e-9 relative to the largest (the covariance squares the condition
+        // number, TSQR does not; both are far more accurate than this here)
+        assertEquals(a.get(k).eigenvalues()[i], b.get(k).eigenvalues()[i], 1e-9 * a.get(k).eigenvalues()[0],
+            k + " eigenvalue " + i);
+      }
+    }
+  }
+}
