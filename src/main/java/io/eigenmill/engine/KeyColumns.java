@@ -142,6 +142,21 @@ public record KeyColumns(List<String> names, List<String> types, String zone) im
       return lastKey;
     }
 
+    /** The key code of an internal row whose key columns, cast to string, are at positions {@code from ..}. */
+    public int code(org.apache.spark.sql.catalyst.InternalRow row, int from) {
+      List<String> texts = new ArrayList<>(columns.length);
+      for (int c = 0; c < columns.length; c++) {
+        String t = row.isNullAt(from + c) ? null : row.getUTF8String(from + c).toString();
+        texts.add("-0.0".equals(t) ? "0.0" : t);
+      }
+      if (lastKey >= 0 && texts.equals(lastTexts)) {
+        return lastKey;
+      }
+      lastTexts = texts;
+      lastKey = intern(new KeyValues(texts));
+      return lastKey;
+    }
+
     private int intern(KeyValues key) {
       Integer known = byText.get(key);
       if (known == null) {

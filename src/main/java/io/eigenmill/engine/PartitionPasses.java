@@ -129,7 +129,7 @@ public final class PartitionPasses {
    * Column j of {@link #gatherRows}: the same values and missing cells as {@link #copyColumn} gives for the same rows
    * (a null cell never read, NaN and infinities missing, the sink's origin subtracted), one value at a time.
    */
-  static void gatherColumn(ColumnVector v, int kind, int[] rows, int from, int t, BlockSink sink, int j) {
+  public static void gatherColumn(ColumnVector v, int kind, int[] rows, int from, int t, BlockSink sink, int j) {
     double[] dst = sink.block();
     int off = j * sink.ld() + sink.base();
     double[] origin = sink.origin();

@@ -15,6 +15,11 @@ public final class Stopwatch {
     started = now;
   }
 
+  /** Starts the next stage now, without recording the time since the last lap (timed elsewhere). */
+  public void restart() {
+    started = System.nanoTime();
+  }
+
   public Map<String, Double> timings() {
     return new LinkedHashMap<>(seconds);
   }

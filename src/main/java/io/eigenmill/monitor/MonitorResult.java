@@ -33,7 +33,16 @@ public record MonitorResult(
     Series series,
     List<String> topColumns,
     List<FlaggedRow> top,
-    List<String> warnings) {
+    List<String> warnings,
+    long unknownGroupRows,
+    List<String> unknownGroups) {
+
+  public MonitorResult(double confidence, int k, long rowsScored, long flaggedT2, long flaggedQ, long flaggedBoth,
+      double t2Limit, String t2LimitRule, double qLimit, String qLimitRule, String qRule, double qH0,
+      boolean fittedRows, Series series, List<String> topColumns, List<FlaggedRow> top, List<String> warnings) {
+    this(confidence, k, rowsScored, flaggedT2, flaggedQ, flaggedBoth, t2Limit, t2LimitRule, qLimit, qLimitRule, qRule,
+        qH0, fittedRows, series, topColumns, top, warnings, 0, List.of());
+  }
 
   /**
    * Plot points: {@code position} is seconds since the epoch when {@code positionLabel} is a time column. Per time

@@ -49,6 +49,10 @@ final class PartitionGathering {
 
   private long scored;
   private long dropped;
+  private long unknown;
+  /** Groups without a model met in this partition (at most {@link #UNKNOWN_LISTED}), as text. */
+  private final java.util.Set<String> unknownGroups = new java.util.LinkedHashSet<>();
+  static final int UNKNOWN_LISTED = 20;
   private long flaggedT2;
   private long flaggedQ;
   private long flaggedBoth;
@@ -73,7 +77,7 @@ final class PartitionGathering {
     this.layout = layout;
     this.counters = counters;
     this.scorer = spec.scorer();
-    this.d = scorer.dimension();
+    this.d = spec.features().size();
     this.k = scorer.components();
     this.p = layout.passThrough();
     this.passOrdinals = passOrdinals;
@@ -89,8 +93,16 @@ final class PartitionGathering {
     this.keyHash = new KeyHash(keyOrdinals, Arrays.copyOf(layout.types(), layout.keys()));
     this.drift = scoring && counters.drift() != null ? new DriftMoments(d, k) : null;
     this.modelMeans = new double[d];
-    for (int j = 0; j < d; j++) {
+    for (int j = 0; j < d && spec.groups() == null; j++) {
       modelMeans[j] = scorer.mean(j);
+    }
+  }
+
+  /** Rows of a group without a model ({@code apply.unknown-group}). */
+  void unknown(io.eigenmill.engine.KeyValues key, int rows) {
+    unknown += rows;
+    if (unknownGroups.size() < UNKNOWN_LISTED) {
+      unknownGroups.add(key.display(spec.groups().keys().names()));
     }
   }
 
@@ -114,8 +126,15 @@ final class PartitionGathering {
   }
 
   private void flagAndCollect(ScoreBlocks b) {
-    double t2Limit = spec.t2Limit();
-    double qLimit = spec.qLimit();
+    if (b.group == GroupScoring.UNKNOWN) {
+      // rows of a group without a model, kept as unusual (apply.unknown-group = flag): flagged by both
+      flaggedT2 += b.rows();
+      flaggedQ += b.rows();
+      flaggedBoth += b.rows();
+      return;
+    }
+    double t2Limit = b.t2Limit;
+    double qLimit = b.qLimit;
     double[] t2 = b.t2;
     double[] q = b.q;
     for (int i = 0, count = b.rows(); i < count; i++) {
@@ -141,12 +160,14 @@ final class PartitionGathering {
     for (int c = 0; c < p; c++) {
       keys.add(keyText(src, c));
     }
-    int top = Math.min(TOP_FEATURES, d);
+    Scorer s = b.scorer;
+    int dm = s.dimension();
+    int top = Math.min(TOP_FEATURES, dm);
     int[] idx = new int[top];
     double[] val = new double[top];
     Arrays.fill(val, -1);
-    for (int j = 0; j < d; j++) {
-      double r = scorer.residual(i, j, b.rows());
+    for (int j = 0; j < dm; j++) {
+      double r = s.residual(i, j, b.rows());
       double v = r * r;
       if (v > val[top - 1]) {
         int at = top - 1;
@@ -156,10 +177,11 @@ final class PartitionGathering {
           at--;
         }
         val[at] = v;
-        idx[at] = j;
+        idx[at] = b.columns == null ? j : b.columns[j];
       }
     }
-    return new TopRows.Candidate(keys, severity, b.t2[i], b.q[i], idx, val);
+    return new TopRows.Candidate(keys, severity, b.t2[i], b.q[i], idx, val, b.t2[i] > b.t2Limit,
+        b.qLimit > 0 && b.q[i] > b.qLimit);
   }
 
   /**
@@ -206,24 +228,31 @@ final class PartitionGathering {
     if (buckets == null && !keyed) {
       return;
     }
+    if (b.group == GroupScoring.UNKNOWN) {
+      return;
+    }
     int time = buckets == null ? -1 : passOrdinals[layout.timeColumn()];
     boolean days = layout.timeInDays();
-    double t2Limit = spec.t2Limit();
-    double qLimit = spec.qLimit();
+    double t2Limit = b.t2Limit;
+    double qLimit = b.qLimit;
+    boolean grouped = spec.groups() != null;
     double[] t2 = b.t2;
     double[] q = b.q;
     for (int i = 0, count = b.rows(); i < count; i++) {
       InternalRow src = b.source(i);
+      // with groups each row has its group's limits: the series holds T2 and Q as ratios to them (limit 1)
+      double t2i = grouped ? t2[i] / t2Limit : t2[i];
+      double qi = grouped ? (qLimit > 0 ? q[i] / qLimit : 0.0) : q[i];
       if (time >= 0 && !src.isNullAt(time)) {
         long seconds = days ? src.getInt(time) * SECONDS_PER_DAY : Math.floorDiv(src.getLong(time), MICROS_PER_SECOND);
-        buckets.add(seconds, t2[i], q[i], t2[i] > t2Limit, qLimit > 0 && q[i] > qLimit);
+        buckets.add(seconds, t2i, qi, t2[i] > t2Limit, qLimit > 0 && q[i] > qLimit);
       }
       if (keyed) {
         long h = keyHash.of(src);
         if (seriesSample != null) {
           long rank = SeedStream.mix(h ^ seriesStream);
           if (seriesSample.admits(rank)) {
-            seriesSample.offer(rank, valuesHash(b, i), new double[] {t2[i], q[i]});
+            seriesSample.offer(rank, valuesHash(b, i), new double[] {t2i, qi});
           }
         }
         if (sample != null) {
@@ -257,7 +286,7 @@ final class PartitionGathering {
   }
 
   private double[] firstScores(ScoreBlocks b, int i) {
-    double[] out = new double[Math.min(SAMPLE_SCORES, k)];
+    double[] out = new double[Math.min(SAMPLE_SCORES, b.k)];
     int count = b.rows();
     for (int c = 0; c < out.length; c++) {
       out[c] = b.scores[c * count + i];
@@ -290,6 +319,10 @@ final class PartitionGathering {
   void finish() {
     counters.scored().add(scored);
     counters.dropped().add(dropped);
+    if (unknown > 0) {
+      counters.unknown().add(unknown);
+      unknownGroups.forEach(counters.unknownGroups()::add);
+    }
     if (spec.reconstruct()) {
       counters.errors().addSums(scored, sse, maxAbs, ssd);
       return;

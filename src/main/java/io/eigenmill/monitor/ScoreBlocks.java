@@ -28,9 +28,23 @@ import org.apache.spark.sql.vectorized.ColumnarBatch;
 abstract class ScoreBlocks implements Iterator<InternalRow> {
   final ScoringPass.Spec spec;
   final ScoringPass.Layout layout;
-  private final Scorer scorer;
+  /** The scorer of the block being scored: the model's, or with groups the block's group's (null: unknown). */
+  Scorer scorer;
+  /** The block's model's columns in the block (with groups, when its features are not the block's); else null. */
+  int[] columns;
+  /** The block's group ({@link GroupScoring#UNKNOWN} for a group without a model); 0 without groups. */
+  int group;
+  double t2Limit;
+  double qLimit;
   final int d;
-  final int k;
+  /** Components of the block's model. */
+  int k;
+  /** Score columns of the output: k, or the largest k of the groups. */
+  final int outK;
+  final GroupScoring groups;
+  /** With groups: the per-task coder of the group columns and each code's group number (-2: not yet known). */
+  final io.eigenmill.engine.KeyColumns.Coder coder;
+  private int[] groupOfCode = new int[0];
   final int m;
   final int p;
   /** The block being filled and scored; {@link #x} is its values array. */
@@ -52,14 +66,19 @@ abstract class ScoreBlocks implements Iterator<InternalRow> {
     this.spec = spec;
     this.layout = layout;
     this.scorer = spec.scorer();
-    this.d = scorer.dimension();
+    this.groups = spec.groups();
+    this.d = spec.features().size();
     this.k = scorer.components();
+    this.outK = spec.outputK();
+    this.t2Limit = spec.t2Limit();
+    this.qLimit = spec.qLimit();
+    this.coder = groups == null ? null : groups.keys().coder();
     this.m = spec.blockRows();
     this.p = layout.passThrough();
     this.block = spec.missing() == MissingPolicy.IMPUTE_MEAN ? ColumnBlock.imputing(d, m, spec.imputeValues())
         : ColumnBlock.dropping(d, m);
     this.x = block.block();
-    this.scores = new double[Math.max(1, m * k)];
+    this.scores = new double[Math.max(1, m * outK)];
     this.t2 = new double[m];
     this.q = new double[m];
     this.origins = new int[m];
@@ -106,9 +125,56 @@ abstract class ScoreBlocks implements Iterator<InternalRow> {
       gathering.finish();
       return false;
     }
-    scorer.score(x, rows(), m, scores, t2, q);
+    if (group == GroupScoring.UNKNOWN) {
+      // a flagged row of a group without a model: no scores, flagged by both statistics
+      java.util.Arrays.fill(t2, 0, rows(), Double.NaN);
+      java.util.Arrays.fill(q, 0, rows(), Double.NaN);
+    } else {
+      scorer.score(x, rows(), m, columns, scores, t2, q);
+    }
     gathering.add(this);
     return true;
+  }
+
+  /** Makes group {@code g} the block's group: its scorer, columns and limits. */
+  final void useGroup(int g) {
+    group = g;
+    if (g == GroupScoring.UNKNOWN) {
+      scorer = null;
+      columns = null;
+      k = 0;
+      t2Limit = Double.NaN;
+      qLimit = Double.NaN;
+      return;
+    }
+    scorer = groups.scorers()[g];
+    columns = groups.columns()[g];
+    k = groups.ks()[g];
+    t2Limit = groups.t2Limits()[g];
+    qLimit = groups.qLimits()[g];
+  }
+
+  /** The group number of key code {@code code} of this task's coder. */
+  final int groupOf(int code) {
+    if (code >= groupOfCode.length) {
+      int from = groupOfCode.length;
+      groupOfCode = java.util.Arrays.copyOf(groupOfCode, Math.max(code + 1, 2 * from));
+      java.util.Arrays.fill(groupOfCode, from, groupOfCode.length, -2);
+    }
+    if (groupOfCode[code] == -2) {
+      groupOfCode[code] = groups.group(coder.key(code));
+    }
+    return groupOfCode[code];
+  }
+
+  /** Whether rows of group {@code g} are scored (or flagged), rather than left out: an unknown group with skip. */
+  final boolean kept(int g) {
+    return g != GroupScoring.UNKNOWN || groups.unknown() == io.eigenmill.settings.Choices.UnknownGroup.FLAG;
+  }
+
+  /** Counts {@code rows} rows of an unknown group (key code {@code code}). */
+  final void unknown(int code, int rows) {
+    gathering.unknown(coder.key(code), rows);
   }
 
   @Override
@@ -126,12 +192,18 @@ abstract class ScoreBlocks implements Iterator<InternalRow> {
     if (spec.reconstruct()) {
       return scorer.reconstructed(x, m, i, c, rows());
     }
-    return c < k ? scores[c * rows() + i] : c == k ? t2[i] : q[i];
+    if (c < outK) {
+      return c < k ? scores[c * rows() + i] : Double.NaN;
+    }
+    return c == outK ? t2[i] : q[i];
   }
 
-  /** Flag column c (k + 2: flag_t2, k + 3: flag_q) of block row i. */
+  /** Flag column c (outK + 2: flag_t2, outK + 3: flag_q) of block row i; both true for an unknown group's row. */
   boolean flag(int c, int i) {
-    return c == k + 2 ? t2[i] > spec.t2Limit() : spec.qLimit() > 0 && q[i] > spec.qLimit();
+    if (group == GroupScoring.UNKNOWN) {
+      return true;
+    }
+    return c == outK + 2 ? t2[i] > t2Limit : qLimit > 0 && q[i] > qLimit;
   }
 
   // ---- the readers
@@ -145,6 +217,12 @@ abstract class ScoreBlocks implements Iterator<InternalRow> {
     private ColumnarBatch batch;
     private int batchRows;
     private int start;
+    /** With groups: the batch's rows ordered by group (stable), their groups, and the key vectors. */
+    private int[] order = new int[0];
+    private int[] codes = new int[0];
+    /** The key codes of the ordered rows ({@code ordered[i]} is the code of row {@code order[i]}). */
+    private int[] ordered = new int[0];
+    private final ColumnVector[] keyVectors;
 
     FromBatches(Iterator<ColumnarBatch> batches, ScoringPass.Spec spec, ScoringPass.Layout layout,
         ScoringPass.Counters counters, int[] passOrdinals, int[] featureOrdinals, int[] kinds) {
@@ -153,13 +231,90 @@ abstract class ScoreBlocks implements Iterator<InternalRow> {
       this.featureOrdinals = featureOrdinals;
       this.kinds = kinds;
       this.vectors = new ColumnVector[featureOrdinals.length];
+      this.keyVectors = groups == null ? null : new ColumnVector[groups.keys().size()];
+    }
+
+    /**
+     * With groups: orders the batch's rows by group (a stable counting sort of their key codes), leaving out the
+     * rows of unknown groups under skip (counted); a block then takes the next rows of one group only.
+     */
+    private void orderByGroup() {
+      for (int c = 0; c < keyVectors.length; c++) {
+        keyVectors[c] = batch.column(passOrdinals[layout.groupColumns()[c]]);
+      }
+      if (codes.length < batchRows) {
+        codes = new int[batchRows];
+        order = new int[batchRows];
+      }
+      for (int r = 0; r < batchRows; r++) {
+        codes[r] = coder.code(keyVectors, r);
+      }
+      int keys = coder.count();
+      int[] starts = new int[keys + 1];
+      for (int r = 0; r < batchRows; r++) {
+        starts[codes[r] + 1]++;
+      }
+      for (int c = 0; c < keys; c++) {
+        starts[c + 1] += starts[c];
+      }
+      int[] next = java.util.Arrays.copyOf(starts, keys);
+      int[] sorted = new int[batchRows];
+      for (int r = 0; r < batchRows; r++) {
+        sorted[next[codes[r]]++] = r;
+      }
+      int kept = 0;
+      for (int c = 0; c < keys; c++) {
+        int n = starts[c + 1] - starts[c];
+        if (n == 0) {
+          continue;
+        }
+        int g = groupOf(c);
+        if (g == GroupScoring.UNKNOWN) {
+          unknown(c, n);
+        }
+        if (!kept(g)) {
+          continue;
+        }
+        System.arraycopy(sorted, starts[c], order, kept, n);
+        kept += n;
+      }
+      if (ordered.length < kept) {
+        ordered = new int[codes.length];
+      }
+      for (int i = 0; i < kept; i++) {
+        ordered[i] = codes[order[i]];
+      }
+      batchRows = kept;
+    }
+
+    /** With groups: the next slice of one group's rows of the ordered batch. */
+    private boolean fillGroup() {
+      int g = groupOf(ordered[start]);
+      int t = 1;
+      while (t < m && start + t < batchRows && ordered[start + t] == ordered[start]) {
+        t++;
+      }
+      useGroup(g);
+      for (int i = 0; i < t; i++) {
+        origins[i] = order[start + i];
+      }
+      for (int j = 0; j < vectors.length; j++) {
+        PartitionPasses.gatherColumn(vectors[j], kinds[j], order, start, t, block, j);
+      }
+      commit(t, true);
+      start += t;
+      return rows() > 0;
     }
 
     /** The next slice of at most one block of the current batch (a block never spans two batches). */
     @Override
     boolean fill() {
       while (true) {
-        if (batch != null && start < batchRows) {
+        if (batch != null && start < batchRows && groups != null) {
+          if (fillGroup()) {
+            return true;
+          }
+        } else if (batch != null && start < batchRows) {
           int t = Math.min(m, batchRows - start);
           for (int i = 0; i < t; i++) {
             origins[i] = start + i;
@@ -178,6 +333,9 @@ abstract class ScoreBlocks implements Iterator<InternalRow> {
           start = 0;
           for (int j = 0; j < vectors.length; j++) {
             vectors[j] = batch.column(featureOrdinals[j]);
+          }
+          if (groups != null) {
+            orderByGroup();
           }
         } else {
           batch = null;
@@ -213,10 +371,47 @@ abstract class ScoreBlocks implements Iterator<InternalRow> {
       return o;
     }
 
+    /** With groups: a row of another group than the block's, read but kept for the next block. */
+    private InternalRow pending;
+    private int pendingGroup;
+
+    /**
+     * With groups, a block holds rows of one group: the first row of another group ends it and starts the next
+     * (rows in group order make full blocks; rows in random order make blocks of one row, correct but slower).
+     */
     @Override
     boolean fill() {
-      while (rows() < m && rows.hasNext()) {
-        InternalRow row = rows.next();
+      int blockGroup = Integer.MIN_VALUE;
+      while (rows() < m && (pending != null || rows.hasNext())) {
+        InternalRow row;
+        int g = 0;
+        if (pending != null) {
+          row = pending;
+          g = pendingGroup;
+          pending = null;
+        } else {
+          row = rows.next();
+          if (groups != null) {
+            int code = coder.code(row, p + d);
+            g = groupOf(code);
+            if (g == GroupScoring.UNKNOWN) {
+              unknown(code, 1);
+            }
+            if (!kept(g)) {
+              continue;
+            }
+          }
+        }
+        if (groups != null) {
+          if (blockGroup == Integer.MIN_VALUE) {
+            blockGroup = g;
+            useGroup(g);
+          } else if (g != blockGroup) {
+            pending = row.copy();
+            pendingGroup = g;
+            break;
+          }
+        }
         int at = rows();
         for (int j = 0; j < d; j++) {
           int c = p + j;

@@ -23,6 +23,8 @@ final class ScoredRow extends InternalRow {
   private final int[] passOrdinals;
   private final DataType[] types;
   private final int firstFlag;
+  /** With groups, a score beyond a group's k (and every score of an unknown group's row) is null. */
+  private final boolean nullableScores;
   private transient InternalRow source;
   private int i;
 
@@ -31,9 +33,10 @@ final class ScoredRow extends InternalRow {
     this.p = blocks.p;
     this.passOrdinals = blocks.passOrdinals;
     this.types = blocks.layout.types();
-    int k = blocks.k;
+    int k = blocks.outK;
     this.width = p + (blocks.spec.reconstruct() ? blocks.d : k + 4);
     this.firstFlag = blocks.spec.reconstruct() ? Integer.MAX_VALUE : p + k + 2;
+    this.nullableScores = blocks.groups != null;
   }
 
   void at(InternalRow source, int i) {
@@ -48,7 +51,10 @@ final class ScoredRow extends InternalRow {
 
   @Override
   public boolean isNullAt(int o) {
-    return o < p && source.isNullAt(passOrdinals[o]);
+    if (o < p) {
+      return source.isNullAt(passOrdinals[o]);
+    }
+    return nullableScores && o < firstFlag && Double.isNaN(blocks.statistic(o - p, i));
   }
 
   @Override
@@ -126,7 +132,10 @@ final class ScoredRow extends InternalRow {
     if (o < p) {
       return source.isNullAt(passOrdinals[o]) ? null : source.get(passOrdinals[o], type);
     }
-    return o >= firstFlag ? (Object) blocks.flag(o - p, i) : (Object) blocks.statistic(o - p, i);
+    if (o >= firstFlag) {
+      return blocks.flag(o - p, i);
+    }
+    return isNullAt(o) ? null : (Object) blocks.statistic(o - p, i);
   }
 
   /** An independent row with the same values (pass-through values copied). */

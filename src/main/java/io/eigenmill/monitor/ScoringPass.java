@@ -108,8 +108,27 @@ public final class ScoringPass {
    * @param sampleSize rows of the report's score sample ({@code output.report-sample}); 0 for none
    */
   public record Spec(Scorer scorer, List<String> features, int blockRows, MissingPolicy missing,
-      double[] imputeValues, double t2Limit, double qLimit, boolean reconstruct, int sampleSize)
-      implements Serializable {}
+      double[] imputeValues, double t2Limit, double qLimit, boolean reconstruct, int sampleSize,
+      GroupScoring groups) implements Serializable {
+    public Spec(Scorer scorer, List<String> features, int blockRows, MissingPolicy missing, double[] imputeValues,
+        double t2Limit, double qLimit, boolean reconstruct, int sampleSize) {
+      this(scorer, features, blockRows, missing, imputeValues, t2Limit, qLimit, reconstruct, sampleSize, null);
+    }
+
+    /** Score columns: k, or with groups the largest k of the groups. */
+    public int outputK() {
+      return groups != null ? groups.outputK() : scorer.components();
+    }
+  }
+
+  /**
+   * The pass that scores each row with its group's model ({@link GroupScoring}); missing values drop the row or
+   * fail (impute-mean is refused with groups by the planner).
+   */
+  public static Spec groupedSpec(GroupScoring groups, List<String> features, JobSettings settings) {
+    return new Spec(groups.scorers()[0], features, settings.reduce().blockRows(), settings.prepare().missing(),
+        null, Double.NaN, Double.NaN, false, settings.output().reportSample(), groups);
+  }
 
   /**
    * The pass of {@code model} under {@code settings} (block size, missing values, report sample) against
@@ -132,14 +151,15 @@ public final class ScoringPass {
    */
   public record Counters(LongAccumulator scored, LongAccumulator dropped, LongAccumulator flaggedT2,
       LongAccumulator flaggedQ, LongAccumulator flaggedBoth, TopRows top, FeatureErrors errors, SeriesMaxima series,
-      RowSample<double[]> seriesSample, RowSample<SampledRow> sample, DriftPartials drift) implements Serializable {
+      RowSample<double[]> seriesSample, RowSample<SampledRow> sample, DriftPartials drift, LongAccumulator unknown,
+      org.apache.spark.util.CollectionAccumulator<String> unknownGroups) implements Serializable {
 
     /** These counters, also gathering the moments of the scored rows against the model (new data only). */
     public Counters withDrift(org.apache.spark.SparkContext sc, String stage, Spec spec) {
       DriftPartials partials = new DriftPartials(spec.scorer().dimension(), spec.scorer().components());
       sc.register(partials, "eigenmill data drift (" + stage + ")");
       return new Counters(scored, dropped, flaggedT2, flaggedQ, flaggedBoth, top, errors, series, seriesSample, sample,
-          partials);
+          partials, unknown, unknownGroups);
     }
 
     public static Counters register(org.apache.spark.SparkContext sc, String stage, Spec spec, int topRows) {
@@ -155,7 +175,8 @@ public final class ScoringPass {
       sc.register(sample, "eigenmill score sample (" + stage + ")");
       return new Counters(sc.longAccumulator(stage + " scored"), sc.longAccumulator(stage + " dropped"),
           sc.longAccumulator(stage + " flagged T2"), sc.longAccumulator(stage + " flagged Q"),
-          sc.longAccumulator(stage + " flagged both"), top, errors, series, seriesSample, sample, null);
+          sc.longAccumulator(stage + " flagged both"), top, errors, series, seriesSample, sample, null,
+          sc.longAccumulator(stage + " unknown group"), sc.collectionAccumulator(stage + " unknown groups"));
     }
   }
 
@@ -164,8 +185,10 @@ public final class ScoringPass {
    *
    * @param keys the first {@code keys} pass-through columns are the table's keys (hashed for the samples)
    * @param timeColumn the pass-through column along which the series runs (a timestamp or a date), or -1
+   * @param groupColumns with groups, the pass-through position of each group column; else null
    */
-  record Layout(int passThrough, int keys, DataType[] types, int timeColumn) implements Serializable {
+  record Layout(int passThrough, int keys, DataType[] types, int timeColumn, int[] groupColumns)
+      implements Serializable {
     boolean timeInDays() {
       return timeColumn >= 0 && types[timeColumn].equals(DataTypes.DateType);
     }
@@ -206,6 +229,12 @@ public final class ScoringPass {
       raw.add(functions.col(quoted(f)));
       cast.add(functions.col(quoted(f)).cast("double"));
     }
+    if (spec.groups() != null) {
+      // the row reader finds each row's group in its text, after the features
+      for (String g : spec.groups().keys().names()) {
+        cast.add(functions.col(quoted(g)).cast("string"));
+      }
+    }
     Dataset<Row> selection = table.select(raw.toArray(new Column[0]));
     int p = passThrough.size();
     DataType[] types = new DataType[p];
@@ -224,7 +253,18 @@ public final class ScoringPass {
       }
     }
     out = scoreColumns(out, spec);
-    Layout layout = new Layout(p, keys.size(), types, spec.reconstruct() ? -1 : time);
+    int[] groupAt = null;
+    if (spec.groups() != null) {
+      groupAt = new int[spec.groups().keys().size()];
+      for (int g = 0; g < groupAt.length; g++) {
+        groupAt[g] = passThrough.indexOf(spec.groups().keys().names().get(g));
+        if (groupAt[g] < 0) {
+          throw new IllegalStateException("group column " + spec.groups().keys().names().get(g)
+              + " is not among the pass-through columns " + passThrough);
+        }
+      }
+    }
+    Layout layout = new Layout(p, keys.size(), types, spec.reconstruct() ? -1 : time, groupAt);
     // the names as the selection resolved them (the scan's attributes carry the table's spelling)
     List<String> names = List.of(selection.schema().fieldNames());
     ColumnarScan scan = ColumnarScan.of(selection);
@@ -254,10 +294,13 @@ public final class ScoringPass {
       }
       return out;
     }
-    for (int c = 1; c <= spec.scorer().components(); c++) {
-      out = out.add("pc_" + c, DataTypes.DoubleType, false);
+    // with groups, a group with fewer components has nulls beyond its k, and a row of an unknown group (flagged)
+    // has null scores
+    boolean nullable = spec.groups() != null;
+    for (int c = 1; c <= spec.outputK(); c++) {
+      out = out.add("pc_" + c, DataTypes.DoubleType, nullable);
     }
-    return out.add("t2", DataTypes.DoubleType, false).add("q", DataTypes.DoubleType, false)
+    return out.add("t2", DataTypes.DoubleType, nullable).add("q", DataTypes.DoubleType, nullable)
         .add("flag_t2", DataTypes.BooleanType, false).add("flag_q", DataTypes.BooleanType, false);
   }
 

@@ -2,7 +2,10 @@ package io.eigenmill.monitor;
 
 import io.eigenmill.engine.Progress;
 import io.eigenmill.io.OutputCommit;
+import io.eigenmill.engine.KeyColumns;
+import io.eigenmill.engine.KeyValues;
 import io.eigenmill.io.PcaModel;
+import java.util.Map;
 import io.eigenmill.monitor.math.ControlLimits;
 import io.eigenmill.monitor.math.HashSample;
 import io.eigenmill.monitor.math.TimeBuckets;
@@ -83,7 +86,7 @@ public final class ScoringStage {
     }
     MonitorResult monitor = new MonitorResult(confidence, model.k(), rows, flaggedT2, flaggedQ,
         counters.flaggedBoth().value(), limits.t2(), limits.t2Rule(), limits.q(), limits.qRule(), limits.qMethod(),
-        limits.qH0(), fittedRows, series(scored, counters), scored.passThrough(), flagged(counters.top(), limits),
+        limits.qH0(), fittedRows, series(scored, counters), scored.passThrough(), flagged(counters.top(), model.features()),
         List.copyOf(warnings));
     LOG.info("score: {} rows, flagged T2 {}, Q {}, both {}", monitor.rowsScored(), monitor.flaggedT2(),
         monitor.flaggedQ(), monitor.flaggedBoth());
@@ -92,6 +95,71 @@ public final class ScoringStage {
     }
     DataDriftResult dataDrift = fittedRows ? null : DataDrift.of(model, counters.drift().value());
     return new Outcome(monitor, sample(scored, counters), path, dataDrift);
+  }
+
+  /**
+   * Scores every row with its group's model ({@code models}: key, the group values as text, to model; the group
+   * columns {@code by}): one pass, blocks of one group each ({@link GroupScoring}). A row of a group without a model
+   * follows {@code apply.unknown-group}: fail (exit 2 after the pass, naming up to 20 such groups), skip (left out,
+   * counted) or flag (kept with null scores, flagged by both statistics, counted). The monitoring series holds T2 and
+   * Q as ratios to each row's group limits (the limit line is 1). No data drift: it is of one model.
+   */
+  public Outcome scoreGroups(Dataset<Row> table, KeyColumns by, Map<KeyValues, PcaModel> models,
+      List<String> features, boolean fittedRows) {
+    JobSettings s = plan.settings();
+    double confidence = s.monitor().confidence();
+    if (models.isEmpty()) {
+      throw new InvalidJobException("reduce.group-by = " + by.names() + ": no group has a model, so no row can be"
+          + " scored; lower reduce.min-group-rows or group by fewer columns");
+    }
+    GroupScoring groups = GroupScoring.of(by, models, features, s.monitor(), fittedRows, s.apply().unknownGroup());
+    ScoringPass.Spec spec = ScoringPass.groupedSpec(groups, features, s);
+    ScoringPass.Counters counters = ScoringPass.Counters.register(spark.sparkContext(), "scores", spec, TOP_ROWS);
+    List<String> keys = new ArrayList<>(plan.keys());
+    for (String g : by.names()) {
+      if (!keys.contains(g)) {
+        keys.add(g);
+      }
+    }
+    ScoringPass.Scored scored = ScoringPass.apply(table, keys, plan.partitionColumns(), spec, counters);
+    LOG.info("score: {} group models, reading {}", models.size(), scored.readPath());
+    String path = out.staged("scores");
+    try (Progress progress = Progress.start(spark, "score", counters.scored())) {
+      write(scored.rows(), path);
+      progress.done(counters.scored().value());
+    }
+    failOnMissing(counters.dropped().value(), s.prepare().missing());
+    long unknown = counters.unknown().value();
+    List<String> unknownGroups = new ArrayList<>(new java.util.TreeSet<>(counters.unknownGroups().value()));
+    if (unknownGroups.size() > PartitionGathering.UNKNOWN_LISTED) {
+      unknownGroups = unknownGroups.subList(0, PartitionGathering.UNKNOWN_LISTED);
+    }
+    List<String> warnings = new ArrayList<>();
+    if (unknown > 0) {
+      String which = String.format(Locale.ROOT, "%,d rows of %s without a model (%s%s)", unknown,
+          unknownGroups.size() == 1 ? "a group" : "groups", String.join("; ", unknownGroups),
+          unknownGroups.size() >= PartitionGathering.UNKNOWN_LISTED ? "; ..." : "");
+      switch (s.apply().unknownGroup()) {
+        case FAIL -> throw new InvalidJobException("apply.unknown-group = fail: " + which + "; set"
+            + " apply.unknown-group = flag (scored as unusual) or skip, or refit with these groups");
+        case SKIP -> warnings.add(which + ": left out (apply.unknown-group = skip)");
+        default -> warnings.add(which + ": kept with null scores and flagged by T2 and Q (apply.unknown-group ="
+            + " flag)");
+      }
+    }
+    long rows = counters.scored().value();
+    String rule = "per group: each row against its own group's model's limit at " + confidence
+        + (fittedRows ? " (fitted rows: beta limit)" : " (new rows: F limit)") + "; series drawn as the ratio to it";
+    MonitorResult monitor = new MonitorResult(confidence, groups.outputK(), rows, counters.flaggedT2().value(),
+        counters.flaggedQ().value(), counters.flaggedBoth().value(), 1.0, rule, 1.0, rule, "per group", Double.NaN,
+        fittedRows, series(scored, counters), scored.passThrough(), flagged(counters.top(), features),
+        List.copyOf(warnings), unknown, List.copyOf(unknownGroups));
+    LOG.info("score: {} rows with {} group models, flagged T2 {}, Q {}, unknown group {}", rows, models.size(),
+        monitor.flaggedT2(), monitor.flaggedQ(), unknown);
+    for (String w : warnings) {
+      LOG.warn("score: {}", w);
+    }
+    return new Outcome(monitor, sample(scored, counters), path, null);
   }
 
   /**
@@ -215,20 +283,17 @@ public final class ScoringStage {
     return MonitorResult.Series.ofRows("row (seeded sample)", at, t2, q);
   }
 
-  private List<MonitorResult.FlaggedRow> flagged(TopRows top, ScoringPass.Limits limits) {
-    double t2Limit = limits.t2();
-    double qLimit = limits.q();
+  private static List<MonitorResult.FlaggedRow> flagged(TopRows top, List<String> features) {
     List<MonitorResult.FlaggedRow> out = new ArrayList<>();
     for (TopRows.Candidate c : top.value()) {
       List<MonitorResult.Contribution> contributions = new ArrayList<>();
       for (int i = 0; i < c.topFeatures().length; i++) {
         if (c.topContributions()[i] >= 0) {
-          contributions.add(new MonitorResult.Contribution(model.features().get(c.topFeatures()[i]),
+          contributions.add(new MonitorResult.Contribution(features.get(c.topFeatures()[i]),
               c.topContributions()[i]));
         }
       }
-      out.add(new MonitorResult.FlaggedRow(c.keys(), c.t2(), c.q(), c.t2() > t2Limit, qLimit > 0 && c.q() > qLimit,
-          contributions));
+      out.add(new MonitorResult.FlaggedRow(c.keys(), c.t2(), c.q(), c.flagT2(), c.flagQ(), contributions));
     }
     return out;
   }

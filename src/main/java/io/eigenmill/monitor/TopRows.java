@@ -17,8 +17,9 @@ public final class TopRows extends AccumulatorV2<TopRows.Candidate, List<TopRows
   private static final long serialVersionUID = 1L;
 
   /** A scored row worth reporting: its keys as text, its statistics, and feature indices/values of its Q drivers. */
+  /** @param flagT2 above its T2 limit (the row's own: with groups, its group's); flagQ likewise for Q */
   public record Candidate(List<String> keys, double severity, double t2, double q, int[] topFeatures,
-      double[] topContributions) implements Serializable {}
+      double[] topContributions, boolean flagT2, boolean flagQ) implements Serializable {}
 
   static final Comparator<Candidate> ORDER = new BySeverity();
 

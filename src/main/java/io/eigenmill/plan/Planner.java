@@ -1,5 +1,6 @@
 package io.eigenmill.plan;
 
+import io.eigenmill.io.GroupModels;
 import io.eigenmill.io.InputFilter;
 import io.eigenmill.io.ModelStore;
 import io.eigenmill.io.PcaModel;
@@ -49,6 +50,72 @@ public final class Planner {
     }
     Dataset<Row> table = TableLoader.read(spark, settings.input());
     return plan(spark, settings, table);
+  }
+
+  /**
+   * One model standing for a grouped model in the checks of an apply plan: the union of the groups' features (with
+   * their types) and the largest k; the method and rows of the first group. Never used to score.
+   */
+  public static PcaModel unionModel(GroupModels groups) {
+    var models = groups.models();
+    List<String> features = io.eigenmill.monitor.GroupScoring.features(models);
+    List<String> types = io.eigenmill.monitor.GroupScoring.featureTypes(models);
+    PcaModel first = models.values().iterator().next();
+    int k = models.values().stream().mapToInt(PcaModel::k).max().orElse(0);
+    long rows = models.values().stream().mapToLong(PcaModel::rows).sum();
+    int d = features.size();
+    return new PcaModel(first.formatVersion(), first.productVersion(), features, types, first.scaling(),
+        first.method(), rows, new double[d], new double[d], 0, new double[0], new double[0], false, 0,
+        PcaModel.fingerprint(features, types), new double[d]);
+  }
+
+  /**
+   * The plan of an apply run with a grouped model: as {@link #planApply} over the union of the groups' features,
+   * and the group columns must be in the input. What is of one model is refused: clustering, labels, the
+   * reconstruction, a comparison with another model, impute-mean.
+   */
+  public static JobPlan planApplyGroups(SparkSession spark, JobSettings settings, GroupModels groups) {
+    List<String> problems = new ArrayList<>();
+    String named = "apply.model = " + settings.apply().model() + " (one model per value of "
+        + String.join(", ", groups.columns()) + ")";
+    if (groups.models().isEmpty()) {
+      problems.add(named + ": no group has a model (every group was below reduce.min-group-rows when fitted)");
+      throw new InvalidJobException(problems);
+    }
+    StructType schema = TableLoader.read(spark, settings.input()).schema();
+    for (String g : groups.columns()) {
+      if (schema.getFieldIndex(g).isEmpty()) {
+        problems.add(named + ": the input " + settings.input().path() + " lacks the group column " + g);
+      }
+    }
+    List<String> other = new ArrayList<>();
+    if (settings.cluster().enabled()) {
+      other.add("cluster.enabled = true");
+    }
+    if (!settings.apply().centroids().isEmpty()) {
+      other.add("apply.centroids");
+    }
+    if (settings.output().reconstruction()) {
+      other.add("output.reconstruction = true");
+    }
+    if (!settings.apply().compareWith().isEmpty()) {
+      other.add("apply.compare-with");
+    }
+    if (settings.prepare().missing() == io.eigenmill.settings.Choices.MissingPolicy.IMPUTE_MEAN) {
+      other.add("prepare.missing = impute-mean");
+    }
+    if (!other.isEmpty()) {
+      problems.add(named + " with " + String.join(", ", other) + ": not available with groups in this version"
+          + " (of one model); remove " + (other.size() > 1 ? "them" : "it") + ", or apply the fit's pooled-model/");
+    }
+    if (!problems.isEmpty()) {
+      throw new InvalidJobException(problems);
+    }
+    JobPlan plan = planApply(spark, settings, unionModel(groups));
+    return new JobPlan(plan.settings(), "apply (groups)", plan.features(), plan.featureTypes(), plan.keys(),
+        plan.partitionColumns(), plan.rowEstimate(), plan.inputBytes(), plan.method(), "apply: one saved model per"
+            + " value of " + String.join(", ", groups.columns()) + " (" + groups.models().size() + " groups)",
+        plan.memory(), plan.outputs(), plan.notes(), plan.warnings(), plan.selection(), null, null);
   }
 
   /**
@@ -188,6 +255,9 @@ public final class Planner {
     }
     if (settings.output().writesSnapshots()) {
       other.add("output.snapshots");
+    }
+    if (settings.prepare().missing() == io.eigenmill.settings.Choices.MissingPolicy.IMPUTE_MEAN) {
+      other.add("prepare.missing = impute-mean");
     }
     if (!other.isEmpty()) {
       problems.add(named + " with " + String.join(", ", other) + ": not available with groups in this version"

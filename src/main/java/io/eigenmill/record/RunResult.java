@@ -1,5 +1,6 @@
 package io.eigenmill.record;
 
+import io.eigenmill.io.GroupModels;
 import io.eigenmill.io.PcaModel;
 import io.eigenmill.kmeans.ClusterResult;
 import io.eigenmill.kmeans.LabelResult;
@@ -39,7 +40,17 @@ public record RunResult(
     List<String> warnings,
     double totalSeconds,
     DataDriftResult dataDrift,
-    LabelResult labels) {
+    LabelResult labels,
+    GroupModels appliedGroups) {
+
+  /** A run that applies no grouped model. */
+  public RunResult(JobPlan plan, FitResult fit, PcaModel model, MonitorResult monitor,
+      ReconstructionResult reconstruction, DriftResult drift, ClusterResult clusters, ScoreSample sample,
+      String outputPath, Map<String, Double> timings, List<String> warnings, double totalSeconds,
+      DataDriftResult dataDrift, LabelResult labels) {
+    this(plan, fit, model, monitor, reconstruction, drift, clusters, sample, outputPath, timings, warnings,
+        totalSeconds, dataDrift, labels, null);
+  }
 
   /** A run without data drift or labels. */
   public RunResult(JobPlan plan, FitResult fit, PcaModel model, MonitorResult monitor,

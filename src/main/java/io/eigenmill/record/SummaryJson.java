@@ -178,6 +178,11 @@ public final class SummaryJson {
     m.put("q_limit_rule", r.qLimitRule());
     m.put("q_rule", r.qRule());
     m.put("q_h0", Double.isNaN(r.qH0()) ? null : r.qH0());
+    if (r.qRule().equals("per group")) {
+      // each row against its group's limits: the limits above are the ratio 1 (see the rules)
+      m.put("unknown_group_rows", r.unknownGroupRows());
+      m.put("unknown_groups", r.unknownGroups());
+    }
     // 1 - confidence in decimal (0.01, not the binary difference 0.010000000000000009)
     m.put("expected_flagged_share", java.math.BigDecimal.ONE.subtract(java.math.BigDecimal.valueOf(r.confidence()))
         .doubleValue());

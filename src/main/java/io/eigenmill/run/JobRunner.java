@@ -1,6 +1,8 @@
 package io.eigenmill.run;
 
 import io.eigenmill.engine.Stopwatch;
+import io.eigenmill.engine.KeyColumns;
+import io.eigenmill.io.GroupModels;
 import io.eigenmill.io.InputFiles;
 import io.eigenmill.io.ModelStore;
 import io.eigenmill.io.OutputCommit;
@@ -76,16 +78,20 @@ public final class JobRunner {
     SnapshotStore store = settings.output().writesSnapshots() ? SnapshotStore.open(
         spark.sparkContext().hadoopConfiguration(), "output.snapshots", settings.output().snapshots(), true) : null;
     boolean applying = settings.apply().appliesModel();
-    PcaModel applied = applying ? ModelStore.read(spark, "apply.model", settings.apply().model()) : null;
+    GroupModels groups = applying && ModelStore.grouped(spark, "apply.model", settings.apply().model())
+        ? ModelStore.readGroups(spark, "apply.model", settings.apply().model()) : null;
+    PcaModel applied = !applying ? null : groups != null ? Planner.unionModel(groups)
+        : ModelStore.read(spark, "apply.model", settings.apply().model());
     PcaModel earlier = settings.apply().compareWith().isEmpty() ? null
         : ModelStore.read(spark, "apply.compare-with", settings.apply().compareWith());
-    if (applying && earlier != null) {
+    if (applying && earlier != null && groups == null) {
       DriftCheck.refuseSelf(spark, settings.apply(), applied, earlier);
     }
-    JobPlan plan = applying ? Planner.planApply(spark, settings, applied) : Planner.plan(spark, settings);
+    JobPlan plan = groups != null ? Planner.planApplyGroups(spark, settings, groups)
+        : applying ? Planner.planApply(spark, settings, applied) : Planner.plan(spark, settings);
     OutputCommit out = OutputCommit.begin(spark, settings.output().path(), settings.output().mode());
     try {
-      RunResult result = execute(spark, plan, applied, earlier, out, started, skipped);
+      RunResult result = execute(spark, plan, applied, groups, earlier, out, started, skipped);
       out.writeText("summary.json", SummaryJson.render(result));
       out.writeText("report.html", HtmlReport.render(result));
       commitSnapshots(store, result);
@@ -111,9 +117,10 @@ public final class JobRunner {
     LOG.info("run: {} snapshot{} committed to {}", pending.size(), pending.size() == 1 ? "" : "s", store.path());
   }
 
-  private static RunResult execute(SparkSession spark, JobPlan plan, PcaModel applied, PcaModel earlier,
-      OutputCommit out, long started, String skipped) {
+  private static RunResult execute(SparkSession spark, JobPlan plan, PcaModel applied, GroupModels groups,
+      PcaModel earlier, OutputCommit out, long started, String skipped) {
     Steps run = new Steps(spark, plan, out, skipped);
+    run.appliedGroups = groups;
     Dataset<Row> table = plan.settings().input().fromSnapshots() ? null
         : TableLoader.load(spark, plan.settings().input());
     FitResult fit = applied == null ? run.fit(table) : null;
@@ -128,7 +135,7 @@ public final class JobRunner {
     DriftResult drift = run.drift(earlier, model);
     return new RunResult(plan, fit, model, scored == null ? null : scored.monitor(), reconstruction, drift, clusters,
         run.sample, out.finalPath(), run.timings(), run.warnings, (System.nanoTime() - started) / 1e9, dataDrift,
-        labels);
+        labels, groups);
   }
 
   /**
@@ -145,6 +152,8 @@ public final class JobRunner {
     private final Map<String, Double> fitTimings = new LinkedHashMap<>();
     private final List<String> warnings;
     private ScoreSample sample;
+    private GroupModels appliedGroups;
+    private FitResult fitted;
 
     Steps(SparkSession spark, JobPlan plan, OutputCommit out, String skipped) {
       this.spark = spark;
@@ -162,7 +171,11 @@ public final class JobRunner {
     }
 
     FitResult fit(Dataset<Row> table) {
+      clock.restart();
       FitResult fit = new FitJob(spark, plan).execute(table);
+      fitted = fit;
+      // the fit's own stages are in its timings: write-model is the writing of the model's tables alone
+      clock.restart();
       FitTables.write(spark, fit, out);
       fitTimings.putAll(fit.timings());
       warnings.addAll(fit.warnings());
@@ -176,7 +189,15 @@ public final class JobRunner {
       if (!applying && !settings.output().scores() && !settings.cluster().enabled() && !labelling) {
         return null;
       }
-      ScoringStage.Outcome scored = scoring.score(table, !applying);
+      ScoringStage.Outcome scored;
+      if (appliedGroups != null) {
+        scored = scoring.scoreGroups(table, new KeyColumns(appliedGroups.columns(), appliedGroups.types(),
+            spark.conf().get("spark.sql.session.timeZone")), appliedGroups.models(), plan.features(), false);
+      } else if (fitted != null && fitted.groups() != null) {
+        scored = scoring.scoreGroups(table, fitted.groups().by(), fitted.groups().models(), plan.features(), true);
+      } else {
+        scored = scoring.score(table, !applying);
+      }
       var input = settings.input();
       if (applying && input.filtered() && scored.monitor().rowsScored() == 0) {
         throw new InvalidJobException("input.where = \"" + input.where() + "\" selects no rows of input.path = "

@@ -46,7 +46,8 @@ class GroupedFitTest extends SparkSuite {
   static void table() {
     dir = JobFiles.scratch("groups");
     fleet = dir.resolve("fleet");
-    StructType schema = new StructType().add("host", DataTypes.StringType).add("hw", DataTypes.StringType);
+    StructType schema = new StructType().add("id", DataTypes.IntegerType).add("host", DataTypes.StringType)
+        .add("hw", DataTypes.StringType);
     for (String f : FEATURES) {
       schema = schema.add(f, DataTypes.DoubleType);
     }
@@ -60,15 +61,16 @@ class GroupedFitTest extends SparkSuite {
       }
       double u = r.nextGaussian();
       double v = r.nextGaussian();
-      Object[] x = new Object[FEATURES.length + 2];
-      x[0] = "edge-" + (i % 50);
-      x[1] = hw[g];
+      Object[] x = new Object[FEATURES.length + 3];
+      x[0] = i;
+      x[1] = "edge-" + (i % 50);
+      x[2] = hw[g];
       // each generation loads the two factors differently: the groups' subspaces differ
-      x[2] = 100 * g + u * (1 + g) + 0.1 * r.nextGaussian();
-      x[3] = (g % 2 == 0 ? u : -u) + 2 * v + 0.1 * r.nextGaussian();
-      x[4] = r.nextInt(40) == 0 ? null : g * v + 0.3 * r.nextGaussian();
-      x[5] = 1e6 + 1e3 * (u - v) * (g + 1) + r.nextGaussian();
-      x[6] = r.nextGaussian();
+      x[3] = 100 * g + u * (1 + g) + 0.1 * r.nextGaussian();
+      x[4] = (g % 2 == 0 ? u : -u) + 2 * v + 0.1 * r.nextGaussian();
+      x[5] = r.nextInt(40) == 0 ? null : g * v + 0.3 * r.nextGaussian();
+      x[6] = 1e6 + 1e3 * (u - v) * (g + 1) + r.nextGaussian();
+      x[7] = r.nextGaussian();
       rows.add(RowFactory.create(x));
     }
     spark.createDataFrame(rows, schema).repartition(4).write().parquet(fleet.toString());

@@ -47,6 +47,14 @@ public final class Scorer implements Serializable {
    * and leaves the prepared residual of row i, feature j at {@link #residual}(i, j, rows) until the next call.
    */
   public void score(double[] x, int rows, int ld, double[] scores, double[] t2, double[] q) {
+    score(x, rows, ld, null, scores, t2, q);
+  }
+
+  /**
+   * {@link #score} of a block whose columns are a superset of the model's features: the model's feature j is the
+   * block's column {@code columns[j]} ({@code columns} null: column j).
+   */
+  public void score(double[] x, int rows, int ld, int[] columns, double[] scores, double[] t2, double[] q) {
     if (rows == 0) {
       return;
     }
@@ -56,7 +64,7 @@ public final class Scorer implements Serializable {
     for (int j = 0; j < d; j++) {
       double mu = means[j];
       double inv = 1.0 / scales[j];
-      int src = j * ld;
+      int src = (columns == null ? j : columns[j]) * ld;
       int dst = j * rows;
       for (int i = 0; i < rows; i++) {
         z[dst + i] = (x[src + i] - mu) * inv;
