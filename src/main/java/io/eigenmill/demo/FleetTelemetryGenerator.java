@@ -34,9 +34,10 @@ import org.apache.spark.sql.types.StructType;
  * {@code tcp_connections} as long and {@code cpu_freq_ghz} as float); then {@code extraMetrics} doubles
  * {@code x_0001 ..}. See {@link TelemetryModel} for the latent factors, faults and missing cells.
  *
- * <p>Size: {@link #hostsFor} hosts (240 for the default 120,000 rows), ceil(rows / hosts) intervals, cut to exactly
- * {@code rows}. Determinism: row r is host r % hosts at interval r / hosts, a pure function of (seed, host, interval),
- * so the same spec gives the same rows for any partition count or core count.
+ * <p>Size: {@link #hostsFor} hosts (240 for the default 120,000 rows) unless a host count is given, ceil(rows / hosts)
+ * intervals (288 a day), cut to exactly {@code rows}. Determinism: row r is host r % hosts at interval r / hosts, a
+ * pure function of (seed, host, interval), so the same spec gives the same rows for any partition count or core
+ * count.
  *
  * <p>Cost: one pass, O(rows x columns), no shuffle; writing sorts each task's rows by date (Spark's partitioned
  * writer), which costs memory of one task's rows. Measured speeds are in the package notes ({@code package-info}).
@@ -62,9 +63,18 @@ public final class FleetTelemetryGenerator {
    * @param partitions Spark partitions of the generated Dataset, at least 1; when written, each writes one file per
    *     day it covers
    * @param startDate the first day, yyyy-MM-dd; the first row is at its midnight UTC
+   * @param fixedHosts the number of hosts, 1 to min(rows, 100,000); 0: {@link #hostsFor}(rows). With a fixed fleet
+   *     the row count sets the time span: {@code rows = hosts x 288} is one day of 5-minute intervals per 288 rows
+   *     per host
    */
-  public record FleetSpec(long rows, long seed, int extraMetrics, int partitions, String startDate) {
+  public record FleetSpec(long rows, long seed, int extraMetrics, int partitions, String startDate, int fixedHosts) {
     public static final int MAX_EXTRA_METRICS = 100_000;
+    public static final int MAX_HOSTS = 100_000;
+
+    /** A spec whose host count follows from the rows ({@link #hostsFor}). */
+    public FleetSpec(long rows, long seed, int extraMetrics, int partitions, String startDate) {
+      this(rows, seed, extraMetrics, partitions, startDate, 0);
+    }
 
     public FleetSpec {
       List<String> problems = new ArrayList<>();
@@ -76,6 +86,10 @@ public final class FleetTelemetryGenerator {
       }
       if (partitions < 1) {
         problems.add("partitions = " + partitions + ": must be at least 1");
+      }
+      if (fixedHosts < 0 || fixedHosts > MAX_HOSTS || (fixedHosts > 0 && fixedHosts > rows)) {
+        problems.add("hosts = " + fixedHosts + ": must be between 1 and min(rows, " + MAX_HOSTS + ") (0: from the"
+            + " rows)");
       }
       try {
         LocalDate.parse(String.valueOf(startDate));
@@ -93,23 +107,32 @@ public final class FleetTelemetryGenerator {
     }
 
     public FleetSpec withRows(long newRows) {
-      return new FleetSpec(newRows, seed, extraMetrics, partitions, startDate);
+      return new FleetSpec(newRows, seed, extraMetrics, partitions, startDate, fixedHosts);
     }
 
     public FleetSpec withSeed(long newSeed) {
-      return new FleetSpec(rows, newSeed, extraMetrics, partitions, startDate);
+      return new FleetSpec(rows, newSeed, extraMetrics, partitions, startDate, fixedHosts);
     }
 
     public FleetSpec withExtraMetrics(int newExtraMetrics) {
-      return new FleetSpec(rows, seed, newExtraMetrics, partitions, startDate);
+      return new FleetSpec(rows, seed, newExtraMetrics, partitions, startDate, fixedHosts);
     }
 
     public FleetSpec withPartitions(int newPartitions) {
-      return new FleetSpec(rows, seed, extraMetrics, newPartitions, startDate);
+      return new FleetSpec(rows, seed, extraMetrics, newPartitions, startDate, fixedHosts);
     }
 
+    public FleetSpec withStartDate(String newStartDate) {
+      return new FleetSpec(rows, seed, extraMetrics, partitions, newStartDate, fixedHosts);
+    }
+
+    public FleetSpec withHosts(int newHosts) {
+      return new FleetSpec(rows, seed, extraMetrics, partitions, startDate, newHosts);
+    }
+
+    /** {@code fixedHosts}, or {@link #hostsFor}(rows) when it is 0. */
     public int hosts() {
-      return hostsFor(rows);
+      return fixedHosts > 0 ? fixedHosts : hostsFor(rows);
     }
 
     /** ceil(rows / hosts). */

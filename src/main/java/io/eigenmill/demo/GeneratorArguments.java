@@ -14,12 +14,13 @@ import org.apache.spark.sql.SparkSession;
  */
 record GeneratorArguments(String out, FleetSpec spec, String master) {
   static final List<String> FLAGS = List.of("--out", "--rows", "--seed", "--extra-metrics", "--partitions",
-      "--start-date", "--master");
+      "--start-date", "--hosts", "--master");
   static final int MAX_PARTITIONS = 1_000_000;
   static final String USAGE = "usage: FleetTelemetryGenerator --out PATH [--rows N] [--seed S] [--extra-metrics M]"
-      + " [--partitions P] [--start-date yyyy-MM-dd] [--master M]\n"
+      + " [--partitions P] [--start-date yyyy-MM-dd] [--hosts H] [--master M]\n"
       + "  N, M, P accept 2000000, 2_000_000, 2e6 or 2m; defaults: rows 120000, seed 20261201, extra-metrics 0,"
-      + " partitions 8, master local[*]";
+      + " partitions 8, master local[*]; hosts: round(sqrt(0.48 N)) unless given (then N / (288 H) is the number"
+      + " of days)";
 
   static GeneratorArguments parse(String[] args) {
     FleetSpec spec = FleetSpec.defaults();
@@ -49,8 +50,8 @@ record GeneratorArguments(String out, FleetSpec spec, String master) {
         case "--extra-metrics" -> spec = spec.withExtraMetrics(
             (int) count(flag, value, 0, FleetSpec.MAX_EXTRA_METRICS));
         case "--partitions" -> spec = spec.withPartitions((int) count(flag, value, 1, MAX_PARTITIONS));
-        case "--start-date" -> spec = new FleetSpec(spec.rows(), spec.seed(), spec.extraMetrics(), spec.partitions(),
-            requireText(flag, value));
+        case "--start-date" -> spec = spec.withStartDate(requireText(flag, value));
+        case "--hosts" -> spec = spec.withHosts((int) count(flag, value, 1, FleetSpec.MAX_HOSTS));
         default -> master = requireText(flag, value);
       }
     }

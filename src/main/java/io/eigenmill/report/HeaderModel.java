@@ -100,12 +100,17 @@ public record HeaderModel(
     f.add(new Fact("Kind", plan.kind().equals("apply") ? "apply (scores new rows with an existing model)"
         : plan.kind().equals("fit") ? "fit (fits a new model)" : plan.kind()));
     f.add(new Fact("Job file", s.sourceFile()));
-    f.add(new Fact("Input", s.input().path() + " [" + s.input().format().word() + "]"));
-    if (!plan.partitionColumns().isEmpty()) {
+    boolean fromSnapshots = run.fit() != null && run.fit().fromSnapshots();
+    if (fromSnapshots) {
+      f.add(new Fact("Input", "snapshot store " + s.input().snapshots() + " (reading no rows)"));
+    } else {
+      f.add(new Fact("Input", s.input().path() + " [" + s.input().format().word() + "]"));
+    }
+    if (!fromSnapshots && !plan.partitionColumns().isEmpty()) {
       f.add(new Fact("Partitioned by", String.join(", ", plan.partitionColumns())));
     }
     if (s.input().filtered()) {
-      f.add(new Fact("Rows where", s.input().where()));
+      f.add(new Fact(fromSnapshots ? "Snapshots where" : "Rows where", s.input().where()));
     }
     if (s.apply().appliesModel()) {
       f.add(new Fact("Model applied", s.apply().model()));
@@ -126,7 +131,18 @@ public record HeaderModel(
     FitResult fit = run.fit();
     List<Fact> f = new ArrayList<>();
     String policy = run.plan().settings().prepare().missing().word();
-    if (fit != null) {
+    if (fit != null && fit.fromSnapshots()) {
+      long read = 0;
+      for (var k : fit.snapshots().keys()) {
+        read += k.rowsRead();
+      }
+      f.add(new Fact("Rows read", "none: the fit merged " + Fmt.count(fit.snapshots().keys().size())
+          + (fit.snapshots().keys().size() == 1 ? " snapshot" : " snapshots")));
+      f.add(new Fact("Rows in the snapshots", Fmt.count(read) + " read when they were written"));
+      f.add(new Fact("Rows used", Fmt.count(fit.rowsUsed())));
+      f.add(new Fact("Rows dropped", Fmt.count(read - fit.snapshots().rowsUsed()) + " when the snapshots were"
+          + " written (rows with a missing value; prepare.missing = " + policy + ")"));
+    } else if (fit != null) {
       f.add(new Fact("Rows read", Fmt.count(fit.rowsRead())));
       f.add(new Fact("Rows used", Fmt.count(fit.rowsUsed())));
       f.add(new Fact("Rows dropped", Fmt.count(fit.rowsDropped())
@@ -188,7 +204,9 @@ public record HeaderModel(
       f.add(new Fact("Components kept", Fmt.count(model.k())));
     }
     f.add(new Fact("Rule for k", run.fit() != null ? run.fit().kRule() : "k of the applied model"));
-    if (run.fit() != null) {
+    if (run.fit() != null && run.fit().fromSnapshots()) {
+      f.add(new Fact("Read path", "none: moments merged from the snapshot store"));
+    } else if (run.fit() != null) {
       f.add(new Fact("Read path", (run.fit().columnarRead() ? "columnar" : "rows") + ", "
           + Fmt.count(run.fit().passes()) + (run.fit().passes() == 1 ? " pass" : " passes") + " over the data"));
     }

@@ -20,7 +20,8 @@ public record ReportModel(
     ClusterModel clusters,
     CompressionModel compression,
     DriftModel drift,
-    DataDriftModel dataDrift) {
+    DataDriftModel dataDrift,
+    SnapshotModel snapshots) {
 
   /** Pure: reads the records, never Spark or the file system. */
   public static ReportModel of(RunResult run) {
@@ -28,7 +29,8 @@ public record ReportModel(
     List<String> warnings = run.warnings() == null ? List.of() : List.copyOf(run.warnings());
     return new ReportModel("eigenmill report: " + run.plan().settings().name(), HeaderModel.of(run, scree), warnings,
         scree, LoadingsModel.of(run, scree), ScoreMapModel.of(run, scree), MonitoringModel.of(run),
-        ClusterModel.of(run), CompressionModel.of(run), DriftModel.of(run), DataDriftModel.of(run));
+        ClusterModel.of(run), CompressionModel.of(run), DriftModel.of(run), DataDriftModel.of(run),
+        SnapshotModel.of(run));
   }
 
   /** The ids of the sections this report has, in page order. */
@@ -36,6 +38,7 @@ public record ReportModel(
     List<String> ids = new ArrayList<>();
     ids.add("section-header");
     add(ids, !warnings.isEmpty(), "section-warnings");
+    add(ids, snapshots != null, "section-snapshots");
     add(ids, scree != null, "section-scree");
     add(ids, loadings != null, "section-loadings");
     add(ids, scores != null, "section-scores");

@@ -7,6 +7,23 @@ import java.util.List;
 final class Sections {
   private Sections() {}
 
+  static void snapshots(StringBuilder b, SnapshotModel m) {
+    if (m == null) {
+      return;
+    }
+    HtmlReport.open(b, "section-snapshots", "Snapshots", m.written()
+        ? "This fit also saved the moments of each key's rows to a snapshot store; later fits can merge them "
+            + "(input.snapshots) without reading the rows again."
+        : "This model was fitted from saved moments: the snapshots below were merged in key order, as a fit over "
+            + "their rows would have summed them.");
+    HtmlReport.facts(b, m.facts());
+    HtmlReport.figure(b, SnapshotCharts.strip(m), "One bar per snapshot: its rows used; in orange on top, its "
+        + "rows dropped for missing values" + (m.written() ? "." : " when it was written.")
+        + (SnapshotCharts.labelStep(m) > 1 ? " One key in " + SnapshotCharts.labelStep(m) + " is labelled; each"
+            + " bar's title names its key." : ""));
+    HtmlReport.close(b);
+  }
+
   static void scree(StringBuilder b, ScreeModel m) {
     if (m == null) {
       return;

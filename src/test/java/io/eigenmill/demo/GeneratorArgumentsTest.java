@@ -31,6 +31,11 @@ class GeneratorArgumentsTest {
     assertEquals("/tmp/fleet", a.out());
     assertEquals("local[2]", a.master());
     assertEquals(new FleetSpec(2_000_000, -7, 40, 16, "2026-11-02"), a.spec());
+    GeneratorArguments days = GeneratorArguments.parse(new String[] {"--out", "/tmp/fleet", "--rows", "57600",
+        "--hosts=40", "--start-date", "2026-11-16"});
+    assertEquals(new FleetSpec(57_600, 20261201L, 0, 8, "2026-11-16", 40), days.spec());
+    assertEquals(40, days.spec().hosts());
+    assertEquals(5 * 288, days.spec().intervals(), "40 hosts, 57,600 rows: five days of 5-minute intervals");
   }
 
   @Test

@@ -164,7 +164,9 @@ class SnapshotFitTest extends SparkSuite {
       assertEquals("2026-11-04", keys.get(2).get("key").get("date").asText());
       assertFalse(summary.get("snapshots").get("written").asBoolean());
       assertTrue(Files.exists(fromSnaps.resolve("model")));
-      assertTrue(Files.exists(fromSnaps.resolve("report.html")));
+      String report = Files.readString(fromSnaps.resolve("report.html"));
+      assertTrue(report.contains("<section id=\"section-snapshots\""), "the report has the snapshots section");
+      assertEquals(3, report.split("<g class=\"snapshot-bar\">", -1).length - 1, "one bar per merged day");
     }
   }
 
