@@ -17,10 +17,11 @@ import java.util.Set;
  * @param reps timed repetitions per case, after one untimed warm-up (1 and no warm-up with {@code --smoke})
  * @param cases the cases to run, in their fixed order
  * @param casesGiven true when {@code --cases} was given (scaling then runs exactly those)
+ * @param windows only the windows case: a 7-day refit from moment snapshots against the data fit ({@link WindowRun})
  * @param command the command as typed, for the results file
  */
 public record BenchOptions(long rows, int features, int cores, int reps, Path data, List<BenchCase> cases,
-    boolean casesGiven, boolean scaling, boolean wide, boolean smoke, Path out, String command) {
+    boolean casesGiven, boolean scaling, boolean wide, boolean windows, boolean smoke, Path out, String command) {
 
   public static final long DEFAULT_ROWS = 2_000_000L;
   public static final int DEFAULT_FEATURES = 100;
@@ -29,7 +30,7 @@ public record BenchOptions(long rows, int features, int cores, int reps, Path da
 
   public static final String USAGE = String.join("\n",
       "usage: local-demo/bench [--rows N] [--features D] [--cores C] [--reps R] [--data DIR] [--cases LIST]",
-      "                        [--scaling] [--wide] [--smoke] [--out FILE]",
+      "                        [--scaling] [--wide] [--windows] [--smoke] [--out FILE]",
       "  --rows N      rows of the main table (default 2000000)",
       "  --features D  numeric features (default 100)",
       "  --cores C     Spark local[C] (default 2)",
@@ -39,6 +40,9 @@ public record BenchOptions(long rows, int features, int cores, int reps, Path da
       "  --scaling     also run 0.5, 1, 2 and 4 million rows and fit seconds per million rows",
       "  --wide        only the wide cases: d = 1000 and 2000 by covariance, d = 20000 by randomized, with peak heap",
       "                and the largest single allocation (the script gives this run a 4 GiB heap)",
+      "  --windows     only the windows case: 30 daily partitions x 10 slices (300,000 rows a day x 100 features),",
+      "                a 7-day refit from moment snapshots against the data fit of the same rows, at 30,000, 90,000",
+      "                and 300,000 rows a day (slice < 1, 3, 10); fit step and whole job",
       "  --smoke       tiny table (20000 x 20 unless given), 1 repetition, no warm-up",
       "  --out FILE    results as markdown (default local-demo/BENCHMARKS.md); only this run's sections are replaced");
 
@@ -63,6 +67,7 @@ public record BenchOptions(long rows, int features, int cores, int reps, Path da
     boolean casesGiven = false;
     boolean scaling = false;
     boolean wide = false;
+    boolean windows = false;
     boolean smoke = false;
     for (int i = 0; i < args.length; i++) {
       String a = args[i];
@@ -79,6 +84,7 @@ public record BenchOptions(long rows, int features, int cores, int reps, Path da
         }
         case "--scaling" -> scaling = true;
         case "--wide" -> wide = true;
+        case "--windows" -> windows = true;
         case "--smoke" -> smoke = true;
         default -> throw new IllegalArgumentException("unknown argument '" + a + "'");
       }
@@ -86,12 +92,15 @@ public record BenchOptions(long rows, int features, int cores, int reps, Path da
     if (wide && scaling) {
       throw new IllegalArgumentException("--wide runs on its own (it needs its own 4 GiB JVM): drop --scaling");
     }
+    if (windows && (wide || scaling || casesGiven)) {
+      throw new IllegalArgumentException("--windows runs only its own case: drop --wide, --scaling and --cases");
+    }
     long n = rows != null ? rows : smoke ? SMOKE_ROWS : DEFAULT_ROWS;
     int d = features != null ? features : smoke ? SMOKE_FEATURES : DEFAULT_FEATURES;
     if (d < 11) {
       throw new IllegalArgumentException("--features " + d + ": at least 11 (the fits keep k = 10 components)");
     }
-    return new BenchOptions(n, d, cores, reps, data, new ArrayList<>(cases), casesGiven, scaling, wide, smoke, out,
+    return new BenchOptions(n, d, cores, reps, data, new ArrayList<>(cases), casesGiven, scaling, wide, windows, smoke, out,
         command(args));
   }
 

@@ -98,7 +98,7 @@ final class BenchTables {
         || t instanceof ShortType || t instanceof ByteType;
   }
 
-  private static String readSpec(Path dir) {
+  static String readSpec(Path dir) {
     Path file = dir.resolve(SPEC_FILE);
     try {
       return Files.isRegularFile(file) ? Files.readString(file, StandardCharsets.UTF_8) : null;
@@ -107,7 +107,7 @@ final class BenchTables {
     }
   }
 
-  private static void writeSpec(Path dir, String text) {
+  static void writeSpec(Path dir, String text) {
     try {
       Files.writeString(dir.resolve(SPEC_FILE), text, StandardCharsets.UTF_8);
     } catch (IOException e) {

@@ -11,7 +11,8 @@ import org.apache.spark.sql.SparkSession;
 /**
  * The benchmark suite: our fits, apply and k-means against the floors (a SQL sum and a columnar read of the same
  * columns, a plain Parquet write of the scores' shape) and against the engine's own PCA and k-means, with accuracy
- * beside speed, in one run; optionally scaling in rows, or (in a run of its own) wide tables with their peak heap.
+ * beside speed, in one run; optionally scaling in rows, or (in a run of its own) wide tables with their peak heap, or a window refit
+ * from moment snapshots against the data fit ({@code --windows}).
  * Results go to a markdown file ({@code --out}) and the console. Run it with {@code local-demo/bench}; flags in
  * {@link BenchOptions#USAGE}.
  *
@@ -72,6 +73,13 @@ public final class Benchmark {
     String loadBefore = Machine.loadAverage();
     System.out.printf(Locale.ROOT, "bench: %s; %s; heap %s%n", machine.describeHardware(), machine.blas(),
         Report.bytes(machine.maxHeapBytes()));
+    if (options.windows()) {
+      WindowRun.WindowResult windows = WindowRun.run(spark, options);
+      String body = WindowRun.render(windows, Report.header(machine, options, loadBefore, Machine.loadAverage()));
+      System.out.println(body);
+      Report.writeSection(options.out(), "windows", body);
+      return new Outcome(null, null, null, options.out());
+    }
     if (options.wide()) {
       List<WideResult> wide = WideRun.run(spark, options, WideRun.CASES, options.smoke() ? WideRun.SMOKE_CELLS
           : WideRun.CELLS);
