@@ -9,10 +9,8 @@ import io.eigenmill.settings.JobSettings;
 import java.io.Serializable;
 import java.util.ArrayList;
 import java.util.HashMap;
-import java.util.LinkedHashSet;
 import java.util.List;
 import java.util.Map;
-import java.util.Set;
 
 /**
  * What a scoring pass needs to score each row with its group's model ({@code reduce.group-by}): the group columns,
@@ -31,30 +29,6 @@ public record GroupScoring(KeyColumns keys, Map<KeyValues, Integer> index, List<
 
   /** Group number of an unknown group. */
   public static final int UNKNOWN = -1;
-
-  /** The union of the models' features, in the order they first appear (the block's columns). */
-  public static List<String> features(Map<KeyValues, PcaModel> models) {
-    Set<String> all = new LinkedHashSet<>();
-    for (PcaModel m : models.values()) {
-      all.addAll(m.features());
-    }
-    return new ArrayList<>(all);
-  }
-
-  /** The types of {@link #features}, from the first model that has each. */
-  public static List<String> featureTypes(Map<KeyValues, PcaModel> models) {
-    Map<String, String> types = new HashMap<>();
-    for (PcaModel m : models.values()) {
-      for (int j = 0; j < m.d(); j++) {
-        types.putIfAbsent(m.features().get(j), m.featureTypes().get(j));
-      }
-    }
-    List<String> out = new ArrayList<>();
-    for (String f : features(models)) {
-      out.add(types.get(f));
-    }
-    return out;
-  }
 
   /** The scoring of {@code models} (key: the group values as text) over the block columns {@code features}. */
   public static GroupScoring of(KeyColumns keys, Map<KeyValues, PcaModel> models, List<String> features,

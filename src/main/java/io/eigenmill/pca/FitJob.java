@@ -319,7 +319,7 @@ public final class FitJob {
 
   /** The model solver of this plan's features and settings. */
   ModelSolver solver() {
-    return new ModelSolver(plan.features(), plan.featureTypes(), plan.settings().prepare().scaling(), plan.method(),
+    return ModelSolver.of(plan.features(), plan.featureTypes(), plan.settings().prepare().scaling(), plan.method(),
         plan.settings().reduce());
   }
 

@@ -22,7 +22,18 @@ import java.util.Locale;
  * @param features the planned features in order, with their input types
  */
 public record ModelSolver(List<String> features, List<String> featureTypes, Scaling scaling, Method method,
-    JobSettings.Reduce reduce) implements Serializable {
+    int components, double varianceTarget, int maxComponents) implements Serializable {
+
+  /**
+   * The solver of {@code reduce}'s rule for k: {@code reduce.components} (0 here when unset), else the smallest k
+   * reaching {@code reduce.variance-target}, at most {@code reduce.max-components}. Only plain values are kept: the
+   * solver travels to the executors.
+   */
+  public static ModelSolver of(List<String> features, List<String> featureTypes, Scaling scaling, Method method,
+      JobSettings.Reduce reduce) {
+    return new ModelSolver(List.copyOf(features), List.copyOf(featureTypes), scaling, method,
+        reduce.components().orElse(0), reduce.varianceTarget(), reduce.maxComponents());
+  }
 
   /**
    * What the solver made of one summary.
@@ -84,8 +95,8 @@ public record ModelSolver(List<String> features, List<String> featureTypes, Scal
    * it against all d features, but which columns are constant is known only from the first pass.
    */
   public void checkComponents(int dk) {
-    if (reduce.components().isPresent() && reduce.components().getAsInt() > dk) {
-      throw new InvalidJobException("reduce.components = " + reduce.components().getAsInt() + ": more components"
+    if (components > 0 && components > dk) {
+      throw new InvalidJobException("reduce.components = " + components + ": more components"
           + " than the " + dk + " non-constant features");
     }
   }
@@ -117,31 +128,29 @@ public record ModelSolver(List<String> features, List<String> featureTypes, Scal
 
   /** k and the rule that chose it; {@code reduce.components} is at most the kept columns ({@link #checkComponents}). */
   private String chooseK(Spectrum spectrum, int[] k, List<String> warnings) {
-    JobSettings.Reduce r = reduce;
-    if (r.components().isPresent()) {
-      int want = r.components().getAsInt();
-      k[0] = Math.min(want, spectrum.available());
-      return "reduce.components = " + want;
+    if (components > 0) {
+      k[0] = Math.min(components, spectrum.available());
+      return "reduce.components = " + components;
     }
-    int reach = spectrum.smallestReaching(r.varianceTarget());
+    int reach = spectrum.smallestReaching(varianceTarget);
     if (reach < 0) {
-      k[0] = Math.min(spectrum.available(), r.maxComponents());
+      k[0] = Math.min(spectrum.available(), maxComponents);
       warnings.add("the " + spectrum.available() + " components computed explain only "
           + String.format(Locale.ROOT, "%.4f", spectrum.cumulativeVarianceShares()[spectrum.available() - 1])
-          + " of the variance, below reduce.variance-target = " + r.varianceTarget() + "; kept k = " + k[0]
+          + " of the variance, below reduce.variance-target = " + varianceTarget + "; kept k = " + k[0]
           + ": raise reduce.max-components to reach the target");
-      return "variance target " + r.varianceTarget() + " not reached within " + spectrum.available()
+      return "variance target " + varianceTarget + " not reached within " + spectrum.available()
           + " computed components";
     }
-    if (reach > r.maxComponents()) {
-      k[0] = r.maxComponents();
-      warnings.add("reaching reduce.variance-target = " + r.varianceTarget() + " needs k = " + reach
-          + " > reduce.max-components = " + r.maxComponents() + "; kept k = " + k[0]
+    if (reach > maxComponents) {
+      k[0] = maxComponents;
+      warnings.add("reaching reduce.variance-target = " + varianceTarget + " needs k = " + reach
+          + " > reduce.max-components = " + maxComponents + "; kept k = " + k[0]
           + ": raise reduce.max-components to keep more");
-      return "capped by reduce.max-components = " + r.maxComponents();
+      return "capped by reduce.max-components = " + maxComponents;
     }
     k[0] = reach;
-    return "smallest k with cumulative explained variance >= " + r.varianceTarget();
+    return "smallest k with cumulative explained variance >= " + varianceTarget;
   }
 
   static double[] sqrtOf(double[] values) {

@@ -58,8 +58,8 @@ public final class Planner {
    */
   public static PcaModel unionModel(GroupModels groups) {
     var models = groups.models();
-    List<String> features = io.eigenmill.monitor.GroupScoring.features(models);
-    List<String> types = io.eigenmill.monitor.GroupScoring.featureTypes(models);
+    List<String> features = GroupModels.features(models);
+    List<String> types = GroupModels.featureTypes(models);
     PcaModel first = models.values().iterator().next();
     int k = models.values().stream().mapToInt(PcaModel::k).max().orElse(0);
     long rows = models.values().stream().mapToLong(PcaModel::rows).sum();

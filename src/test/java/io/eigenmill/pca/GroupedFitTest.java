@@ -9,7 +9,15 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
+import io.eigenmill.engine.FeatureInput;
+import io.eigenmill.engine.KeyColumns;
 import io.eigenmill.engine.KeyValues;
+import io.eigenmill.engine.ReadMode;
+import io.eigenmill.math.BlockPrep;
+import io.eigenmill.plan.GroupPlan;
+import io.eigenmill.settings.Choices.Method;
+import io.eigenmill.settings.Choices.Scaling;
+import io.eigenmill.settings.JobSettings;
 import io.eigenmill.io.GroupModels;
 import io.eigenmill.io.ModelStore;
 import io.eigenmill.io.PcaModel;
@@ -25,6 +33,7 @@ import java.util.ArrayList;
 import java.util.Arrays;
 import java.util.List;
 import java.util.SplittableRandom;
+import org.apache.spark.sql.Dataset;
 import org.apache.spark.sql.Row;
 import org.apache.spark.sql.RowFactory;
 import org.apache.spark.sql.types.DataTypes;
@@ -221,6 +230,50 @@ class GroupedFitTest extends SparkSuite {
     GroupFit tiny = defaults.fit().groups().groups().stream().filter(g -> "tiny".equals(g.key().get(0)))
         .findFirst().orElseThrow();
     assertNull(tiny.solved());
+  }
+
+  @Test
+  void groupsSolvedOnTheExecutorsEqualThoseSolvedOnTheDriverAndSmallBlocksChangeOnlyRounding() {
+    Dataset<Row> table = spark.read().parquet(fleet.toString());
+    List<String> features = List.of(FEATURES);
+    List<String> types = java.util.Collections.nCopies(FEATURES.length, "double");
+    FeatureInput input = new FeatureInput(table, features, 64);
+    KeyColumns by = new KeyColumns(List.of("hw"), List.of("string"), "UTC");
+    JobSettings.Reduce reduce = JobFiles.settings("input.path = x\noutput.path = y\nreduce.components = 2\n"
+        + "reduce.block-rows = 64\n").reduce();
+    ModelSolver solver = ModelSolver.of(features, types, Scaling.NONE, Method.COVARIANCE, reduce);
+    long block = 8L * 64 * (FEATURES.length + 1);
+    GroupedFit.Outcome driver = GroupedFit.run(input, new GroupPlan(by, 50, 200, block, Long.MAX_VALUE, 1L << 30),
+        solver, ReadMode.DROP, BlockPrep.identity(), 64);
+    GroupedFit.Outcome executors = GroupedFit.run(input, new GroupPlan(by, 50, 200, block, 0, 1L << 30), solver,
+        ReadMode.DROP, BlockPrep.identity(), 64);
+    // one group's full block per task; the others get blocks of GroupPlan.MIN_BLOCK_ROWS rows
+    GroupedFit.Outcome small = GroupedFit.run(input, new GroupPlan(by, 50, 200, block, Long.MAX_VALUE, block),
+        solver, ReadMode.DROP, BlockPrep.identity(), 64);
+    assertTrue(driver.onDriver());
+    assertFalse(executors.onDriver());
+    assertEquals(driver.groups().size(), executors.groups().size());
+    for (int i = 0; i < driver.groups().size(); i++) {
+      GroupFit a = driver.groups().get(i);
+      GroupFit b = executors.groups().get(i);
+      GroupFit c = small.groups().get(i);
+      assertEquals(a.key(), b.key());
+      assertEquals(a.rowsRead(), b.rowsRead());
+      assertEquals(a.hasModel(), b.hasModel());
+      if (a.hasModel()) {
+        // the same tree of merges wherever it runs: bit for bit
+        assertArrayEquals(a.solved().model().eigenvalues(), b.solved().model().eigenvalues(), 0.0, a.key() + "");
+        assertArrayEquals(a.solved().model().loadings(), b.solved().model().loadings(), 0.0, a.key() + "");
+        // other block boundaries: rounding only, 1e-10 relative to the largest eigenvalue
+        double[] ea = a.solved().model().eigenvalues();
+        double[] ec = c.solved().model().eigenvalues();
+        for (int j = 0; j < ea.length; j++) {
+          assertEquals(ea[j], ec[j], 1e-10 * ea[0], a.key() + " eigenvalue " + j + " with small blocks");
+        }
+      }
+    }
+    assertArrayEquals(driver.pooled().solved().model().eigenvalues(),
+        executors.pooled().solved().model().eigenvalues(), 0.0, "the pooled model");
   }
 
   @Test
