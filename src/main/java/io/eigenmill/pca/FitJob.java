@@ -124,9 +124,12 @@ public final class FitJob {
   private FitResult executeFromSnapshots() {
     Stopwatch clock = new Stopwatch();
     JobSettings.Input in = plan.settings().input();
-    SnapshotStore store = SnapshotStore.open(spark.sparkContext().hadoopConfiguration(), "input.snapshots",
-        in.snapshots(), false);
-    List<Snapshot> snaps = store.readAll(plan.snapshots().selected());
+    List<Snapshot> snaps = plan.snapshots().loaded();
+    if (snaps.isEmpty()) {
+      SnapshotStore store = SnapshotStore.open(spark.sparkContext().hadoopConfiguration(), "input.snapshots",
+          in.snapshots(), false);
+      snaps = store.readAll(plan.snapshots().selected());
+    }
     List<String> stored = snaps.get(0).features();
     int d = plan.d();
     int[] cols = new int[d];

@@ -15,9 +15,16 @@ import java.util.Locale;
  * @param bytesPerSnapshot what one snapshot of the plan's features takes on disk
  * @param selected the keys a fit from snapshots merges, in key order (empty when writing)
  * @param rowsSelected rows in the selected snapshots (used rows; 0 when writing)
+ * @param loaded the selected snapshots as the planner read and checked them (the fit merges these, not a second
+ *     reading); empty when writing
  */
 public record SnapshotPlan(String store, boolean writing, KeyColumns by, long bytesPerSnapshot,
-    List<SnapshotKey> selected, long rowsSelected) {
+    List<SnapshotKey> selected, long rowsSelected, List<io.eigenmill.io.Snapshot> loaded) {
+
+  public SnapshotPlan(String store, boolean writing, KeyColumns by, long bytesPerSnapshot, List<SnapshotKey> selected,
+      long rowsSelected) {
+    this(store, writing, by, bytesPerSnapshot, selected, rowsSelected, List.of());
+  }
 
   /** Snapshots wider than this are refused: d (d + 1) / 2 co-moments, 64 MB per snapshot at this width. */
   public static final int MAX_FEATURES = 4000;

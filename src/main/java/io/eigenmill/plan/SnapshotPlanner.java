@@ -131,7 +131,8 @@ final class SnapshotPlanner {
     List<String> names = features.stream().map(StructField::name).toList();
     List<String> types = features.stream().map(f -> f.dataType().simpleString()).toList();
     SnapshotPlan plan = new SnapshotPlan(in.snapshots(), false, new KeyColumns(first.key().columns(),
-        first.key().types(), zone(spark)), SnapshotStore.bytesPerSnapshot(first.features().size(), 0), keys, rows);
+        first.key().types(), zone(spark)), SnapshotStore.bytesPerSnapshot(first.features().size(), 0), keys, rows,
+        List.copyOf(snaps));
     return new JobPlan(settings, "fit from snapshots", names, types, List.of(), List.of(), rows, -1,
         Method.COVARIANCE, choice.reason(), choice.memory(), Planner.outputs(settings), notes, warnings, null, plan);
   }
