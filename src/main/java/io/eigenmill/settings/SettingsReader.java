@@ -192,6 +192,14 @@ public final class SettingsReader {
         f.choice("output.mode", Choices.OutputMode.values()), f.bool("output.scores"),
         f.bool("output.reconstruction"), f.intIn("output.report-sample", 0, 50_000),
         f.string("output.snapshots").strip(), f.strings("snapshots.by"));
+    if (f.userSet("reduce.min-group-rows") && !reduce.grouped()) {
+      f.problem("reduce.min-group-rows", "reduce.min-group-rows = " + reduce.minGroupRows().getAsInt() + " has no"
+          + " effect without reduce.group-by (one model per group); set reduce.group-by or remove the key");
+    }
+    if (reduce.grouped() && input.fromSnapshots()) {
+      f.problem("reduce.group-by", "reduce.group-by = " + reduce.groupBy() + " with input.snapshots: not available"
+          + " in this version (snapshots are written without groups); fit the groups from the table");
+    }
     if (!input.fromSnapshots() || !output.writesSnapshots()) {
       snapshotRules(f, input, output, apply, cluster, reduce, prepare);
     } else {

@@ -65,4 +65,55 @@ class PlannerTest extends SparkSuite {
         + " value per row (a string, number, date, timestamp or boolean), not an array, map or struct"),
         problems("features.keys = [host, tags]\ncluster { enabled = true, entity = tags }\n"));
   }
+
+  @Test
+  void groupAndSnapshotProblemsNameTheSettingAndTheRule() {
+    // group by an array column, and by a feature; snapshots of a table without partition columns
+    assertEquals(List.of("output.snapshots = /tmp/store: the input " + table + " has no partition columns, so"
+            + " snapshots.by has no default; set snapshots.by = [column, ...] (e.g. [date])",
+        "reduce.group-by = [tags, cpu]: column tags: a key column must be a string, boolean, integer, decimal,"
+            + " floating, date or timestamp column, not array<string>",
+        "reduce.group-by = [tags, cpu]: column cpu is also a feature; within a group it is constant, so it cannot"
+            + " be both: exclude it with features.exclude",
+        "reduce.group-by = [tags, cpu] with output.snapshots: not available with groups in this version (their"
+            + " outputs are of one model); remove it or the grouping"),
+        problems("features.columns = [cpu, mem]\nreduce.group-by = [tags, cpu]\n"
+            + "output.snapshots = \"/tmp/store\"\n"));
+  }
+
+  @Test
+  void aGroupedPlanStatesWhereGroupsAreSolvedAndTheSnapshotSize() {
+    JobSettings s = new SettingsReader().readString("input.path = \"" + table + "\"\noutput.path = \"/tmp/n\"\n"
+        + "features.columns = [cpu, mem]\nreduce.group-by = [host]\n", List.of(), "p.conf");
+    JobPlan plan = Planner.plan(spark, s);
+    String text = plan.describe();
+    org.junit.jupiter.api.Assertions.assertTrue(text.contains("groups:") && text.contains("one model per value of"
+        + " host") && text.contains("groups with fewer than 20 usable rows get none"), text);
+    JobSettings w = new SettingsReader().readString("input.path = \"" + table + "\"\noutput.path = \"/tmp/n\"\n"
+        + "features.columns = [cpu, mem]\nsnapshots.by = [host]\noutput.snapshots = \"/tmp/s\"\n", List.of(),
+        "p.conf");
+    String snap = Planner.plan(spark, w).describe();
+    // 2 features: 8 (1 + 2 + 2 + 3) doubles and the header; the size is the store's own estimate
+    org.junit.jupiter.api.Assertions.assertTrue(snap.contains("snapshots:") && snap.contains("writes one per value"
+        + " of host") && snap.contains(MemoryEstimate.human(io.eigenmill.io.SnapshotStore.bytesPerSnapshot(2, 0))),
+        snap);
+  }
+
+  @Test
+  void snapshotsWiderThanTheLimitAreRefused() {
+    StructType schema = new StructType().add("day", DataTypes.StringType);
+    Object[] values = new Object[SnapshotPlan.MAX_FEATURES + 2];
+    values[0] = "2026-11-01";
+    for (int j = 0; j <= SnapshotPlan.MAX_FEATURES; j++) {
+      schema = schema.add("m" + j, DataTypes.DoubleType);
+      values[j + 1] = (double) j;
+    }
+    var wide = spark.createDataFrame(List.of(RowFactory.create(values)), schema);
+    JobSettings s = new SettingsReader().readString("input.path = \"/tmp/unused\"\noutput.path = \"/tmp/n\"\n"
+        + "snapshots.by = [day]\noutput.snapshots = \"/tmp/s\"\nreduce.method = covariance\n"
+        + "reduce.covariance-max-features = 5000\n", List.of(), "p.conf");
+    List<String> problems = assertThrows(InvalidJobException.class, () -> Planner.plan(spark, s, wide)).problems();
+    org.junit.jupiter.api.Assertions.assertTrue(problems.stream().anyMatch(p -> p.startsWith("output.snapshots ="
+        + " /tmp/s: 4001 features") && p.contains("up to 4000 features")), problems.toString());
+  }
 }
