@@ -33,6 +33,7 @@ public final class HtmlReport {
     Sections.scree(b, m.scree());
     Sections.loadings(b, m.loadings());
     Sections.scores(b, m.scores());
+    Sections.groups(b, m.groups());
     Sections.monitoring(b, m.monitoring());
     Sections.clusters(b, m.clusters());
     Sections.compression(b, m.compression());
@@ -64,6 +65,7 @@ public final class HtmlReport {
       case "section-scree" -> "Variance";
       case "section-loadings" -> "Loadings";
       case "section-scores" -> "Score map";
+      case "section-groups" -> "Groups";
       case "section-monitoring" -> "Monitoring";
       case "section-clusters" -> "Clusters";
       case "section-compression" -> "Compression";

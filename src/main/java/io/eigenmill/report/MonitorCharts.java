@@ -61,7 +61,8 @@ final class MonitorCharts {
     svg.end();
     double ly = y.map(limit);
     svg.line(p.left, ly, p.right, ly, "limit");
-    svg.text(p.right - 4, ly - 6, "limit " + Fmt.num(limit) + " (" + m.confidence() + ")", "end", "limit-label");
+    svg.text(p.right - 4, ly - 6, (m.perGroup() ? "each row's group limit" : "limit " + Fmt.num(limit)) + " ("
+        + m.confidence() + ")", "end", "limit-label");
     p.frame();
     if (m.time()) {
       timeTicks(p, x);
@@ -71,7 +72,7 @@ final class MonitorCharts {
     svg.text(p.left, 16, name + (log ? " (log scale)" : "") + " · " + Fmt.count(over.size()) + " of "
         + Fmt.count(values.length) + " plotted points above the limit", "start", "chart-title");
     p.xTitle(m.time() ? m.positionLabel() + " (UTC)" : m.positionLabel());
-    p.yTitle(t2 ? "T2" : "Q");
+    p.yTitle(m.perGroup() ? (t2 ? "T2 / group limit" : "Q / group limit") : t2 ? "T2" : "Q");
     return svg.close();
   }
 
@@ -118,7 +119,8 @@ final class MonitorCharts {
     } else {
       p.xTicks(x);
     }
-    svg.text(p.left, 16, "Share of rows above the " + name + " limit (" + Fmt.num(limit) + ") · "
+    svg.text(p.left, 16, "Share of rows above the " + name + " limit (" + (m.perGroup() ? "each row's group limit"
+        : Fmt.num(limit)) + ") · "
         + Fmt.count(over.size()) + " of " + Fmt.count(pos.length) + " buckets above chance", "start", "chart-title");
     p.xTitle(m.time() ? m.positionLabel() + " (UTC)" : m.positionLabel());
     p.yTitle(t2 ? "share above T2 limit" : "share above Q limit");

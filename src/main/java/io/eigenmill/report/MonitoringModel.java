@@ -24,6 +24,8 @@ import org.apache.commons.math3.distribution.BinomialDistribution;
  * @param expected the share of rows a limit that holds flags: 1 - confidence
  * @param caption what a point of the two charts is, in words
  * @param keyNames names of the columns of the top rows' keys, for the table header
+ * @param perGroup true when each row was scored against its own group's limits: the series then holds each row's
+ *     T2 and Q over its group's limits, and {@code t2Limit}, {@code qLimit} are that ratio's limit, 1
  */
 public record MonitoringModel(
     List<Fact> counts,
@@ -43,7 +45,8 @@ public record MonitoringModel(
     String confidence,
     String caption,
     List<String> keyNames,
-    List<TopRow> top) {
+    List<TopRow> top,
+    boolean perGroup) {
 
   /**
    * A bucket is drawn as "more flagged than chance" when its flagged count exceeds the quantile at this probability
@@ -69,10 +72,19 @@ public record MonitoringModel(
         new Fact("Flagged by both", Fmt.count(m.flaggedBoth())),
         new Fact("Confidence of the limits", Fmt.percent(m.confidence(), 1)),
         new Fact("Components (k)", Fmt.count(m.k())));
-    List<Fact> limits = new ArrayList<>(List.of(
-        new Fact("T2 limit", Fmt.num(m.t2Limit()) + " — " + m.t2LimitRule()),
-        new Fact("Q limit", Fmt.num(m.qLimit()) + " — " + m.qLimitRule())));
-    if (m.qRule() != null) {
+    boolean perGroup = "per group".equals(m.qRule());
+    List<Fact> limits = new ArrayList<>();
+    if (perGroup) {
+      // the records' limits are the ratio's limit 1: the limits themselves differ per group (see the groups section)
+      limits.add(new Fact("T2 and Q limits", "one pair per group model, each row against its own group's limits"));
+      limits.add(new Fact("How", m.t2LimitRule()));
+      limits.add(new Fact("In the charts", "each row's T2 and Q divided by its group's limit: 1 is the limit of "
+          + "every group"));
+    } else {
+      limits.add(new Fact("T2 limit", Fmt.num(m.t2Limit()) + " — " + m.t2LimitRule()));
+      limits.add(new Fact("Q limit", Fmt.num(m.qLimit()) + " — " + m.qLimitRule()));
+    }
+    if (m.qRule() != null && !perGroup) {
       limits.add(new Fact("Q rule", m.qRule() + (Double.isNaN(m.qH0()) ? "" : ", h0 = " + Fmt.num(m.qH0(), 3))));
     }
     MonitorResult.Series s = m.series();
@@ -89,12 +101,14 @@ public record MonitoringModel(
     return new MonitoringModel(counts, List.copyOf(limits), label, time, buckets, pos, s == null ? empty : s.t2(),
         s == null ? empty : s.q(), buckets ? s.rows() : none, buckets ? s.flaggedT2() : none,
         buckets ? s.flaggedQ() : none, m.t2Limit(), m.qLimit(), 1 - m.confidence(), Fmt.percent(m.confidence(), 1),
-        caption(m, label, pos.length, buckets, buckets ? s.rows() : none), keyNames(run, m), top);
+        caption(m, label, pos.length, buckets, buckets ? s.rows() : none, perGroup), keyNames(run, m), top,
+        perGroup);
   }
 
   /** What a point of the charts is: a time bucket's share of flagged rows, or one row (sampled or not). */
-  static String caption(MonitorResult m, String label, int points, boolean buckets, long[] rows) {
+  static String caption(MonitorResult m, String label, int points, boolean buckets, long[] rows, boolean perGroup) {
     String expected = Fmt.percent(1 - m.confidence(), 1);
+    String limit = perGroup ? "its group's limit" : "the row limit";
     if (buckets) {
       long least = Long.MAX_VALUE;
       long most = 0;
@@ -102,7 +116,7 @@ public record MonitoringModel(
         least = Math.min(least, r);
         most = Math.max(most, r);
       }
-      return "Each point is one time bucket of " + label + ": the share of the bucket's rows above the row limit ("
+      return "Each point is one time bucket of " + label + ": the share of the bucket's rows above " + limit + " ("
           + Fmt.count(points) + " buckets of " + Fmt.count(least) + (least == most ? "" : " to " + Fmt.count(most))
           + " rows). The dashed line is the share a limit that holds flags, 1 - confidence = " + expected
           + ". Triangles are buckets with more flagged rows than chance explains (above the "
@@ -112,8 +126,9 @@ public record MonitoringModel(
         : "one row of a seeded sample of " + Fmt.count(points) + " of the " + Fmt.count(m.rowsScored())
             + " scored rows (chosen by a hash of their keys" + (label.startsWith("row") ? ", drawn in that order, not"
             + " in time)" : ")");
-    return "Each point is " + rowsText + ", with its own value against the row limit: a limit that holds puts about "
-        + expected + " of the points above it.";
+    return "Each point is " + rowsText + (perGroup ? ", its value divided by its group's limit (the line at 1)"
+        : ", with its own value against the row limit") + ": a limit that holds puts about " + expected
+        + " of the points above it.";
   }
 
   private static TopRow topRow(MonitorResult.FlaggedRow r) {

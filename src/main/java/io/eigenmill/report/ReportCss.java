@@ -45,6 +45,13 @@ final class ReportCss {
       td.key { white-space: nowrap; }
       tr.chosen td { font-weight: 650; background: #eaf0f8; }
       .tablewrap { overflow-x: auto; }
+      tr.skipped td { color: var(--muted); }
+      td.reason { font-size: 12.5px; font-style: italic; }
+      .multiples { display: grid; grid-template-columns: repeat(auto-fill, minmax(236px, 1fr)); gap: 8px 14px;
+        margin: 6px 0 4px; }
+      .multiples svg.chart { width: 100%; }
+      .pooled-curve { fill: none; stroke: #9aa3ad; stroke-width: 1.4; stroke-dasharray: 4 2; }
+      .k-label.small { font-size: 10.5px; }
       figure { margin: 10px 0 14px; break-inside: avoid; page-break-inside: avoid; }
       figcaption { color: var(--muted); font-size: 12.5px; margin-top: 4px; max-width: 90ch; }
       .row { display: flex; flex-wrap: wrap; gap: 8px 18px; align-items: flex-start; }

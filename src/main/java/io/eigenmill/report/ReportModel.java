@@ -21,7 +21,8 @@ public record ReportModel(
     CompressionModel compression,
     DriftModel drift,
     DataDriftModel dataDrift,
-    SnapshotModel snapshots) {
+    SnapshotModel snapshots,
+    GroupsModel groups) {
 
   /** Pure: reads the records, never Spark or the file system. */
   public static ReportModel of(RunResult run) {
@@ -30,7 +31,7 @@ public record ReportModel(
     return new ReportModel("eigenmill report: " + run.plan().settings().name(), HeaderModel.of(run, scree), warnings,
         scree, LoadingsModel.of(run, scree), ScoreMapModel.of(run, scree), MonitoringModel.of(run),
         ClusterModel.of(run), CompressionModel.of(run), DriftModel.of(run), DataDriftModel.of(run),
-        SnapshotModel.of(run));
+        SnapshotModel.of(run), GroupsModel.of(run));
   }
 
   /** The ids of the sections this report has, in page order. */
@@ -42,6 +43,7 @@ public record ReportModel(
     add(ids, scree != null, "section-scree");
     add(ids, loadings != null, "section-loadings");
     add(ids, scores != null, "section-scores");
+    add(ids, groups != null, "section-groups");
     add(ids, monitoring != null, "section-monitoring");
     add(ids, clusters != null, "section-clusters");
     add(ids, compression != null, "section-compression");

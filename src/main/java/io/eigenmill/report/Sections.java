@@ -24,6 +24,68 @@ final class Sections {
     HtmlReport.close(b);
   }
 
+  static void groups(StringBuilder b, GroupsModel m) {
+    if (m == null) {
+      return;
+    }
+    HtmlReport.open(b, "section-groups", "Groups", null);
+    b.append("<p class=\"lead\">").append(Html.esc(m.intro())).append("</p>\n");
+    if (!m.unknown().isEmpty()) {
+      HtmlReport.facts(b, m.unknown());
+    }
+    b.append(m.apply() ? "<h3>The applied groups</h3>\n" : "<h3>Each group</h3>\n");
+    b.append("<div class=\"tablewrap\"><table class=\"groups-table\"><thead><tr>");
+    for (String c : m.columns()) {
+      b.append("<th>").append(Html.esc(c)).append("</th>");
+    }
+    for (String h : m.headers()) {
+      b.append("<th class=\"num\">").append(Html.esc(h)).append("</th>");
+    }
+    b.append("</tr></thead><tbody>");
+    int cells = m.headers().size();
+    for (GroupsModel.Row r : m.rows()) {
+      b.append(r.reason() == null ? "<tr>" : "<tr class=\"skipped\">");
+      for (String v : r.keys()) {
+        b.append("<td class=\"key\">").append(Html.esc(v)).append("</td>");
+      }
+      if (r.reason() == null) {
+        for (String t : r.texts()) {
+          b.append("<td class=\"num\">").append(Html.esc(t)).append("</td>");
+        }
+      } else {
+        // rows read and used, then the reason across the model's columns
+        b.append("<td class=\"num\">").append(Html.esc(r.texts().get(0))).append("</td><td class=\"num\">")
+            .append(Html.esc(r.texts().get(1))).append("</td><td class=\"reason\" colspan=\"").append(cells - 2)
+            .append("\">no model: ").append(Html.esc(r.reason())).append("</td>");
+      }
+      b.append("</tr>");
+    }
+    b.append("</tbody></table></div>\n");
+    if (m.rows().size() < m.total()) {
+      b.append("<p class=\"note\">The ").append(m.rows().size()).append(" largest groups are listed; ")
+          .append(Fmt.count(m.total() - m.rows().size())).append(" more are in summary.json.</p>\n");
+    }
+    if (!m.screes().isEmpty()) {
+      b.append("<h3>Variance by component, per group</h3>\n<div class=\"multiples\">");
+      double max = GroupCharts.maxShare(m);
+      for (int i = 0; i < m.screes().size(); i++) {
+        b.append(GroupCharts.scree(m, m.screes().get(i), i, max));
+      }
+      b.append("</div>\n<p class=\"note\">Each bar is one component's share of the group's variance; dark bars are "
+          + "kept. The grey line is the pooled model (k = ").append(m.pooledK()).append("). All charts share one "
+          + "axis.").append(m.screes().size() < m.anglesTotal() ? " The " + m.screes().size() + " largest groups "
+          + "with a model are drawn." : "").append("</p>\n");
+    }
+    if (!m.angles().isEmpty()) {
+      b.append("<h3>How far each group is from the pooled model</h3>\n");
+      b.append("<p class=\"lead\">For each group, the largest principal angle between the components it keeps and "
+          + "those the pooled model keeps. A small angle means the group varies along the same directions as the "
+          + "fleet as a whole. Angles are measured on the features the group kept, in the pooled model's units.</p>\n");
+      HtmlReport.figure(b, GroupCharts.angles(m), m.reading().isEmpty() ? null : m.reading());
+    }
+    HtmlReport.close(b);
+  }
+
   static void scree(StringBuilder b, ScreeModel m) {
     if (m == null) {
       return;
@@ -132,6 +194,10 @@ final class Sections {
     }
     if (!m.top().isEmpty()) {
       b.append("<h3>Most unusual rows</h3>\n");
+      if (m.perGroup()) {
+        b.append("<p class=\"note\">T2 and Q in this table are each row's own values; each group has its own "
+            + "limits, so rows are ranked by their values over their group's limits.</p>\n");
+      }
       topRows(b, m);
     }
     HtmlReport.close(b);
