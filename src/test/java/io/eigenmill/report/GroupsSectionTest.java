@@ -59,7 +59,7 @@ class GroupsSectionTest {
     }
     Moments m = Moments.empty(d, true);
     m.addBlock(block, rows.size(), rows.size());
-    return new ModelSolver(List.of(FleetFixture.FEATURES), FLEET.model.featureTypes(), Choices.Scaling.STANDARDIZE,
+    return ModelSolver.of(List.of(FleetFixture.FEATURES), FLEET.model.featureTypes(), Choices.Scaling.STANDARDIZE,
         Choices.Method.COVARIANCE, s.reduce()).solve(m, null);
   }
 
