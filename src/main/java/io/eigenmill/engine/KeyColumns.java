@@ -128,25 +128,20 @@ public record KeyColumns(List<String> names, List<String> types, String zone) im
 
     /** The key code of a row whose key columns, cast to string, are at positions {@code from ..}. */
     public int code(Row row, int from) {
-      List<String> texts = new ArrayList<>(columns.length);
-      for (int c = 0; c < columns.length; c++) {
-        String t = row.isNullAt(from + c) ? null : row.getString(from + c);
-        // -0.0 and 0.0 are one key, as on the columnar path (and in Spark's grouping)
-        texts.add("-0.0".equals(t) ? "0.0" : t);
-      }
-      if (lastKey >= 0 && texts.equals(lastTexts)) {
-        return lastKey;
-      }
-      lastTexts = texts;
-      lastKey = intern(new KeyValues(texts));
-      return lastKey;
+      return code(c -> row.isNullAt(from + c) ? null : row.getString(from + c));
     }
 
     /** The key code of an internal row whose key columns, cast to string, are at positions {@code from ..}. */
     public int code(org.apache.spark.sql.catalyst.InternalRow row, int from) {
+      return code(c -> row.isNullAt(from + c) ? null : row.getUTF8String(from + c).toString());
+    }
+
+    /** The key code of the texts {@code text.apply(c)} of the key columns c (null for a null value). */
+    private int code(java.util.function.IntFunction<String> text) {
       List<String> texts = new ArrayList<>(columns.length);
       for (int c = 0; c < columns.length; c++) {
-        String t = row.isNullAt(from + c) ? null : row.getUTF8String(from + c).toString();
+        String t = text.apply(c);
+        // -0.0 and 0.0 are one key, as on the columnar path (and in Spark's grouping)
         texts.add("-0.0".equals(t) ? "0.0" : t);
       }
       if (lastKey >= 0 && texts.equals(lastTexts)) {

@@ -89,25 +89,12 @@ public final class OrderedMerge {
     return level.get(0);
   }
 
-  /** Balanced pairwise merge of an ordered list. */
-  public static <T extends Serializable> T tree(List<T> items,
-      Function2<T, T, T> merge) {
-    List<T> level = new ArrayList<>(items);
-    try {
-      while (level.size() > 1) {
-        List<T> next = new ArrayList<>((level.size() + 1) / 2);
-        for (int i = 0; i + 1 < level.size(); i += 2) {
-          next.add(merge.call(level.get(i), level.get(i + 1)));
-        }
-        if (level.size() % 2 == 1) {
-          next.add(level.get(level.size() - 1));
-        }
-        level = next;
-      }
-    } catch (Exception e) {
-      throw new IllegalStateException("merging partial results failed", e);
+  /** Balanced pairwise merge of an ordered, non-empty list without nulls. */
+  public static <T extends Serializable> T tree(List<T> items, Function2<T, T, T> merge) {
+    if (items.isEmpty()) {
+      throw new IllegalArgumentException("nothing to merge");
     }
-    return level.get(0);
+    return treeWithGaps(items, merge);
   }
 
   /** Tags each partition's single partial with its group (index / fan) and its partition index. */

@@ -70,11 +70,7 @@ public final class ScoringStage {
     }
     ScoringPass.Scored scored = ScoringPass.apply(table, plan.keys(), plan.partitionColumns(), spec, counters);
     LOG.info("score: reading {}", scored.readPath());
-    String path = out.staged("scores");
-    try (Progress progress = Progress.start(spark, "score", counters.scored())) {
-      write(scored.rows(), path);
-      progress.done(counters.scored().value());
-    }
+    String path = writeScores(scored, counters);
     failOnMissing(counters.dropped().value(), s.prepare().missing());
     long rows = counters.scored().value();
     long flaggedT2 = counters.flaggedT2().value();
@@ -123,11 +119,7 @@ public final class ScoringStage {
     }
     ScoringPass.Scored scored = ScoringPass.apply(table, keys, plan.partitionColumns(), spec, counters);
     LOG.info("score: {} group models, reading {}", models.size(), scored.readPath());
-    String path = out.staged("scores");
-    try (Progress progress = Progress.start(spark, "score", counters.scored())) {
-      write(scored.rows(), path);
-      progress.done(counters.scored().value());
-    }
+    String path = writeScores(scored, counters);
     failOnMissing(counters.dropped().value(), s.prepare().missing());
     long unknown = counters.unknown().value();
     List<String> unknownGroups = new ArrayList<>(new java.util.TreeSet<>(counters.unknownGroups().value()));
@@ -199,6 +191,16 @@ public final class ScoringStage {
 
   private static String percent(double share) {
     return String.format(Locale.ROOT, "%.3g%%", 100 * share);
+  }
+
+  /** Writes the scores to {@code scores/} in the staging folder (the pass runs here), with progress; the path. */
+  private String writeScores(ScoringPass.Scored scored, ScoringPass.Counters counters) {
+    String path = out.staged("scores");
+    try (Progress progress = Progress.start(spark, "score", counters.scored())) {
+      write(scored.rows(), path);
+      progress.done(counters.scored().value());
+    }
+    return path;
   }
 
   private void write(Dataset<Row> scored, String path) {

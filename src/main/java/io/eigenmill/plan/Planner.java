@@ -222,24 +222,8 @@ public final class Planner {
       List<String> features, MethodChoice.Choice choice, List<String> problems) {
     JobSettings.Reduce r = settings.reduce();
     String named = "reduce.group-by = " + r.groupBy();
-    List<String> types = new ArrayList<>();
-    for (String c : r.groupBy()) {
-      var index = schema.getFieldIndex(c);
-      if (index.isEmpty()) {
-        problems.add(named + ": column " + c + " is not in the input (columns: "
-            + String.join(", ", schema.fieldNames()) + ")");
-        continue;
-      }
-      DataType type = schema.fields()[(Integer) index.get()].dataType();
-      String rule = io.eigenmill.engine.KeyColumns.unsupported(type);
-      if (rule != null) {
-        problems.add(named + ": column " + c + ": " + rule);
-      } else if (features.contains(c)) {
-        problems.add(named + ": column " + c + " is also a feature; within a group it is constant, so it cannot"
-            + " be both: exclude it with features.exclude");
-      }
-      types.add(type.simpleString());
-    }
+    List<String> types = keyColumnTypes(schema, r.groupBy(), features, named, "within a group it is constant, so"
+        + " it cannot be both: exclude it with features.exclude", problems);
     if (choice != null && choice.method() == io.eigenmill.settings.Choices.Method.RANDOMIZED) {
       problems.add(named + " with " + (r.method() == io.eigenmill.settings.Choices.Method.AUTO
           ? "reduce.method = auto, which chose randomized (" + choice.reason() + ")" : "reduce.method = randomized")
@@ -272,6 +256,33 @@ public final class Planner {
     return new GroupPlan(new io.eigenmill.engine.KeyColumns(r.groupBy(), types,
         spark.conf().get("spark.sql.session.timeZone")), r.minGroupRows(d), summary, block, driverHeap(spark) / 4,
         taskHeap(spark) / 4);
+  }
+
+  /**
+   * The types of key columns {@code columns} (snapshot keys, groups), or fewer types than columns with the problems
+   * added: a column must be in the input, of a type a key can have ({@link io.eigenmill.engine.KeyColumns}), and not a
+   * feature ({@code whyNotFeature} says why, after "is also a feature; ").
+   */
+  static List<String> keyColumnTypes(StructType schema, List<String> columns, List<String> features, String named,
+      String whyNotFeature, List<String> problems) {
+    List<String> types = new ArrayList<>();
+    for (String c : columns) {
+      var index = schema.getFieldIndex(c);
+      if (index.isEmpty()) {
+        problems.add(named + ": column " + c + " is not in the input (columns: "
+            + String.join(", ", schema.fieldNames()) + ")");
+        continue;
+      }
+      DataType type = schema.fields()[(Integer) index.get()].dataType();
+      String rule = io.eigenmill.engine.KeyColumns.unsupported(type);
+      if (rule != null) {
+        problems.add(named + ": column " + c + ": " + rule);
+      } else if (features.contains(c)) {
+        problems.add(named + ": column " + c + " is also a feature; " + whyNotFeature);
+      }
+      types.add(type.simpleString());
+    }
+    return types;
   }
 
   /** {@code table} filtered by {@code input.where}; {@code table} when unset or when its problem is added. */

@@ -38,24 +38,8 @@ final class SnapshotPlanner {
       problems.add(store + ": the input " + settings.input().path() + " has no partition columns, so snapshots.by"
           + " has no default; set snapshots.by = [column, ...] (e.g. [date])");
     }
-    List<String> types = new ArrayList<>();
-    for (String c : by) {
-      var index = schema.getFieldIndex(c);
-      if (index.isEmpty()) {
-        problems.add(byKey + ": column " + c + " is not in the input (columns: " + String.join(", ",
-            schema.fieldNames()) + ")");
-        continue;
-      }
-      DataType type = schema.fields()[(Integer) index.get()].dataType();
-      String rule = KeyColumns.unsupported(type);
-      if (rule != null) {
-        problems.add(byKey + ": column " + c + ": " + rule);
-      } else if (features.contains(c)) {
-        problems.add(byKey + ": column " + c + " is also a feature; a snapshot key must not be (exclude it with"
-            + " features.exclude)");
-      }
-      types.add(type.simpleString());
-    }
+    List<String> types = Planner.keyColumnTypes(schema, by, features, byKey, "a snapshot key must not be (exclude"
+        + " it with features.exclude)", problems);
     int d = features.size();
     if (d > SnapshotPlan.MAX_FEATURES) {
       problems.add(store + ": " + d + " features; a snapshot keeps d (d + 1) / 2 = " + (long) d * (d + 1) / 2
