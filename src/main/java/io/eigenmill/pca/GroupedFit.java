@@ -107,7 +107,7 @@ final class GroupedFit {
     groups.sort(Comparator.comparingLong(GroupFit::rowsRead).reversed().thenComparing(g -> String.valueOf(
         g.key().texts())));
     if (pooled == null) {
-      throw new InvalidJobException("input.path = " + input.table() + ": the table has no rows");
+      throw new InvalidJobException("input.path: the table has no rows" + (counts.isEmpty() ? "" : " left"));
     }
     ReadCounts total = ReadCounts.of(pooled.rowsRead(), pooled.rowsRead() - pooled.rowsUsed(),
         pooled.missingCells());
