@@ -20,9 +20,31 @@ import java.util.Locale;
  * it once per group, on the driver or on the executors (it is serializable and holds only settings).
  *
  * @param features the planned features in order, with their input types
+ * @param reduce what chooses k (from the settings' {@code reduce} block)
  */
 public record ModelSolver(List<String> features, List<String> featureTypes, Scaling scaling, Method method,
-    JobSettings.Reduce reduce) implements Serializable {
+    KChoice reduce) implements Serializable {
+
+  public ModelSolver(List<String> features, List<String> featureTypes, Scaling scaling, Method method,
+      JobSettings.Reduce reduce) {
+    this(features, featureTypes, scaling, method, KChoice.of(reduce));
+  }
+
+  /**
+   * The settings that choose k: {@code reduce.components} (empty when not given), else the variance target capped by
+   * {@code reduce.max-components}. Its own serializable record, not {@link JobSettings.Reduce}: a grouped fit solved
+   * on the executors ships the solver to them, and {@code OptionalInt} is not serializable.
+   */
+  public record KChoice(Integer fixed, double varianceTarget, int maxComponents) implements Serializable {
+    static KChoice of(JobSettings.Reduce r) {
+      return new KChoice(r.components().isPresent() ? r.components().getAsInt() : null, r.varianceTarget(),
+          r.maxComponents());
+    }
+
+    java.util.OptionalInt components() {
+      return fixed == null ? java.util.OptionalInt.empty() : java.util.OptionalInt.of(fixed);
+    }
+  }
 
   /**
    * What the solver made of one summary.
@@ -117,7 +139,7 @@ public record ModelSolver(List<String> features, List<String> featureTypes, Scal
 
   /** k and the rule that chose it; {@code reduce.components} is at most the kept columns ({@link #checkComponents}). */
   private String chooseK(Spectrum spectrum, int[] k, List<String> warnings) {
-    JobSettings.Reduce r = reduce;
+    KChoice r = reduce;
     if (r.components().isPresent()) {
       int want = r.components().getAsInt();
       k[0] = Math.min(want, spectrum.available());
