@@ -18,10 +18,12 @@ import java.util.Set;
  * @param cases the cases to run, in their fixed order
  * @param casesGiven true when {@code --cases} was given (scaling then runs exactly those)
  * @param windows only the windows case: a 7-day refit from moment snapshots against the data fit ({@link WindowRun})
+ * @param groups only the groups cases: one model per group in one pass against one model and against separate
+ *     filtered fits ({@link GroupRun})
  * @param command the command as typed, for the results file
  */
 public record BenchOptions(long rows, int features, int cores, int reps, Path data, List<BenchCase> cases,
-    boolean casesGiven, boolean scaling, boolean wide, boolean windows, boolean smoke, Path out, String command) {
+    boolean casesGiven, boolean scaling, boolean wide, boolean windows, boolean groups, boolean smoke, Path out, String command) {
 
   public static final long DEFAULT_ROWS = 2_000_000L;
   public static final int DEFAULT_FEATURES = 100;
@@ -30,7 +32,7 @@ public record BenchOptions(long rows, int features, int cores, int reps, Path da
 
   public static final String USAGE = String.join("\n",
       "usage: local-demo/bench [--rows N] [--features D] [--cores C] [--reps R] [--data DIR] [--cases LIST]",
-      "                        [--scaling] [--wide] [--windows] [--smoke] [--out FILE]",
+      "                        [--scaling] [--wide] [--windows] [--groups] [--smoke] [--out FILE]",
       "  --rows N      rows of the main table (default 2000000)",
       "  --features D  numeric features (default 100)",
       "  --cores C     Spark local[C] (default 2)",
@@ -43,6 +45,9 @@ public record BenchOptions(long rows, int features, int cores, int reps, Path da
       "  --windows     only the windows case: 30 daily partitions x 10 slices (300,000 rows a day x 100 features),",
       "                a 7-day refit from moment snapshots against the data fit of the same rows, at 30,000, 90,000",
       "                and 300,000 rows a day (slice < 1, 3, 10); fit step and whole job",
+      "  --groups      only the groups cases on the main table copied with group columns g10, g1000, g10000: one",
+      "                model against reduce.group-by with 10 and 1,000 groups, 10 separate filtered fits (input.where),",
+      "                and 10,000 groups once with its peak heap; fit step and whole job",
       "  --smoke       tiny table (20000 x 20 unless given), 1 repetition, no warm-up",
       "  --out FILE    results as markdown (default local-demo/BENCHMARKS.md); only this run's sections are replaced");
 
@@ -68,6 +73,7 @@ public record BenchOptions(long rows, int features, int cores, int reps, Path da
     boolean scaling = false;
     boolean wide = false;
     boolean windows = false;
+    boolean groups = false;
     boolean smoke = false;
     for (int i = 0; i < args.length; i++) {
       String a = args[i];
@@ -85,6 +91,7 @@ public record BenchOptions(long rows, int features, int cores, int reps, Path da
         case "--scaling" -> scaling = true;
         case "--wide" -> wide = true;
         case "--windows" -> windows = true;
+        case "--groups" -> groups = true;
         case "--smoke" -> smoke = true;
         default -> throw new IllegalArgumentException("unknown argument '" + a + "'");
       }
@@ -95,12 +102,17 @@ public record BenchOptions(long rows, int features, int cores, int reps, Path da
     if (windows && (wide || scaling || casesGiven)) {
       throw new IllegalArgumentException("--windows runs only its own case: drop --wide, --scaling and --cases");
     }
+    if (groups && (windows || wide || scaling || casesGiven)) {
+      throw new IllegalArgumentException("--groups runs only its own cases: drop --windows, --wide, --scaling and "
+          + "--cases");
+    }
     long n = rows != null ? rows : smoke ? SMOKE_ROWS : DEFAULT_ROWS;
     int d = features != null ? features : smoke ? SMOKE_FEATURES : DEFAULT_FEATURES;
     if (d < 11) {
       throw new IllegalArgumentException("--features " + d + ": at least 11 (the fits keep k = 10 components)");
     }
-    return new BenchOptions(n, d, cores, reps, data, new ArrayList<>(cases), casesGiven, scaling, wide, windows, smoke, out,
+    return new BenchOptions(n, d, cores, reps, data, new ArrayList<>(cases), casesGiven, scaling, wide, windows, groups, smoke,
+        out,
         command(args));
   }
 

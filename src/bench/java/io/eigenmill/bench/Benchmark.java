@@ -12,7 +12,8 @@ import org.apache.spark.sql.SparkSession;
  * The benchmark suite: our fits, apply and k-means against the floors (a SQL sum and a columnar read of the same
  * columns, a plain Parquet write of the scores' shape) and against the engine's own PCA and k-means, with accuracy
  * beside speed, in one run; optionally scaling in rows, or (in a run of its own) wide tables with their peak heap, or a window refit
- * from moment snapshots against the data fit ({@code --windows}).
+ * from moment snapshots against the data fit ({@code --windows}), or one model per group against one model and
+ * against separate filtered fits ({@code --groups}).
  * Results go to a markdown file ({@code --out}) and the console. Run it with {@code local-demo/bench}; flags in
  * {@link BenchOptions#USAGE}.
  *
@@ -78,6 +79,13 @@ public final class Benchmark {
       String body = WindowRun.render(windows, Report.header(machine, options, loadBefore, Machine.loadAverage()));
       System.out.println(body);
       Report.writeSection(options.out(), "windows", body);
+      return new Outcome(null, null, null, options.out());
+    }
+    if (options.groups()) {
+      GroupRun.GroupResult groups = GroupRun.run(spark, options, r -> Report.writeSection(options.out(), "groups",
+          GroupRun.render(r, Report.header(machine, options, loadBefore, Machine.loadAverage()))));
+      System.out.println(GroupRun.render(groups, Report.header(machine, options, loadBefore,
+          Machine.loadAverage())));
       return new Outcome(null, null, null, options.out());
     }
     if (options.wide()) {

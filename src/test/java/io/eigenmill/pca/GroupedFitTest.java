@@ -296,4 +296,27 @@ class GroupedFitTest extends SparkSuite {
       }
     }
   }
+
+  /**
+   * Groups solved on the executors take the solver with them: it must serialize with every k rule (a fixed
+   * reduce.components was an OptionalInt inside the settings, which Java serialization refuses), and come back
+   * choosing the same k. Java serialization is what Spark's closure serializer uses for the finisher.
+   */
+  @Test
+  void theSolverSerializesForTheExecutorsWithEveryKRule() throws Exception {
+    for (String rule : List.of("reduce.components = 2", "reduce.variance-target = 0.8")) {
+      var settings = JobFiles.settings("input.path = \"" + fleet + "\"\nfeatures.columns = "
+          + JobFiles.quoted(List.of(FEATURES)) + "\n" + rule + "\noutput.path = \"" + dir.resolve("unused") + "\"\n");
+      ModelSolver solver = ModelSolver.of(List.of(FEATURES), java.util.Collections.nCopies(FEATURES.length,
+          "double"), settings.prepare().scaling(), io.eigenmill.settings.Choices.Method.COVARIANCE,
+          settings.reduce());
+      var bytes = new java.io.ByteArrayOutputStream();
+      try (var out = new java.io.ObjectOutputStream(bytes)) {
+        out.writeObject(solver);
+      }
+      try (var in = new java.io.ObjectInputStream(new java.io.ByteArrayInputStream(bytes.toByteArray()))) {
+        assertEquals(solver, in.readObject(), rule);
+      }
+    }
+  }
 }
