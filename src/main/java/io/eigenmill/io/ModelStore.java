@@ -98,6 +98,14 @@ public final class ModelStore {
    * back), then the columns of a single model.
    */
   public static void writeGroups(SparkSession spark, KeyColumns by, Map<KeyValues, PcaModel> models, String path) {
+    groupTable(spark, by, models).coalesce(1).write().parquet(path);
+  }
+
+  /**
+   * The table {@link #writeGroups} writes, one row per group: the group columns (typed), then a model's columns. The
+   * groups' other tables (their loadings and spectra) are exploded from it by Spark rather than built row by row.
+   */
+  public static Dataset<Row> groupTable(SparkSession spark, KeyColumns by, Map<KeyValues, PcaModel> models) {
     StructType schema = new StructType();
     for (String c : by.names()) {
       schema = schema.add(c, DataTypes.StringType, true);
@@ -111,7 +119,7 @@ public final class ModelStore {
       values.addAll(List.of(fields(m)));
       rows.add(RowFactory.create(values.toArray()));
     });
-    spark.createDataFrame(rows, schema).select(typed(by)).coalesce(1).write().parquet(path);
+    return spark.createDataFrame(rows, schema).select(typed(by));
   }
 
   /** The columns: the group columns cast to their types, then every other column as it is. */

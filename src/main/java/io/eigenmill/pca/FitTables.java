@@ -1,16 +1,17 @@
 package io.eigenmill.pca;
 
 import io.eigenmill.engine.KeyColumns;
-import io.eigenmill.engine.KeyValues;
 import io.eigenmill.io.ModelStore;
-import io.eigenmill.io.PcaModel;
 import io.eigenmill.io.OutputCommit;
 import io.eigenmill.pca.math.Spectrum;
 import java.util.ArrayList;
 import java.util.List;
+import org.apache.spark.sql.Column;
+import org.apache.spark.sql.Dataset;
 import org.apache.spark.sql.Row;
 import org.apache.spark.sql.RowFactory;
 import org.apache.spark.sql.SparkSession;
+import org.apache.spark.sql.functions;
 import org.apache.spark.sql.types.DataTypes;
 import org.apache.spark.sql.types.StructType;
 
@@ -21,54 +22,47 @@ public final class FitTables {
   /**
    * Writes the tables of a grouped fit: {@code model/} (one row per group with a model, the group columns first),
    * {@code pooled-model/} (the model of all rows, as a fit without groups writes it), and {@code components/} and
-   * {@code spectrum/} with the group columns first.
+   * {@code spectrum/} with the group columns first. The last two are exploded by Spark from the model table (one row
+   * per group): at 10,000 groups of 100 features and k = 10, components/ has 10 million rows, which the driver must
+   * not build one by one. Shares and cumulative shares are the same sums in the same order as
+   * {@link Spectrum#varianceShares} and {@link Spectrum#cumulativeVarianceShares}.
    */
   static void writeGroups(SparkSession spark, FitResult fit, OutputCommit out) {
     Groups g = fit.groups();
     KeyColumns by = g.by();
-    StructType componentSchema = new StructType();
-    StructType spectrumSchema = new StructType();
-    for (String c : by.names()) {
-      componentSchema = componentSchema.add(c, DataTypes.StringType, true);
-      spectrumSchema = spectrumSchema.add(c, DataTypes.StringType, true);
+    Dataset<Row> models = ModelStore.groupTable(spark, by, g.models()).cache();
+    try {
+      List<Column> keys = new ArrayList<>();
+      for (String c : by.names()) {
+        keys.add(functions.col(c));
+      }
+      Dataset<Row> perComponent = models.select(concat(keys, functions.col("features"),
+          functions.posexplode(functions.col("loadings")).as(new String[] {"c0", "vector"})));
+      Dataset<Row> loadings = perComponent.select(concat(keys, functions.col("features"), functions.col("c0"),
+          functions.posexplode(functions.col("vector")).as(new String[] {"j", "loading"})));
+      loadings.select(concat(keys, functions.expr("element_at(features, j + 1)").as("feature"),
+          functions.expr("c0 + 1").as("component"), functions.col("loading"))).coalesce(1).write()
+          .parquet(out.staged("components"));
+      Dataset<Row> perEigenvalue = models.select(concat(keys, functions.col("eigenvalues"),
+          functions.col("total_variance"), functions.col("k"),
+          functions.posexplode(functions.col("eigenvalues")).as(new String[] {"c0", "eigenvalue"})));
+      String share = "(CASE WHEN total_variance > 0 THEN %s / total_variance ELSE 0D END)";
+      perEigenvalue.select(concat(keys, functions.expr("c0 + 1").as("component"), functions.col("eigenvalue"),
+          functions.expr(String.format(share, "eigenvalue")).as("variance_share"),
+          functions.expr("aggregate(slice(transform(eigenvalues, x -> " + String.format(share, "x") + "), 1, c0 + 1),"
+              + " 0D, (acc, x) -> acc + x)").as("cumulative_variance_share"),
+          functions.expr("c0 < k").as("kept"))).coalesce(1).write().parquet(out.staged("spectrum"));
+      models.coalesce(1).write().parquet(out.staged("model"));
+    } finally {
+      models.unpersist();
     }
-    componentSchema = componentSchema.add("feature", DataTypes.StringType, false)
-        .add("component", DataTypes.IntegerType, false).add("loading", DataTypes.DoubleType, false);
-    spectrumSchema = spectrumSchema.add("component", DataTypes.IntegerType, false)
-        .add("eigenvalue", DataTypes.DoubleType, false).add("variance_share", DataTypes.DoubleType, false)
-        .add("cumulative_variance_share", DataTypes.DoubleType, false).add("kept", DataTypes.BooleanType, false);
-    List<Row> loadings = new ArrayList<>();
-    List<Row> spectrum = new ArrayList<>();
-    for (GroupFit group : g.groups()) {
-      if (!group.hasModel()) {
-        continue;
-      }
-      PcaModel m = group.solved().model();
-      Spectrum s = group.solved().spectrum();
-      for (int c = 0; c < m.k(); c++) {
-        for (int j = 0; j < m.d(); j++) {
-          loadings.add(row(group.key(), m.features().get(j), c + 1, s.loading(j, c)));
-        }
-      }
-      double[] shares = s.varianceShares();
-      double[] cumulative = s.cumulativeVarianceShares();
-      for (int c = 0; c < s.available(); c++) {
-        spectrum.add(row(group.key(), c + 1, s.eigenvalues()[c], shares[c], cumulative[c], c < m.k()));
-      }
-    }
-    spark.createDataFrame(loadings, componentSchema).select(ModelStore.typed(by, new String[] {"feature",
-        "component", "loading"})).coalesce(1).write().parquet(out.staged("components"));
-    spark.createDataFrame(spectrum, spectrumSchema).select(ModelStore.typed(by, new String[] {"component",
-        "eigenvalue", "variance_share", "cumulative_variance_share", "kept"})).coalesce(1).write()
-        .parquet(out.staged("spectrum"));
-    ModelStore.writeGroups(spark, by, g.models(), out.staged("model"));
     ModelStore.write(spark, fit.model(), out.staged("pooled-model"));
   }
 
-  private static Row row(KeyValues key, Object... values) {
-    List<Object> all = new ArrayList<>(key.texts());
-    all.addAll(java.util.Arrays.asList(values));
-    return RowFactory.create(all.toArray());
+  private static Column[] concat(List<Column> first, Column... rest) {
+    List<Column> all = new ArrayList<>(first);
+    all.addAll(java.util.Arrays.asList(rest));
+    return all.toArray(Column[]::new);
   }
 
   public static void write(SparkSession spark, FitResult fit, OutputCommit out) {

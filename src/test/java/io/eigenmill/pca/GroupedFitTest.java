@@ -135,6 +135,31 @@ class GroupedFitTest extends SparkSuite {
           assertEquals(means[j], m.means()[j], 1e-12 * Math.abs(means[j]), "class " + c + " mean " + j);
         }
       }
+      // spectrum/ and components/ (exploded by Spark from the model table) hold the solver's own numbers, bit for bit
+      for (GroupFit gf : groups.groups()) {
+        String c = gf.key().get(0);
+        List<Row> spectrum = spark.read().parquet(out.resolve("spectrum").toString()).where("class = " + c)
+            .orderBy("component").collectAsList();
+        double[] shares = gf.solved().spectrum().varianceShares();
+        double[] cumulative = gf.solved().spectrum().cumulativeVarianceShares();
+        assertEquals(shares.length, spectrum.size());
+        for (int i = 0; i < shares.length; i++) {
+          Row r = spectrum.get(i);
+          assertEquals(shares[i], r.getDouble(r.fieldIndex("variance_share")), 0.0, "class " + c + " share " + i);
+          assertEquals(cumulative[i], r.getDouble(r.fieldIndex("cumulative_variance_share")), 0.0,
+              "class " + c + " cumulative " + i);
+          assertEquals(i < 3, r.getBoolean(r.fieldIndex("kept")));
+        }
+        PcaModel m = gf.solved().model();
+        List<Row> components = spark.read().parquet(out.resolve("components").toString()).where("class = " + c)
+            .collectAsList();
+        assertEquals(3 * features.size(), components.size());
+        for (Row r : components) {
+          int comp = r.getInt(r.fieldIndex("component"));
+          int j = features.indexOf(r.getString(r.fieldIndex("feature")));
+          assertEquals(m.loading(j, comp - 1), r.getDouble(r.fieldIndex("loading")), 0.0, "class " + c);
+        }
+      }
       JsonNode summary = new ObjectMapper().readTree(out.resolve("summary.json").toFile());
       assertEquals(3, summary.get("groups").size());
       assertEquals("2", summary.get("groups").get(0).get("key").get("class").asText(), "largest class first");
