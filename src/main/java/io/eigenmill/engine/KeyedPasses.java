@@ -158,6 +158,7 @@ public final class KeyedPasses {
       int[] codes = new int[0];
       int[] order = new int[0];
       int[] starts = new int[0];
+      BatchScratch scratch = new BatchScratch(ordinals.length);
       while (batches.hasNext()) {
         ColumnarBatch batch = batches.next();
         for (int j = 0; j < ordinals.length; j++) {
@@ -203,6 +204,9 @@ public final class KeyedPasses {
         for (int r = 0; r < rows; r++) {
           order[next[codes[r]]++] = r;
         }
+        // the batch is decoded once, column by column with the unkeyed copy (SIMD, dictionaries decoded per run),
+        // into a scratch of doubles, and each key's rows are gathered from it
+        scratch.fill(vectors, kinds, rows);
         for (int c = 0; c < keysNow; c++) {
           int count = starts[c + 1] - starts[c];
           if (count > 0) {
@@ -210,12 +214,81 @@ public final class KeyedPasses {
             if (f == null) {
               router.skipRows(count);
             } else {
-              PartitionPasses.gatherRows(vectors, kinds, order, starts[c], count, f);
+              scratch.gather(order, starts[c], count, f);
             }
           }
         }
       }
       return List.of(router.finish(partition)).iterator();
+    }
+  }
+
+  /**
+   * A batch's feature columns decoded to doubles (column-major, leading dimension the batch's rows), a missing cell
+   * (null, NaN or infinite) as NaN; rows are gathered from it into the keys' blocks. The values are the block
+   * reader's ({@link PartitionPasses#copyColumn} with no origin: x - 0 is x), and a block's origin is subtracted when
+   * gathering, so a gathered block holds the same bits as a block copied from the batch.
+   */
+  static final class BatchScratch implements BlockSink {
+    private final int d;
+    private double[] values = new double[0];
+    private int ld;
+
+    BatchScratch(int d) {
+      this.d = d;
+    }
+
+    void fill(ColumnVector[] vectors, int[] kinds, int rows) {
+      if (values.length < d * rows) {
+        values = new double[d * Math.max(rows, 1024)];
+      }
+      ld = rows;
+      for (int j = 0; j < d; j++) {
+        PartitionPasses.copyColumn(vectors[j], kinds[j], 0, rows, this, j);
+      }
+    }
+
+    /** Gathers the batch rows {@code rows[from .. from + count - 1]} into {@code sink}, a slice at a time. */
+    void gather(int[] rows, int from, int count, PartitionPasses.SliceSink sink) {
+      int end = from + count;
+      while (from < end) {
+        int t = sink.room(end - from);
+        ColumnBlock block = sink.block();
+        double[] dst = block.block();
+        int base = block.base();
+        int bld = block.ld();
+        double[] origin = block.origin();
+        for (int j = 0; j < d; j++) {
+          double o = origin == null ? 0.0 : origin[j];
+          int src = j * ld;
+          int off = j * bld + base;
+          for (int i = 0; i < t; i++) {
+            double x = values[src + rows[from + i]];
+            dst[off + i] = x - o;
+            if (x != x) {
+              block.markMissing(i, j);
+            }
+          }
+        }
+        sink.commit(t);
+        from += t;
+      }
+    }
+
+    @Override public double[] block() {
+      return values;
+    }
+
+    @Override public int ld() {
+      return ld;
+    }
+
+    @Override public int base() {
+      return 0;
+    }
+
+    @Override public void markMissing(int i, int j) {
+      values[j * ld + i] = Double.NaN;
     }
   }
 

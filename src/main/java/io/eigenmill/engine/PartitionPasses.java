@@ -109,25 +109,9 @@ public final class PartitionPasses {
   }
 
   /**
-   * Copies the batch rows {@code rows[from .. from + count - 1]} (in that order) of the columns {@code vectors} into
-   * {@code sink}: the gathered form of {@link #copyRows}, for rows of one key scattered through a batch.
-   */
-  static void gatherRows(ColumnVector[] vectors, int[] kinds, int[] rows, int from, int count, SliceSink sink) {
-    int end = from + count;
-    while (from < end) {
-      int t = sink.room(end - from);
-      ColumnBlock block = sink.block();
-      for (int j = 0; j < vectors.length; j++) {
-        gatherColumn(vectors[j], kinds[j], rows, from, t, block, j);
-      }
-      sink.commit(t);
-      from += t;
-    }
-  }
-
-  /**
-   * Column j of {@link #gatherRows}: the same values and missing cells as {@link #copyColumn} gives for the same rows
-   * (a null cell never read, NaN and infinities missing, the sink's origin subtracted), one value at a time.
+   * Copies the batch rows {@code rows[from .. from + t - 1]} of column {@code v} into column j of the sink's slice:
+   * the same values and missing cells as {@link #copyColumn} gives for the same rows (a null cell never read, NaN and
+   * infinities missing, the sink's origin subtracted), one value at a time.
    */
   public static void gatherColumn(ColumnVector v, int kind, int[] rows, int from, int t, BlockSink sink, int j) {
     double[] dst = sink.block();
