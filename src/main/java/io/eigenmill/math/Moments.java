@@ -361,7 +361,7 @@ public final class Moments implements BlockSummary<Moments> {
   }
 
   /** See {@link #state}: arrays of d, d and d (d + 1) / 2 values. */
-  public record State(long n, double[] shift, double[] mean, double[] packedM2) {}
+  public record State(long n, double[] shift, double[] mean, double[] packedM2) implements java.io.Serializable {}
 
   /** The moments (with the Gram) whose {@link #state} is {@code s}; bit for bit. */
   public static Moments restore(State s) {
@@ -381,6 +381,22 @@ public final class Moments implements BlockSummary<Moments> {
       }
     }
     return m;
+  }
+
+  /**
+   * Java serialization (partials travel between executors and the driver, and through the shuffle of a keyed pass
+   * with many keys) writes the moments with the Gram as their {@link #state}: the upper triangle packed, half the
+   * bytes of the d x d array, and rebuilt bit for bit by {@link #restore} (the lower triangle is never read).
+   */
+  private Object writeReplace() {
+    return gram ? new Packed(state()) : this;
+  }
+
+  /** The serialized form of moments with the Gram. */
+  private record Packed(State state) implements java.io.Serializable {
+    private Object readResolve() {
+      return restore(state);
+    }
   }
 
   /** The serialized form: d, gram flag, n, shift, mean relative to the shift, m2 (big-endian). */
