@@ -5,7 +5,7 @@ import java.util.Arrays;
 /**
  * A column-major block of doubles being filled by a reader, the one block type of every reader (the passes'
  * {@link BlockFiller}, the scoring pass, the k-means cache): {@code capacity} rows of d feature columns (leading
- * dimension {@code capacity}), the rows filled so far ({@link #rows}), and one flag per row for the rows a missing
+ * dimension {@link #ld}: the capacity, or while a pass's block grows the rows allocated so far), the rows filled so far ({@link #rows}), and one flag per row for the rows a missing
  * cell drops. A reader writes a slice of rows at {@link #base()} column by column, reports missing cells
  * ({@link #markMissing}), then {@link #commit}s the slice; the block is handed on when full and {@link #clear}ed.
  *
@@ -21,8 +21,13 @@ import java.util.Arrays;
 public final class ColumnBlock implements BlockSink {
   private final int d;
   private final int capacity;
+  /** Rows allocated: the leading dimension. Up to {@code capacity}; a growable block starts small (see {@link #of}). */
+  private int ld;
+  /** Columns of the values array (d, or d + 1 with the column of ones). */
+  private final int columns;
+  private final boolean ones;
   private double[] values;
-  private final boolean[] flagged;
+  private boolean[] flagged;
   private boolean anyFlagged;
   private int fill;
   private final boolean drops;
@@ -33,11 +38,15 @@ public final class ColumnBlock implements BlockSink {
   /** What the reader subtracts from each column of the current block, or null. */
   private double[] origin;
 
-  private ColumnBlock(int d, int capacity, int columns, boolean drops, double[] fills, long[] missingCells) {
+  private ColumnBlock(int d, int capacity, int rows, int columns, boolean drops, double[] fills,
+      long[] missingCells) {
     this.d = d;
     this.capacity = capacity;
-    this.values = new double[capacity * Math.max(1, columns)];
-    this.flagged = new boolean[capacity];
+    this.ld = Math.min(capacity, rows);
+    this.columns = Math.max(1, columns);
+    this.ones = columns > d;
+    this.values = new double[ld * this.columns];
+    this.flagged = new boolean[ld];
     this.drops = drops;
     this.fills = fills;
     this.missingCells = missingCells;
@@ -51,21 +60,45 @@ public final class ColumnBlock implements BlockSink {
    * @param missingCells where missing cells are counted per column (d entries), or null
    */
   public static ColumnBlock of(int d, int capacity, ReadMode mode, boolean onesColumn, long[] missingCells) {
-    ColumnBlock b = new ColumnBlock(d, capacity, onesColumn ? d + 1 : d, mode == ReadMode.DROP, null, missingCells);
+    ColumnBlock b = new ColumnBlock(d, capacity, Math.min(capacity, FIRST_ROWS), onesColumn ? d + 1 : d,
+        mode == ReadMode.DROP, null, missingCells);
     if (onesColumn) {
-      Arrays.fill(b.values, capacity * d, capacity * (d + 1), 1.0);
+      Arrays.fill(b.values, b.ld * d, b.ld * (d + 1), 1.0);
     }
     return b;
   }
 
+  /**
+   * Rows a pass's block allocates at first; it doubles as rows arrive, up to its capacity. A keyed pass keeps a
+   * block per key, and most keys of a task with many keys hold far fewer rows than a block: their memory follows
+   * their rows. The block's rows, and so the sums, are the same whatever its allocation (only the leading
+   * dimension changes, which BLAS reads through).
+   */
+  static final int FIRST_ROWS = 64;
+
+  /** Allocates room for {@code rows} rows (at most the capacity), keeping the rows filled so far. */
+  private void grow(int rows) {
+    int next = Math.min(capacity, Math.max(rows, 2 * ld));
+    double[] bigger = new double[next * columns];
+    for (int j = 0; j < columns; j++) {
+      System.arraycopy(values, j * ld, bigger, j * next, fill);
+    }
+    if (ones) {
+      Arrays.fill(bigger, next * d, next * (d + 1), 1.0);
+    }
+    values = bigger;
+    flagged = Arrays.copyOf(flagged, next);
+    ld = next;
+  }
+
   /** A block whose rows with a missing cell are dropped at commit. */
   public static ColumnBlock dropping(int d, int capacity) {
-    return new ColumnBlock(d, capacity, d, true, null, null);
+    return new ColumnBlock(d, capacity, capacity, d, true, null, null);
   }
 
   /** A block where a missing cell of column j takes {@code fills[j]} (the array is kept, not copied). */
   public static ColumnBlock imputing(int d, int capacity, double[] fills) {
-    return new ColumnBlock(d, capacity, d, false, fills, null);
+    return new ColumnBlock(d, capacity, capacity, d, false, fills, null);
   }
 
   /** The values: column j of the block at {@code j * ld()}. */
@@ -74,10 +107,10 @@ public final class ColumnBlock implements BlockSink {
     return values;
   }
 
-  /** Leading dimension: the capacity in rows. */
+  /** Leading dimension: the rows allocated (the capacity, or fewer while a pass's block grows). */
   @Override
   public int ld() {
-    return capacity;
+    return ld;
   }
 
   /** Row where the next slice starts: the rows filled so far. */
@@ -97,7 +130,11 @@ public final class ColumnBlock implements BlockSink {
 
   /** How many of {@code wanted} rows fit. */
   public int room(int wanted) {
-    return Math.min(wanted, capacity - fill);
+    int t = Math.min(wanted, capacity - fill);
+    if (fill + t > ld) {
+      grow(fill + t);
+    }
+    return t;
   }
 
   @Override
@@ -118,10 +155,10 @@ public final class ColumnBlock implements BlockSink {
       missingCells[j]++;
     }
     if (fills != null) {
-      values[j * capacity + row] = fills[j];
+      values[j * ld + row] = fills[j];
       return;
     }
-    values[j * capacity + row] = Double.NaN;
+    values[j * ld + row] = Double.NaN;
     flagged[row] = true;
     anyFlagged = true;
   }
@@ -133,7 +170,7 @@ public final class ColumnBlock implements BlockSink {
   public int commit(int t, int[] sources) {
     int kept = t;
     if (anyFlagged) {
-      kept = drops ? compact(values, d, capacity, fill, t, flagged, sources) : t;
+      kept = drops ? compact(values, d, ld, fill, t, flagged, sources) : t;
       Arrays.fill(flagged, fill, fill + t, false);
       anyFlagged = false;
     }
