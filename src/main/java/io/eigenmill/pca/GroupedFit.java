@@ -79,8 +79,8 @@ final class GroupedFit {
     LOG.info("fit: {} groups of {} ({} below reduce.min-group-rows = {}), solved on the {}", counts.size(),
         String.join(", ", plan.by().names()), small.size(), plan.minRows(), onDriver ? "driver" : "executors");
     List<GroupFit> fits = rFactor ? pass(input, RFactor.factory(d), mode, prep, plan, blockRows, routing, finish,
-        onDriver, partitions) : pass(input, Moments.factory(d, true), mode, prep, plan, blockRows, routing, finish,
-        onDriver, partitions);
+        onDriver, partitions, kept) : pass(input, Moments.factory(d, true), mode, prep, plan, blockRows, routing,
+        finish, onDriver, partitions, kept);
     GroupFit pooled = null;
     List<GroupFit> groups = new ArrayList<>();
     Set<KeyValues> seen = new HashSet<>();
@@ -116,7 +116,7 @@ final class GroupedFit {
 
   private static <S extends BlockSummary<S>> List<GroupFit> pass(FeatureInput input, BlockSummary.Factory<S> factory,
       ReadMode mode, BlockPrep prep, GroupPlan plan, int blockRows, KeyedPasses.Routing routing, Solve finish,
-      boolean onDriver, int partitions) {
+      boolean onDriver, int partitions, int kept) {
     SummaryAggregator<S> aggregator = new SummaryAggregator<>(factory);
     if (onDriver) {
       var result = input.runKeyed("fit/groups", aggregator, mode, prep, plan.by(), blockRows, routing);
@@ -126,9 +126,23 @@ final class GroupedFit {
       }
       return out;
     }
-    int reducers = Math.max(1, input.table().sparkSession().sparkContext().defaultParallelism());
     return input.runKeyedOnExecutors("fit/groups", aggregator, mode, prep, plan.by(), blockRows, routing,
-        new SolveOnExecutor<S>(finish), reducers);
+        new SolveOnExecutor<S>(finish), reducers(plan.summaryBytes(), kept, partitions,
+            input.table().sparkSession().sparkContext().defaultParallelism()));
+  }
+
+  /** Bytes of partials one merge task holds at most (they are held whole while a key's partials are gathered). */
+  static final long REDUCER_BYTES = 64L << 20;
+
+  /**
+   * Merge tasks of the executors' path: a merge task holds all partials of its keys at once (each key's partials
+   * from every partition), so the keys are spread until a task holds about {@link #REDUCER_BYTES}: at 10,000 groups
+   * of d = 100 over 14 partitions, 11 GB of partials in 168 tasks instead of 5.6 GB in each of 2.
+   */
+  static int reducers(long summaryBytes, long groups, int partitions, int parallelism) {
+    double bytes = (double) Math.max(1, partitions) * (groups + 1) * summaryBytes;
+    long tasks = (long) Math.ceil(bytes / REDUCER_BYTES);
+    return (int) Math.max(Math.max(1, parallelism), Math.min(100_000, tasks));
   }
 
   /** Rows per group, from a Spark aggregation over the group columns cast to text (the keys' text). */
