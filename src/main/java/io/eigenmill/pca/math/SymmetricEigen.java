@@ -25,6 +25,16 @@ public final class SymmetricEigen {
 
   /** Decomposes the symmetric column-major n x n matrix {@code a} (only its upper triangle is read). */
   public static Result decompose(double[] a, int n) {
+    // LAPACK's dsyevd does not return on a NaN or infinite entry (its scaling step loops): refuse them here
+    for (int j = 0; j < n; j++) {
+      for (int i = 0; i <= j; i++) {
+        double v = a[i + j * n];
+        if (v - v != 0.0) {
+          throw new IllegalArgumentException("the symmetric " + n + " x " + n + " matrix has a non-finite entry ("
+              + v + " at row " + i + ", column " + j + "); it cannot be decomposed");
+        }
+      }
+    }
     double[] z = a.clone();
     double[] w = new double[n];
     intW info = new intW(0);

@@ -145,4 +145,16 @@ class SymmetricEigenTest {
     assertThrows(ArithmeticException.class,
         () -> SymmetricEigen.decompose(new double[] {1, 1.001, 1.001, 1}, 2));
   }
+
+  /** LAPACK's dsyevd never returns on a non-finite entry (its scaling loops); the decomposition refuses it first. */
+  @Test
+  void aNonFiniteEntryIsRefusedInsteadOfHangingTheSolver() {
+    for (double bad : new double[] {Double.NaN, Double.POSITIVE_INFINITY, Double.NEGATIVE_INFINITY}) {
+      double[] a = {2.0, 0.5, 0.5, 1.0};
+      a[2] = bad;
+      IllegalArgumentException e = org.junit.jupiter.api.Assertions.assertThrows(IllegalArgumentException.class,
+          () -> SymmetricEigen.decompose(a, 2));
+      org.junit.jupiter.api.Assertions.assertTrue(e.getMessage().contains("non-finite entry"), e.getMessage());
+    }
+  }
 }
