@@ -157,7 +157,6 @@ public final class KeyedPasses {
       ColumnVector[] keyVectors = new ColumnVector[keyOrdinals.length];
       int[] codes = new int[0];
       int[] order = new int[0];
-      int[] starts = new int[0];
       BatchScratch scratch = new BatchScratch(ordinals.length);
       while (batches.hasNext()) {
         ColumnarBatch batch = batches.next();
@@ -190,20 +189,7 @@ public final class KeyedPasses {
           continue;
         }
         int keysNow = coder.count();
-        if (starts.length < keysNow + 1) {
-          starts = new int[Math.max(keysNow + 1, 2 * starts.length)];
-        }
-        Arrays.fill(starts, 0, keysNow + 1, 0);
-        for (int r = 0; r < rows; r++) {
-          starts[codes[r] + 1]++;
-        }
-        for (int c = 0; c < keysNow; c++) {
-          starts[c + 1] += starts[c];
-        }
-        int[] next = Arrays.copyOf(starts, keysNow);
-        for (int r = 0; r < rows; r++) {
-          order[next[codes[r]]++] = r;
-        }
+        int[] starts = orderByCode(codes, rows, keysNow, order);
         // the batch is decoded once, column by column with the unkeyed copy (SIMD, dictionaries decoded per run),
         // into a scratch of doubles, and each key's rows are gathered from it
         scratch.fill(vectors, kinds, rows);
@@ -322,6 +308,26 @@ public final class KeyedPasses {
       }
       return List.of(router.finish(partition)).iterator();
     }
+  }
+
+  /**
+   * Orders the row numbers {@code 0 .. rows - 1} by their key code {@code codes[r]} (codes below {@code keys}), a
+   * stable counting sort: {@code order} gets the rows of code 0 in their order, then those of code 1, ...; the
+   * returned array's entries c and c + 1 bound code c's rows in {@code order}. O(rows + keys).
+   */
+  public static int[] orderByCode(int[] codes, int rows, int keys, int[] order) {
+    int[] starts = new int[keys + 1];
+    for (int r = 0; r < rows; r++) {
+      starts[codes[r] + 1]++;
+    }
+    for (int c = 0; c < keys; c++) {
+      starts[c + 1] += starts[c];
+    }
+    int[] next = Arrays.copyOf(starts, keys);
+    for (int r = 0; r < rows; r++) {
+      order[next[codes[r]]++] = r;
+    }
+    return starts;
   }
 
   /** Each key's partial of a partition as a record keyed by the key, with the partition index beside it. */

@@ -250,18 +250,8 @@ abstract class ScoreBlocks implements Iterator<InternalRow> {
         codes[r] = coder.code(keyVectors, r);
       }
       int keys = coder.count();
-      int[] starts = new int[keys + 1];
-      for (int r = 0; r < batchRows; r++) {
-        starts[codes[r] + 1]++;
-      }
-      for (int c = 0; c < keys; c++) {
-        starts[c + 1] += starts[c];
-      }
-      int[] next = java.util.Arrays.copyOf(starts, keys);
       int[] sorted = new int[batchRows];
-      for (int r = 0; r < batchRows; r++) {
-        sorted[next[codes[r]]++] = r;
-      }
+      int[] starts = io.eigenmill.engine.KeyedPasses.orderByCode(codes, batchRows, keys, sorted);
       int kept = 0;
       for (int c = 0; c < keys; c++) {
         int n = starts[c + 1] - starts[c];
