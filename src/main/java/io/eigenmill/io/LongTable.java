@@ -99,7 +99,8 @@ public final class LongTable {
     public Staged stage(SparkSession spark, String folder) {
       long started = System.nanoTime();
       try (Progress progress = Progress.start(spark, "long pivot", counters.rows())) {
-        var writer = wide.write().mode("overwrite");
+        // the cells are continuous values: a dictionary per column chunk would cost CPU for nothing
+        var writer = wide.write().mode("overwrite").option("parquet.enable.dictionary", "false");
         if (!carried.isEmpty()) {
           writer = writer.partitionBy(carried.toArray(String[]::new));
         }
