@@ -94,7 +94,7 @@ class ArchitectureTest {
 
   @Test
   void noBenchmarkClassAmongTheProductClasses() throws Exception {
-    Path classes = Path.of(System.getProperty("eigenmill.repo", "."), "target", "classes", "io", "eigenmill");
+    Path classes = io.eigenmill.testing.BuildDir.resolve("classes").resolve("io").resolve("eigenmill");
     assertTrue(Files.isDirectory(classes), "compiled product classes at " + classes);
     List<Path> bench = new ArrayList<>();
     try (var files = Files.walk(classes)) {

@@ -1,5 +1,6 @@
 package io.eigenmill.bench;
 
+import io.eigenmill.engine.SparkLine;
 import io.eigenmill.pca.FitJob;
 import io.eigenmill.pca.FitResult;
 import io.eigenmill.plan.Planner;
@@ -235,7 +236,7 @@ final class WindowRun {
     RDD<Object> ids = spark.sparkContext().range(0, rows, 1, DAYS * DISTINCT_SLICES);
     JavaRDD<InternalRow> table = ids.toJavaRDD().mapPartitions(new Rows(SEED, perSlice, d));
     // continuous values: no dictionary (trying one per column chunk only costs time, as in the fleet generator)
-    spark.internalCreateDataFrame(table.rdd(), schema, false).write().partitionBy("date", "slice")
+    SparkLine.fromInternalRows(spark, table.rdd(), schema).write().partitionBy("date", "slice")
         .option("parquet.enable.dictionary", "false").parquet(dir.toString());
     link(dir);
     BenchTables.writeSpec(dir, spec);

@@ -56,6 +56,7 @@ public final class Main {
       out.println("eigenmill " + Version.current() + " (" + Linalg.describe() + "; nearest-centroid kernel "
           + io.eigenmill.kmeans.math.NearestKeys.best().describe() + "; column copy "
           + io.eigenmill.math.ShiftedCopy.best().describe() + ")");
+      out.println(sparkVersions());
       out.print(jvmFlags(Version.jvmFlags()));
       return OK;
     }
@@ -110,6 +111,16 @@ public final class Main {
    * The lines {@code version} prints after the first: the JVM flags for driver and executors ({@code flags}, from
    * pom.xml's {@code spark.jvm.opens}) as spark-submit options one can paste, each on its own line.
    */
+  /**
+   * The line {@code version} prints second: the Spark and Scala this process runs on and the line the build is for
+   * (its jar's Scala suffix), e.g. {@code Spark 3.5.9, Scala 2.12.18 (built for the Spark 3.5 line:
+   * eigenmill_2.12)}.
+   */
+  static String sparkVersions() {
+    return "Running on " + Version.runtime() + " (built for the Spark " + Version.builtLine() + " line against "
+        + Version.builtSpark() + ": eigenmill_" + Version.builtScala() + ")";
+  }
+
   static String jvmFlags(String flags) {
     if (flags.isEmpty()) {
       return "JVM flags: unknown (this build did not record pom.xml's spark.jvm.opens)\n";

@@ -1,5 +1,6 @@
 package io.eigenmill.demo;
 
+import io.eigenmill.engine.SparkLine;
 import io.eigenmill.io.WriterSession;
 import java.io.PrintStream;
 import java.time.LocalDate;
@@ -308,7 +309,7 @@ public final class FleetTelemetryGenerator {
         spec.startDate());
     RDD<Object> ids = spark.sparkContext().range(0, spec.rows(), 1, spec.partitions());
     JavaRDD<InternalRow> table = ids.toJavaRDD().mapPartitions(rows);
-    return spark.internalCreateDataFrame(table.rdd(), schema, false);
+    return SparkLine.fromInternalRows(spark, table.rdd(), schema);
   }
 
   /**
@@ -321,7 +322,7 @@ public final class FleetTelemetryGenerator {
         spec.extraMetrics(), spec.startDate());
     RDD<Object> ids = spark.sparkContext().range(0, spec.rows(), 1, spec.partitions());
     JavaRDD<InternalRow> table = ids.toJavaRDD().mapPartitions(samples);
-    return spark.internalCreateDataFrame(table.rdd(), longSchema(), false);
+    return SparkLine.fromInternalRows(spark, table.rdd(), longSchema());
   }
 
   /** {@link #write(SparkSession, FleetSpec, Layout, String)} of the wide layout. */

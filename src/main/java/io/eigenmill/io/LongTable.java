@@ -3,6 +3,7 @@ package io.eigenmill.io;
 import io.eigenmill.engine.KeyColumns;
 import io.eigenmill.engine.LongPivot;
 import io.eigenmill.engine.Progress;
+import io.eigenmill.engine.SparkLine;
 import io.eigenmill.settings.Choices;
 import io.eigenmill.settings.Globs;
 import io.eigenmill.settings.InvalidJobException;
@@ -245,8 +246,8 @@ public final class LongTable {
     LongPivot.Counters counters = LongPivot.Counters.register(sc, metrics.size());
     int reducers = Math.max(sc.defaultParallelism(), prepared.rdd().getNumPartitions());
     var spec = new LongPivot.Spec(keySchema, layout.timed(), metrics, layout.aggregate(), FLUSH_BYTES);
-    Dataset<Row> wide = spark.internalCreateDataFrame(LongPivot.pivot(prepared, spec, reducers, counters).rdd(),
-        wideSchema, false);
+    Dataset<Row> wide = SparkLine.fromInternalRows(spark, LongPivot.pivot(prepared, spec, reducers, counters).rdd(),
+        wideSchema);
     return new View(layout, input.path(), wide, List.copyOf(metrics), columns, List.copyOf(keyColumns),
         List.copyOf(carried), layout.timed() ? layout.time() : null, discovered, counters, null);
   }

@@ -1,5 +1,6 @@
 package io.eigenmill.io;
 
+import io.eigenmill.engine.SparkLine;
 import java.util.Map;
 import org.apache.spark.sql.SparkSession;
 
@@ -32,9 +33,9 @@ public final class WriterSession {
     if (jobConf.containsKey(TIMESTAMP_TYPE) || MICROS.equals(caller.conf().get(TIMESTAMP_TYPE, null))) {
       return caller;
     }
-    // cloneSession is private[sql] in Scala, hence public in the bytecode: unlike newSession it keeps the caller's
-    // runtime settings (e.g. a job's spark.conf applied to an existing session), and it shares the SparkContext
-    SparkSession copy = caller.cloneSession();
+    // unlike newSession, a clone keeps the caller's runtime settings (e.g. a job's spark.conf applied to an existing
+    // session), and it shares the SparkContext
+    SparkSession copy = SparkLine.cloneSession(caller);
     copy.conf().set(TIMESTAMP_TYPE, MICROS);
     return copy;
   }

@@ -14,8 +14,14 @@ import org.apache.spark.unsafe.types.UTF8String;
  * flags from the scored block ({@link ScoreBlocks#statistic}, {@link ScoreBlocks#flag}). Read-only; reused for every
  * row of a partition: valid until the next row is asked for ({@link #copy} makes an independent one). No copy and no
  * allocation per row.
+ *
+ * <p>It extends Spark's generic row rather than the bare {@code InternalRow}: every getter a Spark version adds
+ * (4.x added {@code getVariant}, {@code getBinaryView}...) then has an implementation, the generic one through
+ * {@link #genericGet}, so this class compiles and runs unchanged on both Spark lines. The getters the scored columns
+ * and the usual pass-through types use are overridden here and never box; only the generic paths (a getter this
+ * class does not override, {@link #values}) materialise values.
  */
-final class ScoredRow extends InternalRow {
+final class ScoredRow extends GenericInternalRow {
   private static final long serialVersionUID = 1L;
   private final transient ScoreBlocks blocks;
   private final int p;
@@ -29,6 +35,7 @@ final class ScoredRow extends InternalRow {
   private int i;
 
   ScoredRow(ScoreBlocks blocks) {
+    super();
     this.blocks = blocks;
     this.p = blocks.p;
     this.passOrdinals = blocks.passOrdinals;
@@ -138,9 +145,28 @@ final class ScoredRow extends InternalRow {
     return isNullAt(o) ? null : (Object) blocks.statistic(o - p, i);
   }
 
+  /** The value at {@code o} in its internal form: what the generic getters of Spark's row read. */
+  @Override
+  public Object genericGet(int o) {
+    return get(o, o < p ? types[o] : null);
+  }
+
+  /**
+   * The values of this row, materialised (a new array each call): for code that reads a generic row's array
+   * directly.
+   */
+  @Override
+  public Object[] values() {
+    Object[] values = new Object[width];
+    for (int o = 0; o < width; o++) {
+      values[o] = genericGet(o);
+    }
+    return values;
+  }
+
   /** An independent row with the same values (pass-through values copied). */
   @Override
-  public InternalRow copy() {
+  public GenericInternalRow copy() {
     Object[] values = new Object[width];
     for (int o = 0; o < width; o++) {
       values[o] = o < p ? InternalRow.copyValue(get(o, types[o])) : get(o, null);

@@ -1,6 +1,7 @@
 package io.eigenmill.monitor;
 
 import io.eigenmill.engine.ColumnarScan;
+import io.eigenmill.engine.SparkLine;
 import io.eigenmill.io.PcaModel;
 import io.eigenmill.monitor.math.ControlLimits;
 import io.eigenmill.monitor.math.Scorer;
@@ -280,9 +281,8 @@ public final class ScoringPass {
       rows = table.select(cast.toArray(new Column[0])).queryExecution().toRdd().toJavaRDD()
           .mapPartitions(new ScoreBlocks.RowScoring(spec, layout, counters));
     }
-    // internalCreateDataFrame is private[sql] in Scala, hence public in the bytecode and callable from Java: it
-    // wraps the internal rows as they are, where a public constructor would need Rows and an encoder
-    Dataset<Row> scored = table.sparkSession().internalCreateDataFrame(rows.rdd(), out, false);
+    // the internal rows as they are, where a public constructor would need Rows and an encoder
+    Dataset<Row> scored = SparkLine.fromInternalRows(table.sparkSession(), rows.rdd(), out);
     return new Scored(scored, columnar, time < 0 || spec.reconstruct() ? null : passThrough.get(time),
         layout.timeInDays(), keySchema, List.copyOf(passThrough));
   }

@@ -1,6 +1,7 @@
 package io.eigenmill.plan;
 
 import io.eigenmill.engine.ColumnarScan;
+import io.eigenmill.engine.SparkLine;
 import java.util.ArrayList;
 import java.util.LinkedHashSet;
 import java.util.List;
@@ -13,8 +14,6 @@ import org.apache.spark.sql.catalyst.expressions.Attribute;
 import org.apache.spark.sql.execution.FileSourceScanExec;
 import org.apache.spark.sql.execution.SparkPlan;
 import org.apache.spark.sql.execution.adaptive.AdaptiveSparkPlanExec;
-import org.apache.spark.sql.execution.datasources.FileStatusWithMetadata;
-import org.apache.spark.sql.execution.datasources.PartitionDirectory;
 import org.apache.spark.sql.functions;
 import scala.collection.JavaConverters;
 
@@ -59,22 +58,22 @@ public record InputSelection(
     List<String> files = new ArrayList<>();
     if (kept != null) {
       String base = new Path(root).toUri().getPath();
-      for (PartitionDirectory p : kept.selectedPartitions()) {
-        List<FileStatusWithMetadata> in = JavaConverters.seqAsJavaList(p.files());
-        for (FileStatusWithMetadata f : in) {
-          files.add(f.getPath().toString());
+      for (List<Path> in : SparkLine.selectedFiles(kept)) {
+        for (Path f : in) {
+          files.add(f.toString());
         }
         if (!partitionColumns.isEmpty() && !in.isEmpty()) {
-          partitions.add(relative(base, in.get(0).getPath().getParent()));
+          partitions.add(relative(base, in.get(0).getParent()));
         }
       }
     }
-    int totalPartitions = all == null || partitionColumns.isEmpty() ? -1 : all.selectedPartitions().length;
+    List<List<Path>> unfiltered = all == null ? null : SparkLine.selectedFiles(all);
+    int totalPartitions = all == null || partitionColumns.isEmpty() ? -1 : unfiltered.size();
     int totalFiles = -1;
     if (all != null) {
       totalFiles = 0;
-      for (PartitionDirectory p : all.selectedPartitions()) {
-        totalFiles += p.files().size();
+      for (List<Path> in : unfiltered) {
+        totalFiles += in.size();
       }
     }
     Set<String> dataColumns = new LinkedHashSet<>();

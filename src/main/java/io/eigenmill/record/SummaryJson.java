@@ -39,6 +39,9 @@ public final class SummaryJson {
     var s = run.plan().settings();
     m.put("product", "eigenmill");
     m.put("version", Version.current());
+    // what the run ran on (the driver's class path; on a cluster, the cluster's Spark)
+    m.put("spark", Version.spark());
+    m.put("scala", Version.scala());
     m.put("job", s.name());
     m.put("kind", run.plan().kind());
     m.put("input", s.input().fromSnapshots() ? s.input().snapshots() : s.input().path());

@@ -122,6 +122,7 @@ public record HeaderModel(
       f.add(new Fact("Output", run.outputPath()));
     }
     f.add(new Fact("Product version", Version.current()));
+    f.add(new Fact("Spark / Scala", Version.spark() + " / " + Version.scala()));
     if (run.model() != null && !run.model().productVersion().equals(Version.current())) {
       f.add(new Fact("Model written by version", run.model().productVersion()));
     }

@@ -26,7 +26,7 @@ import org.junit.jupiter.api.Test;
  * the results file keeps the sections of other runs. Times are never compared with anything but zero.
  */
 class BenchmarkSmokeTest extends SparkSuite {
-  private static final Path BASE = Path.of(System.getProperty("eigenmill.repo", ".")).resolve("target/bench-smoke")
+  private static final Path BASE = io.eigenmill.testing.BuildDir.resolve("bench-smoke")
       .toAbsolutePath();
   private static final Path DATA = BASE.resolve("data");
 

@@ -5,6 +5,7 @@ import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import io.eigenmill.io.OutputCommit;
+import io.eigenmill.testing.BuildDir;
 import io.eigenmill.testing.CommandRun;
 import io.eigenmill.testing.SparkSuite;
 import java.io.File;
@@ -68,14 +69,31 @@ class MainTest extends SparkSuite {
   }
 
   @Test
+  void versionNamesTheSparkAndScalaItRunsOn() {
+    CommandRun o = CommandRun.of("version");
+    assertEquals(0, o.code(), o.err());
+    String second = o.out().split("\n")[1];
+    // the outside source: Spark's and Scala's own version of the classes on this class path
+    String spark = org.apache.spark.package$.MODULE$.SPARK_VERSION();
+    String scalaVersion = scala.util.Properties.versionNumberString();
+    boolean four = BuildDir.sparkLine().equals("4");
+    assertTrue(spark.startsWith(four ? "4." : "3.5."), spark);
+    assertTrue(scalaVersion.startsWith(four ? "2.13." : "2.12."), scalaVersion);
+    assertEquals("Running on Spark " + spark + ", Scala " + scalaVersion + " (built for the Spark " + BuildDir.sparkLine()
+        + " line against " + spark + ": eigenmill_" + (four ? "2.13" : "2.12") + ")", second);
+  }
+
+  @Test
   void versionPrintsPomsJvmFlagsForSparkSubmit() throws Exception {
     CommandRun o = CommandRun.of("version");
     assertEquals(0, o.code(), o.err());
-    // the outside source: pom.xml's spark.jvm.opens, read here as text
+    // the outside source: pom.xml's flags of the Spark line under test (spark35.jvm.opens, spark4.jvm.opens), read
+    // here as text
     String pom = Files.readString(Path.of(System.getProperty("eigenmill.repo", "."), "pom.xml"));
-    java.util.regex.Matcher m = java.util.regex.Pattern.compile("<spark\\.jvm\\.opens>(.*?)</spark\\.jvm\\.opens>")
+    String property = "spark" + BuildDir.sparkLine().replace(".", "") + "\\.jvm\\.opens";
+    java.util.regex.Matcher m = java.util.regex.Pattern.compile("<" + property + ">(.*?)</" + property + ">")
         .matcher(pom);
-    assertTrue(m.find(), "pom.xml has spark.jvm.opens");
+    assertTrue(m.find(), "pom.xml has " + property);
     List<String> expected = List.of(m.group(1).trim().split("\\s+"));
     // common practice, no source: Spark 3.5 on Java 17 needs java.base opened (sun.nio.ch among them); the vector
     // module is the one the SIMD kernels use

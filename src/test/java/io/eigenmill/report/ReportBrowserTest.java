@@ -25,7 +25,7 @@ import org.junit.jupiter.api.Test;
 /**
  * Opens a report with every section in Debian's headless chromium: the DOM after load has every section and chart,
  * the screenshot is not blank and shows the chart colours, and the page logs nothing to the console. Output goes to
- * {@code target/report-browser/} (report.html, report.png, chromium's logs). Chromium is required: without
+ * {@code report-browser/} of the build directory (report.html, report.png, chromium's logs). Chromium is required: without
  * {@code /usr/bin/chromium} the test fails and says how to install it.
  */
 class ReportBrowserTest {
@@ -40,7 +40,7 @@ class ReportBrowserTest {
       fail("the browser test needs Debian's chromium at " + CHROMIUM + ": install it with "
           + "`apt-get install chromium` (the package CI installs), then run the tests again");
     }
-    dir = Path.of(System.getProperty("eigenmill.repo", "."), "target", "report-browser").toAbsolutePath();
+    dir = io.eigenmill.testing.BuildDir.resolve("report-browser");
     Files.createDirectories(dir);
     report = dir.resolve("report.html");
     Files.writeString(report, HtmlReport.render(new FleetFixture().full()), StandardCharsets.UTF_8);

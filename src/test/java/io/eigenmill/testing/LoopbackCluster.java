@@ -23,9 +23,10 @@ import org.junit.jupiter.api.extension.ExtensionContext;
  * submitted through Spark's submit entry point in client mode, so the driver is a separate JVM this class can kill.
  *
  * <p>The cluster runs on the Spark jars of the test classpath (test-only libraries and Typesafe Config left out) and
- * the application jar {@link ThinJar} assembles; state lives in {@code target/cluster-test/}. It is stopped by
- * {@link #close} at the end of the test run, by a shutdown hook if the JVM exits first, and by the script's watchdog if
- * this JVM dies without running hooks. Every wait is bounded.
+ * the application jar {@link ThinJar} assembles; state lives in {@code cluster-test/} of the build directory
+ * ({@link BuildDir}: each Spark line has its own). It is stopped by {@link #close} at the end of the test run, by a
+ * shutdown hook if the JVM exits first, and by the script's watchdog if this JVM dies without running hooks. Every
+ * wait is bounded.
  */
 public final class LoopbackCluster implements ExtensionContext.Store.CloseableResource {
   public static final Duration START_LIMIT = Duration.ofSeconds(240);
@@ -48,7 +49,7 @@ public final class LoopbackCluster implements ExtensionContext.Store.CloseableRe
 
   private LoopbackCluster(Path repo) {
     this.repo = repo;
-    this.base = repo.resolve("target/cluster-test");
+    this.base = BuildDir.resolve("cluster-test");
     this.state = base.resolve("state");
     this.sparkHome = base.resolve("spark-home");
     this.jar = base.resolve("eigenmill-tests.jar");
@@ -63,7 +64,7 @@ public final class LoopbackCluster implements ExtensionContext.Store.CloseableRe
   }
 
   private void doStart() {
-    ThinJar.assemble(repo.resolve("target/classes"), jar);
+    ThinJar.assemble(BuildDir.resolve("classes"), jar);
     deleteTree(sparkHome);
     deleteTree(base.resolve("logs"));
     script(Duration.ofSeconds(60), "stop");

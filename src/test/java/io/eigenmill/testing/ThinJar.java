@@ -19,7 +19,7 @@ import java.util.stream.Stream;
 
 /**
  * The application jar the cluster tests submit, assembled the way the shade plugin lays out the thin jar: the
- * compiled classes and resources of {@code target/classes} plus the classes of Typesafe Config (the one dependency
+ * compiled classes and resources of {@code classes/} of the build directory plus the classes of Typesafe Config (the one dependency
  * Spark does not ship), nothing of Spark. Assembled from what the test run already has, so the tests need no
  * {@code mvn package} (which would run the tests again). Config stays under its own package name here, where the
  * shaded jar relocates it; the cluster's classpath has no other copy of it, so the difference is invisible.
