@@ -188,6 +188,8 @@ public final class LoopbackCluster implements ExtensionContext.Store.CloseableRe
   private void environment(Map<String, String> env) {
     env.put("EIGENMILL_CLUSTER_DIR", state.toString());
     env.put("EIGENMILL_SPARK_HOME", sparkHome.toString());
+    // the Spark line of this suite: its JVM flags and its Scala version for the cluster's JVMs
+    env.put("EIGENMILL_SPARK", BuildDir.sparkLine());
     env.put("EIGENMILL_SPARK_CLASSPATH", sparkClasspath());
     env.put("EIGENMILL_JAR", jar.toString());
     env.put("EIGENMILL_WORKERS", "2");
