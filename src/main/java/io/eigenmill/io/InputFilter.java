@@ -3,6 +3,7 @@ package io.eigenmill.io;
 import io.eigenmill.settings.InvalidJobException;
 import io.eigenmill.settings.JobSettings;
 import java.util.Map;
+import org.apache.spark.SparkThrowable;
 import org.apache.spark.sql.AnalysisException;
 import org.apache.spark.sql.Column;
 import org.apache.spark.sql.Dataset;
@@ -49,6 +50,9 @@ public final class InputFilter {
     try {
       type = table.select(predicate).schema().fields()[0].dataType();
     } catch (Exception e) {
+      if (isParseError(e)) { // Spark 4 parses a column's expression when it is first used, not when it is made
+        return shown + "not a Spark SQL expression: " + firstLine(e);
+      }
       return shown + analysisProblem(table, e);
     }
     if (!(type instanceof BooleanType)) {
@@ -73,6 +77,14 @@ public final class InputFilter {
           + "); the predicate may name only the input's columns";
     }
     return "not a predicate over the input's columns: " + firstLine(e);
+  }
+
+  /**
+   * Whether {@code e} is Spark's parser rejecting the text (error class {@code PARSE_...}). Spark 3.5 throws it
+   * from {@code functions.expr}, Spark 4 when the column is first used in a plan.
+   */
+  static boolean isParseError(Throwable e) {
+    return e instanceof SparkThrowable t && t.getErrorClass() != null && t.getErrorClass().startsWith("PARSE_");
   }
 
   /** The first line of the message that is not blank (Spark's parser starts its message with a newline). */

@@ -676,6 +676,9 @@ public final class SnapshotStore {
     try {
       type = table.select(predicate).schema().fields()[0].dataType();
     } catch (Exception e) {
+      if (InputFilter.isParseError(e)) { // Spark 4 parses a column's expression when it is first used
+        return shown + "not a Spark SQL expression: " + InputFilter.firstLine(e) + available;
+      }
       if (e instanceof AnalysisException a && a.getErrorClass() != null
           && a.getErrorClass().startsWith("UNRESOLVED_COLUMN")) {
         String column = a.getMessageParameters().getOrDefault("objectName", "?").replace("`", "");
