@@ -226,8 +226,13 @@ public final class SummaryJson {
       m.put("unknown_groups", r.unknownGroups());
     }
     // 1 - confidence in decimal (0.01, not the binary difference 0.010000000000000009)
-    m.put("expected_flagged_share", java.math.BigDecimal.ONE.subtract(java.math.BigDecimal.valueOf(r.confidence()))
-        .doubleValue());
+    double expectedShare = java.math.BigDecimal.ONE.subtract(java.math.BigDecimal.valueOf(r.confidence()))
+        .doubleValue();
+    m.put("expected_flagged_share", expectedShare);
+    // beside flagged_t2 and flagged_q: what limits that hold flag, and the counts chance alone gives in 95% of runs
+    m.put("expected_flagged", r.rowsScored() * expectedShare);
+    m.put("expected_flagged_range", io.eigenmill.monitor.math.ControlLimits.chanceRange(r.rowsScored(),
+        r.confidence(), io.eigenmill.monitor.math.ControlLimits.CHANCE_LEVEL));
     List<Map<String, Object>> top = new java.util.ArrayList<>();
     for (MonitorResult.FlaggedRow row : r.top()) {
       Map<String, Object> t = new LinkedHashMap<>();

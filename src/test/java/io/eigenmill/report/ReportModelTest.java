@@ -215,6 +215,33 @@ class ReportModelTest {
     assertEquals(-1, s.plots().get(0).y());
   }
 
+  /**
+   * The expected count beside the observed ones: n (1 - confidence), and the central 95% of Binomial(n, 1 - c)
+   * recomputed here with Commons Math's binomial quantiles.
+   */
+  @Test
+  void monitoringShowsTheExpectedCountAndItsChanceRange() {
+    RunResult run = FLEET.fitWithMonitor();
+    MonitorResult r = run.monitor();
+    MonitoringModel m = ReportModel.of(run).monitoring();
+    double p = 1 - r.confidence();
+    org.apache.commons.math3.distribution.BinomialDistribution b =
+        new org.apache.commons.math3.distribution.BinomialDistribution(null, (int) r.rowsScored(), p);
+    int lo = b.inverseCumulativeProbability(0.025);
+    int hi = b.inverseCumulativeProbability(0.975);
+    Fact card = m.counts().stream().filter(f -> f.label().startsWith(MonitoringModel.EXPECTED_LABEL)).findFirst()
+        .orElseThrow();
+    assertEquals("about " + Fmt.count(Math.round(r.rowsScored() * p)), card.value());
+    assertTrue(card.label().contains("1.0% of rows; 95% range " + Fmt.count(lo) + " to " + Fmt.count(hi)),
+        card.label());
+    String against = Fact.find(m.limits(), MonitoringModel.AGAINST_CHANCE_LABEL);
+    assertTrue(against.startsWith("T2 " + Fmt.count(r.flaggedT2()) + " (" + (r.flaggedT2() > hi ? "above"
+        : r.flaggedT2() < lo ? "below" : "within") + " the chance range), Q " + Fmt.count(r.flaggedQ())), against);
+    assertTrue(against.contains(Fmt.count(lo) + " to " + Fmt.count(hi) + " in 95% of runs"), against);
+    String html = HtmlReport.render(run);
+    assertTrue(html.contains(Html.esc(against)), "the report shows the comparison");
+  }
+
   @Test
   void monitoringCountsLimitsAndTopRowsAreTheRecords() {
     RunResult run = FLEET.fitWithMonitor();
