@@ -12,7 +12,9 @@ import io.eigenmill.monitor.DriftResult;
 import io.eigenmill.monitor.MonitorResult;
 import io.eigenmill.monitor.ReconstructionResult;
 import io.eigenmill.pca.FitResult;
+import io.eigenmill.pca.RandomizedAccuracy;
 import io.eigenmill.pca.math.Spectrum;
+import java.util.ArrayList;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
@@ -394,9 +396,40 @@ public final class SummaryJson {
     m.put("variance_share", s.varianceShares());
     m.put("cumulative_variance_share", s.cumulativeVarianceShares());
     m.put("total_variance", s.totalVariance());
+    if (fit.randomizedAccuracy() != null) {
+      m.put("randomized_accuracy", randomizedAccuracySection(fit.randomizedAccuracy()));
+    }
     m.put("means", model.means());
     m.put("scales", model.scales());
     m.put("schema_fingerprint", model.schemaFingerprint());
+    return m;
+  }
+
+  /**
+   * The randomized method's a-posteriori accuracy (README, Methods): per kept component the residual
+   * ||C v - theta v|| / theta_1 and the estimated angle bound; the bound ||R_k||_2 / theta_1 against the tolerance;
+   * the captured variance share with the width of the interval the optimum lies in; the iterations run.
+   */
+  static Map<String, Object> randomizedAccuracySection(RandomizedAccuracy a) {
+    Map<String, Object> m = new LinkedHashMap<>();
+    var f = a.figures();
+    m.put("components", f.k());
+    m.put("residuals", f.residuals());
+    m.put("bound", f.bound());
+    m.put("tolerance", a.tolerance());
+    m.put("target_met", a.targetMet());
+    m.put("captured_variance", f.capturedVariance());
+    m.put("captured_variance_bound", f.capturedVarianceBound());
+    List<Double> angles = new ArrayList<>();
+    for (double x : f.angleBounds()) {
+      angles.add(Double.isNaN(x) ? null : x);
+    }
+    m.put("angle_bounds_estimated_rad", angles);
+    m.put("power_iterations_set", a.powerIterationsSet());
+    m.put("power_iterations_run", a.powerIterationsRun());
+    m.put("max_power_iterations", a.maxPowerIterations());
+    m.put("extra_passes", a.extraPasses());
+    m.put("bound_by_pass", a.boundByPass());
     return m;
   }
 }
