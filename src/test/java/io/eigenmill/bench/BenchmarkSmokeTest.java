@@ -79,6 +79,24 @@ class BenchmarkSmokeTest extends SparkSuite {
   }
 
   @Test
+  void longSmokeOptionsRunOnlyTheLongCaseOnATinyTable() {
+    BenchOptions o = BenchOptions.parse(new String[] {"--long", "--smoke"}, BASE);
+    assertTrue(o.longInput() && o.smoke());
+    assertFalse(o.groups() || o.windows() || o.wide() || o.scaling());
+    assertEquals(BenchOptions.SMOKE_ROWS, o.rows());
+    assertEquals(BenchOptions.SMOKE_FEATURES, o.features());
+    assertEquals(0, o.warmups());
+    assertEquals(1, o.repetitions());
+    BenchOptions full = BenchOptions.parse(new String[] {"--long"}, BASE);
+    assertEquals(BenchOptions.LONG_ROWS, full.rows(), "the long case's main table unless --rows");
+    assertEquals(BenchOptions.DEFAULT_FEATURES, full.features());
+    assertEquals(1234, BenchOptions.parse(new String[] {"--long", "--rows", "1234"}, BASE).rows());
+    org.junit.jupiter.api.Assertions.assertThrows(IllegalArgumentException.class,
+        () -> BenchOptions.parse(new String[] {"--long", "--groups"}, BASE));
+    assertTrue(BenchOptions.USAGE.contains("--long"));
+  }
+
+  @Test
   void casesTimedInTurnAlternateTheirRepetitionsAfterAllWarmUps() {
     List<String> order = new java.util.ArrayList<>();
     List<Timer.Timed<?>> t = Timer.runInTurn(spark.sparkContext(), 1, 2, List.of(
