@@ -39,8 +39,26 @@ import org.apache.spark.sql.types.StructType;
  * pure function of (seed, host, interval), so the same spec gives the same rows for any partition count or core
  * count.
  *
+ * <p>Long layout ({@link Layout#LONG}, {@link #generateLong}): the same fleet melted to one row per sample, as a
+ * telemetry export would deliver it, with the columns {@code host}, {@code region}, {@code ts} (the sample time),
+ * {@code metric} (the metric's name), {@code value} (double) and {@code date}. The same seed gives the same
+ * underlying values as the wide table; the melt adds, deterministically from (seed, host, interval, metric):
+ * <ul>
+ *   <li>irregular sample times: the wide row's interval start plus a jitter of 0 to 299.999 s (whole
+ *       milliseconds), so flooring {@code ts} to 5 minutes gives back one cell per (host, interval, metric);</li>
+ *   <li>absent samples: a share of {@value #LONG_ABSENT_SHARE} (1 %) at random, and every null cell of the wide table (the
+ *       sensor dropouts); a NaN reading stays a NaN value;</li>
+ *   <li>metric names that are not column names: {@code cache_hit_ratio} is {@code cache.hit-ratio},
+ *       {@code http_ttfb_p99_ms} is {@code http.ttfb-p99-ms} and {@code fan_4_rpm} (a sensor that drops out) is
+ *       {@code fan-4.rpm} ({@link #LONG_NAMES}); every other metric, extra metrics included, keeps its wide column
+ *       name. Replacing the dots and dashes by underscores gives back the wide names.</li>
+ * </ul>
+ * Int, long and float metrics become the double of their stored value. The {@code workload} and {@code fault} labels
+ * are not in the long table.
+ *
  * <p>Cost: one pass, O(rows x columns), no shuffle; writing sorts each task's rows by date (Spark's partitioned
- * writer), which costs memory of one task's rows. Measured speeds are in the package notes ({@code package-info}).
+ * writer), which costs memory of one task's rows (in the long layout, about 62 small rows per wide row). Measured
+ * speeds are in the package notes ({@code package-info}).
  */
 public final class FleetTelemetryGenerator {
   /** Key and label columns, in order, before the metrics. */
@@ -49,10 +67,54 @@ public final class FleetTelemetryGenerator {
   /** Above this many columns, {@link #write} uses interpreted projections. */
   public static final int WIDE_COLUMNS = 1000;
 
+  /** The long layout's columns, in order. */
+  public static final List<String> LONG_COLUMNS = List.of("host", "region", "ts", "metric", "value", "date");
+
+  /**
+   * The metrics named differently in the long layout: wide column name to long name, in metric order. The long
+   * names are not valid column names (dots and dashes); replacing those by underscores gives back the wide name.
+   */
+  public static final Map<String, String> LONG_NAMES = longNames();
+
+  /** The share of samples left out of the long layout at random, besides the wide table's null cells. */
+  public static final double LONG_ABSENT_SHARE = 0.01;
+
   private static final List<String> DICTIONARY_COLUMNS = List.of("host", "region", "workload", "fault");
+  private static final List<String> LONG_DICTIONARY_COLUMNS = List.of("host", "region", "metric");
   private static final String CODEGEN_FACTORY_MODE = "spark.sql.codegen.factoryMode";
 
   private FleetTelemetryGenerator() {}
+
+  /** How the table is laid out: one row per host and interval, or one row per sample. */
+  public enum Layout {
+    /** One row per host per interval, one column per metric (the default). */
+    WIDE,
+    /** One row per (host, sample time, metric), see the class comment. */
+    LONG;
+
+    /** {@code wide} or {@code long}, any case. */
+    public static Layout parse(String text) {
+      for (Layout l : values()) {
+        if (l.name().equalsIgnoreCase(text.trim())) {
+          return l;
+        }
+      }
+      throw new IllegalArgumentException("not a layout: " + text + " (expected wide or long)");
+    }
+
+    @Override
+    public String toString() {
+      return name().toLowerCase(java.util.Locale.ROOT);
+    }
+  }
+
+  private static Map<String, String> longNames() {
+    Map<String, String> names = new LinkedHashMap<>();
+    names.put(Metric.HIT_RATIO.column, "cache.hit-ratio");
+    names.put(Metric.TTFB_P99.column, "http.ttfb-p99-ms");
+    names.put(Metric.FAN_4.column, "fan-4.rpm");
+    return java.util.Collections.unmodifiableMap(names);
+  }
 
   /**
    * What to generate.
@@ -195,6 +257,27 @@ public final class FleetTelemetryGenerator {
     return names;
   }
 
+  /**
+   * The values of the long layout's {@code metric} column, in the order of {@link #metricColumns}: each wide column
+   * name, or its long name ({@link #LONG_NAMES}).
+   */
+  public static List<String> longMetricNames(int extraMetrics) {
+    List<String> names = metricColumns(extraMetrics);
+    names.replaceAll(n -> LONG_NAMES.getOrDefault(n, n));
+    return names;
+  }
+
+  /** The long layout's schema: {@link #LONG_COLUMNS}, the metric's value as a double. */
+  public static StructType longSchema() {
+    return DataTypes.createStructType(List.of(
+        DataTypes.createStructField("host", DataTypes.StringType, false),
+        DataTypes.createStructField("region", DataTypes.StringType, false),
+        DataTypes.createStructField("ts", DataTypes.TimestampType, false),
+        DataTypes.createStructField("metric", DataTypes.StringType, false),
+        DataTypes.createStructField("value", DataTypes.DoubleType, false),
+        DataTypes.createStructField("date", DataTypes.StringType, false)));
+  }
+
   /** The unit of each base metric, by column name, in column order (for the report's axes and tables). */
   public static Map<String, String> metricUnits() {
     Map<String, String> units = new LinkedHashMap<>();
@@ -229,6 +312,24 @@ public final class FleetTelemetryGenerator {
   }
 
   /**
+   * The long layout of the table of {@code spec}, lazily: the wide table's row ids in {@code partitions} slices, each
+   * wide row melted to its present samples ({@link LongTelemetryRows}), binary rows of {@link #longSchema}. About
+   * {@code rows x (62 + extraMetrics) x 0.99} rows.
+   */
+  public static Dataset<Row> generateLong(SparkSession spark, FleetSpec spec) {
+    LongTelemetryRows samples = new LongTelemetryRows(spec.seed(), spec.hosts(), spec.intervals(),
+        spec.extraMetrics(), spec.startDate());
+    RDD<Object> ids = spark.sparkContext().range(0, spec.rows(), 1, spec.partitions());
+    JavaRDD<InternalRow> table = ids.toJavaRDD().mapPartitions(samples);
+    return spark.internalCreateDataFrame(table.rdd(), longSchema(), false);
+  }
+
+  /** {@link #write(SparkSession, FleetSpec, Layout, String)} of the wide layout. */
+  public static void write(SparkSession caller, FleetSpec spec, String path) {
+    write(caller, spec, Layout.WIDE, path);
+  }
+
+  /**
    * Generates the table and writes it as Parquet under {@code path}, partitioned by {@code date}, replacing what was
    * there. One Spark job; each task sorts its rows by date before writing (Spark's partitioned writer), which holds
    * one task's rows in execution memory (or spills).
@@ -238,25 +339,30 @@ public final class FleetTelemetryGenerator {
    * {@value #WIDE_COLUMNS} columns the write runs with Spark's interpreted projections
    * ({@code spark.sql.codegen.factoryMode = NO_CODEGEN}, restored afterwards): compiling a projection of 20,000
    * columns cost minutes per task, interpreting it costs microseconds per row.
+   *
+   * <p>The long layout ({@link #generateLong}) is written the same way, partitioned by {@code date}, with
+   * dictionaries for {@code host}, {@code region} and {@code metric} only; it has six columns whatever the metrics.
    */
-  public static void write(SparkSession caller, FleetSpec spec, String path) {
+  public static void write(SparkSession caller, FleetSpec spec, Layout layout, String path) {
     // timestamps as Parquet TIMESTAMP (micros, UTC-adjusted), like every eigenmill table; the caller's session keeps
     // its own setting
     SparkSession spark = WriterSession.of(caller, Map.of());
     SparkContext sc = spark.sparkContext();
     String description = sc.getLocalProperty("spark.job.description");
     RuntimeConfig conf = spark.conf();
-    boolean wide = spec.columns() > WIDE_COLUMNS;
+    boolean longLayout = layout == Layout.LONG;
+    boolean wide = !longLayout && spec.columns() > WIDE_COLUMNS;
     String factoryMode = conf.contains(CODEGEN_FACTORY_MODE) ? conf.get(CODEGEN_FACTORY_MODE) : null;
     sc.setJobDescription("eigenmill demo: " + spec.rows() + " fleet telemetry rows x " + spec.columns()
-        + " columns to " + path);
+        + " columns" + (longLayout ? ", melted to long," : "") + " to " + path);
     if (wide) {
       conf.set(CODEGEN_FACTORY_MODE, "NO_CODEGEN");
     }
     try {
-      DataFrameWriter<Row> writer = generate(spark, spec).write().mode(SaveMode.Overwrite).partitionBy("date")
+      Dataset<Row> table = longLayout ? generateLong(spark, spec) : generate(spark, spec);
+      DataFrameWriter<Row> writer = table.write().mode(SaveMode.Overwrite).partitionBy("date")
           .option("parquet.enable.dictionary", "false");
-      for (String key : DICTIONARY_COLUMNS) {
+      for (String key : longLayout ? LONG_DICTIONARY_COLUMNS : DICTIONARY_COLUMNS) {
         writer = writer.option("parquet.enable.dictionary#" + key, "true");
       }
       writer.parquet(path);
@@ -289,9 +395,16 @@ public final class FleetTelemetryGenerator {
     try {
       spark = a.session();
       long t0 = System.nanoTime();
-      write(spark, a.spec(), a.out());
+      write(spark, a.spec(), a.layout(), a.out());
       double seconds = (System.nanoTime() - t0) / 1e9;
       FleetSpec s = a.spec();
+      if (a.layout() == Layout.LONG) {
+        out.printf("wrote %s: long layout, one row per sample of %d wide rows x %d metrics (%d hosts x %d intervals,"
+            + " %d extra metrics, seed %d; %.0f %% of samples absent besides sensor dropouts) as Parquet partitioned"
+            + " by date in %.1f s%n", a.out(), s.rows(), Metric.COUNT + s.extraMetrics(), s.hosts(), s.intervals(),
+            s.extraMetrics(), s.seed(), 100 * LONG_ABSENT_SHARE, seconds);
+        return 0;
+      }
       out.printf("wrote %s: %d rows x %d columns (%d hosts x %d intervals, %d extra metrics, seed %d) as Parquet"
           + " partitioned by date in %.1f s%n", a.out(), s.rows(), s.columns(), s.hosts(), s.intervals(),
           s.extraMetrics(), s.seed(), seconds);

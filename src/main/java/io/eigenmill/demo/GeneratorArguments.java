@@ -1,6 +1,7 @@
 package io.eigenmill.demo;
 
 import io.eigenmill.demo.FleetTelemetryGenerator.FleetSpec;
+import io.eigenmill.demo.FleetTelemetryGenerator.Layout;
 import java.math.BigDecimal;
 import java.util.List;
 import java.util.Locale;
@@ -10,22 +11,28 @@ import org.apache.spark.sql.SparkSession;
  * The generator's command-line flags, parsed and checked. Every flag takes a value, as {@code --flag VALUE} or
  * {@code --flag=VALUE}. Counts accept digits with optional {@code _} or {@code ,} separators, a decimal exponent
  * ({@code 2e6}) and a k / m / b suffix ({@code 2m}, {@code 1.5k}); the result must be a whole number. Errors name the
- * flag and the value.
+ * flag and the value. {@code --layout long} writes the long layout (see {@link FleetTelemetryGenerator}; the metrics
+ * renamed there are listed in {@link #USAGE}).
  */
-record GeneratorArguments(String out, FleetSpec spec, String master) {
+record GeneratorArguments(String out, FleetSpec spec, String master, Layout layout) {
   static final List<String> FLAGS = List.of("--out", "--rows", "--seed", "--extra-metrics", "--partitions",
-      "--start-date", "--hosts", "--master");
+      "--start-date", "--hosts", "--layout", "--master");
   static final int MAX_PARTITIONS = 1_000_000;
   static final String USAGE = "usage: FleetTelemetryGenerator --out PATH [--rows N] [--seed S] [--extra-metrics M]"
-      + " [--partitions P] [--start-date yyyy-MM-dd] [--hosts H] [--master M]\n"
+      + " [--partitions P] [--start-date yyyy-MM-dd] [--hosts H] [--layout wide|long] [--master M]\n"
       + "  N, M, P accept 2000000, 2_000_000, 2e6 or 2m; defaults: rows 120000, seed 20261201, extra-metrics 0,"
-      + " partitions 8, master local[*]; hosts: round(sqrt(0.48 N)) unless given (then N / (288 H) is the number"
-      + " of days)";
+      + " partitions 8, layout wide, master local[*]; hosts: round(sqrt(0.48 N)) unless given (then N / (288 H) is"
+      + " the number of days)\n"
+      + "  --layout long: the same rows melted to (host, region, ts, metric, value), one row per sample, date"
+      + " partitions; sample times jittered inside each 5-minute interval, 1 % of samples and every sensor dropout"
+      + " absent; cache_hit_ratio, http_ttfb_p99_ms and fan_4_rpm are named cache.hit-ratio, http.ttfb-p99-ms and"
+      + " fan-4.rpm";
 
   static GeneratorArguments parse(String[] args) {
     FleetSpec spec = FleetSpec.defaults();
     String out = null;
     String master = null;
+    Layout layout = Layout.WIDE;
     for (int i = 0; i < args.length; i++) {
       String flag = args[i];
       String value = null;
@@ -52,13 +59,14 @@ record GeneratorArguments(String out, FleetSpec spec, String master) {
         case "--partitions" -> spec = spec.withPartitions((int) count(flag, value, 1, MAX_PARTITIONS));
         case "--start-date" -> spec = spec.withStartDate(requireText(flag, value));
         case "--hosts" -> spec = spec.withHosts((int) count(flag, value, 1, FleetSpec.MAX_HOSTS));
+        case "--layout" -> layout = layout(flag, value);
         default -> master = requireText(flag, value);
       }
     }
     if (out == null) {
       throw new IllegalArgumentException("--out is required: the folder to write the Parquet table to");
     }
-    return new GeneratorArguments(out, spec, master);
+    return new GeneratorArguments(out, spec, master, layout);
   }
 
   /**
@@ -108,6 +116,14 @@ record GeneratorArguments(String out, FleetSpec spec, String master) {
       return Long.parseLong(text.trim().replace("_", ""));
     } catch (NumberFormatException e) {
       throw new IllegalArgumentException(flag + " " + text + ": not a whole number that fits in 64 bits");
+    }
+  }
+
+  private static Layout layout(String flag, String text) {
+    try {
+      return Layout.parse(text);
+    } catch (IllegalArgumentException e) {
+      throw new IllegalArgumentException(flag + " " + text + ": must be wide or long");
     }
   }
 

@@ -4,6 +4,7 @@
  *
  * <p>Layers: {@code NoiseSource}, {@code Fleet}, {@code TelemetryModel} and {@code ExtraMetrics} are plain Java
  * (tested without Spark); {@code TelemetryRows} is the executor-side adapter that writes Spark's binary rows;
+ * {@code LongTelemetryRows} melts the same rows to one binary row per sample for the long layout;
  * {@code FleetTelemetryGenerator} builds the Dataset, writes Parquet and is the command line.
  *
  * <h2>Design notes</h2>
@@ -31,6 +32,9 @@
  *   <li>100,000 rows x 1,068 columns: write 30.4 s.</li>
  *   <li>5,000 rows x 20,068 columns, 2 partitions: write 58.7 s, of which about 10 s is Spark planning a
  *       20,000-column query on the driver; the rest is mostly Parquet's per-column work.</li>
+ *   <li>Long layout, 30,000 rows x 62 metrics melted to about 1.8 million samples (the demo's long table; 25 MB of
+ *       Parquet): write 23.6 s at a load average of 6, against 16.3 s for the same rows in the wide layout right
+ *       after.</li>
  * </ul>
  * The model alone costs about 2 microseconds per row plus about 50 ns per extra column on one core.
  */

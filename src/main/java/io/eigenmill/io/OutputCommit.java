@@ -70,6 +70,15 @@ public final class OutputCommit {
   }
 
   /** Marks the staging folder complete and moves it to {@code output.path}. */
+  /** Deletes a file or folder from the staging folder (work files that are not outputs). */
+  public void delete(String name) {
+    try {
+      fs.delete(new Path(staging, name), true);
+    } catch (IOException e) {
+      throw new UncheckedIOException("cannot delete " + name + " from the staging folder " + staging, e);
+    }
+  }
+
   public void commit() {
     try {
       writeText(MARKER, "");

@@ -80,6 +80,32 @@ public final class TableLoader {
     }
   }
 
+  /**
+   * The partition columns of a Parquet input, from the folder names of its first file ({@code name=value}), in
+   * folder order; none for CSV.
+   */
+  public static java.util.List<String> partitionColumns(Dataset<Row> table, JobSettings.Input input) {
+    java.util.List<String> out = new java.util.ArrayList<>();
+    if (input.format() != Choices.InputFormat.PARQUET) {
+      return out;
+    }
+    String[] files = table.inputFiles();
+    if (files.length == 0) {
+      return out;
+    }
+    String root = new Path(input.path()).toUri().getPath();
+    String file = new Path(files[0]).toUri().getPath();
+    int at = file.indexOf(root);
+    String rest = at >= 0 ? file.substring(at + root.length()) : file;
+    for (String segment : rest.split("/")) {
+      int eq = segment.indexOf('=');
+      if (eq > 0) {
+        out.add(segment.substring(0, eq));
+      }
+    }
+    return out;
+  }
+
   static String firstLine(Throwable e) {
     String m = String.valueOf(e.getMessage());
     int nl = m.indexOf('\n');

@@ -1,5 +1,6 @@
 package io.eigenmill.plan;
 
+import io.eigenmill.io.LongTable;
 import io.eigenmill.settings.Choices.Method;
 import io.eigenmill.settings.JobSettings;
 import java.util.List;
@@ -12,7 +13,8 @@ import java.util.List;
  * @param notes things the user should know that are not errors (columns skipped by a glob, ...)
  * @param warnings settings that have no effect in this job, as the user should change them (the settings' own
  *     warnings, then those found against the schema); a run keeps them among its warnings
- * @param selection what {@code input.where} keeps of the input, or null when it is unset
+ * @param selection what {@code input.where} keeps of the input, or null when it is unset (or the input is long)
+ * @param longInput the long table and its pivot, or null for a wide input
  */
 public record JobPlan(
     JobSettings settings,
@@ -31,7 +33,26 @@ public record JobPlan(
     List<String> warnings,
     InputSelection selection,
     SnapshotPlan snapshots,
-    GroupPlan groups) {
+    GroupPlan groups,
+    LongTable.View longInput) {
+
+  /** A plan of a wide input. */
+  public JobPlan(JobSettings settings, String kind, List<String> features, List<String> featureTypes,
+      List<String> keys, List<String> partitionColumns, long rowEstimate, long inputBytes, Method method,
+      String methodReason, MemoryEstimate memory, List<String> outputs, List<String> notes, List<String> warnings,
+      InputSelection selection, SnapshotPlan snapshots, GroupPlan groups) {
+    this(settings, kind, features, featureTypes, keys, partitionColumns, rowEstimate, inputBytes, method,
+        methodReason, memory, outputs, notes, warnings, selection, snapshots, groups, null);
+  }
+
+  /**
+   * This plan reading the long table {@code view} (pivoted by the run); its partition columns are those the pivot
+   * carries as keys.
+   */
+  public JobPlan withLongInput(LongTable.View view) {
+    return new JobPlan(settings, kind, features, featureTypes, keys, view.carried(), rowEstimate, inputBytes,
+        method, methodReason, memory, outputs, notes, warnings, selection, snapshots, groups, view);
+  }
 
   /** A plan without groups. */
   public JobPlan(JobSettings settings, String kind, List<String> features, List<String> featureTypes,
@@ -86,6 +107,9 @@ public record JobPlan(
     if (!partitionColumns.isEmpty()) {
       line(s, "partitioned by", String.join(", ", partitionColumns));
     }
+    if (longInput != null) {
+      describeLong(s, j);
+    }
     if (selection != null) {
       for (String[] l : selection.describe()) {
         line(s, l[0], l[1]);
@@ -125,6 +149,37 @@ public record JobPlan(
       line(s, "warning", warning);
     }
     return s.toString();
+  }
+
+  private void describeLong(StringBuilder s, JobSettings j) {
+    var l = longInput.layout();
+    line(s, "layout", "long: one row per " + String.join(", ", longInput.keyColumns()) + " ("
+        + (l.timed() ? (l.bucketMicros() == 0 ? "every distinct " + l.time() : l.time() + " in buckets of "
+            + bucketText(l.bucketMicros())) : "no time: one row per entity") + "), one column per value of "
+        + l.metric() + ", cells the " + l.aggregate().word() + " of " + l.value()
+        + (j.input().filtered() ? "; input.where " + j.input().where() + " applies to the long rows" : ""));
+    line(s, "metrics (" + longInput.metrics().size() + ")", (longInput.discovered() ? "found in the table: "
+        : "as listed: ") + String.join(", ", longInput.metrics()));
+    var renamed = longInput.renamed();
+    if (!renamed.isEmpty()) {
+      StringBuilder r = new StringBuilder();
+      renamed.forEach((m, c) -> r.append(r.length() > 0 ? ", " : "").append(m).append(" -> ").append(c));
+      line(s, "metric columns", r + " (not column names as they stand; written to metric-columns.csv)");
+    }
+    line(s, "sparse metrics", "a metric with a value in fewer than " + l.minPresence() + " of the rows is dropped"
+        + " when the pivot has run (a warning names it)");
+  }
+
+  static String bucketText(long micros) {
+    long[] units = {86_400_000_000L, 3_600_000_000L, 60_000_000L, 1_000_000L, 1000L};
+    String[] names = {"day", "hour", "minute", "second", "millisecond"};
+    for (int i = 0; i < units.length; i++) {
+      if (micros % units[i] == 0) {
+        long n = micros / units[i];
+        return n + " " + names[i] + (n == 1 ? "" : "s");
+      }
+    }
+    return micros + " microseconds";
   }
 
   private String describeFeatures() {

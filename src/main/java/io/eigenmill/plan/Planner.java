@@ -4,6 +4,7 @@ import io.eigenmill.io.GroupModels;
 import io.eigenmill.io.InputFilter;
 import io.eigenmill.io.ModelStore;
 import io.eigenmill.io.PcaModel;
+import io.eigenmill.io.LongTable;
 import io.eigenmill.io.TableLoader;
 import io.eigenmill.settings.Choices.InputFormat;
 import io.eigenmill.settings.InvalidJobException;
@@ -48,8 +49,70 @@ public final class Planner {
     if (settings.input().fromSnapshots()) {
       return SnapshotPlanner.planFit(spark, settings);
     }
+    if (settings.input().isLong()) {
+      LongTable.View view = LongTable.open(spark, settings.input(), settings.features(), null);
+      return plan(spark, longSettings(settings, view), view.wide()).withLongInput(view);
+    }
     Dataset<Row> table = TableLoader.read(spark, settings.input());
     return plan(spark, settings, table);
+  }
+
+  /**
+   * The settings of a fit over the wide view of a long table: every metric column the view has is a feature
+   * (features.columns and features.exclude chose the metric names already), and the view's row keys (entity,
+   * carried partition columns, time bucket) are keys, with the user's.
+   */
+  private static JobSettings longSettings(JobSettings settings, LongTable.View view) {
+    List<String> keys = new ArrayList<>(view.keyColumns());
+    settings.features().keys().stream().filter(k -> !keys.contains(k)).forEach(keys::add);
+    var features = new JobSettings.Features(List.of(), List.of(), keys);
+    return new JobSettings(settings.name(), settings.sourceFile(), settings.input(), features, settings.prepare(),
+        settings.reduce(), settings.monitor(), settings.apply(), settings.cluster(), settings.output(),
+        settings.spark(), settings.warnings());
+  }
+
+  /**
+   * The plan of a run once the pivot of its long table has run: a fit leaves out the metrics the pivot found too
+   * sparse ({@code input.long.min-presence}, each named in a warning); the row estimate becomes the rows pivoted.
+   * An apply job keeps the model's features (their gaps follow {@code prepare.missing}).
+   */
+  public static JobPlan afterPivot(JobPlan plan, LongTable.Staged staged) {
+    List<String> features = new ArrayList<>(plan.features());
+    List<String> types = new ArrayList<>(plan.featureTypes());
+    List<String> warnings = new ArrayList<>(plan.warnings());
+    if (!plan.kind().startsWith("apply")) {
+      List<String> sparse = staged.view().sparse();
+      for (String c : sparse) {
+        int j = staged.view().columns().indexOf(c);
+        int at = features.indexOf(c);
+        if (at < 0) {
+          continue;
+        }
+        features.remove(at);
+        types.remove(at);
+        warnings.add("input.long.min-presence = " + staged.view().layout().minPresence() + ": metric "
+            + staged.view().metrics().get(j) + " has a value in " + String.format(Locale.ROOT, "%.1f%%", 100
+                * staged.view().pivoted().presence(j)) + " of the " + String.format(Locale.ROOT, "%,d",
+                    staged.view().pivoted().rows())
+            + " pivoted rows: dropped");
+      }
+      if (features.isEmpty()) {
+        throw new InvalidJobException("input.long.min-presence = " + staged.view().layout().minPresence()
+            + ": every metric has a value in fewer than that share of the " + String.format(Locale.ROOT, "%,d",
+                staged.view().pivoted().rows()) + " pivoted rows (" + String.join(", ", staged.view().metrics()) + "); lower"
+            + " input.long.min-presence, widen input.long.bucket, or set prepare.missing = impute-mean");
+      }
+      int d = features.size();
+      plan.settings().reduce().components().ifPresent(k -> {
+        if (k > d) {
+          throw new InvalidJobException("reduce.components = " + k + ": more components than the " + d
+              + " metrics left after input.long.min-presence dropped " + (plan.d() - d));
+        }
+      });
+    }
+    return new JobPlan(plan.settings(), plan.kind(), features, types, plan.keys(), plan.partitionColumns(),
+        staged.view().pivoted().rows(), plan.inputBytes(), plan.method(), plan.methodReason(), plan.memory(),
+        plan.outputs(), plan.notes(), warnings, plan.selection(), plan.snapshots(), plan.groups(), staged.view());
   }
 
   /**
@@ -82,7 +145,9 @@ public final class Planner {
       problems.add(named + ": no group has a model (every group was below reduce.min-group-rows when fitted)");
       throw new InvalidJobException(problems);
     }
-    StructType schema = TableLoader.read(spark, settings.input()).schema();
+    JobPlan applyPlan = planApply(spark, settings, unionModel(groups));
+    StructType schema = applyPlan.longInput() != null ? applyPlan.longInput().wide().schema()
+        : TableLoader.read(spark, settings.input()).schema();
     for (String g : groups.columns()) {
       if (schema.getFieldIndex(g).isEmpty()) {
         problems.add(named + ": the input " + settings.input().path() + " lacks the group column " + g);
@@ -111,11 +176,12 @@ public final class Planner {
     if (!problems.isEmpty()) {
       throw new InvalidJobException(problems);
     }
-    JobPlan plan = planApply(spark, settings, unionModel(groups));
+    JobPlan plan = applyPlan;
     return new JobPlan(plan.settings(), "apply (groups)", plan.features(), plan.featureTypes(), plan.keys(),
         plan.partitionColumns(), plan.rowEstimate(), plan.inputBytes(), plan.method(), "apply: one saved model per"
             + " value of " + String.join(", ", groups.columns()) + " (" + groups.models().size() + " groups)",
-        plan.memory(), plan.outputs(), plan.notes(), plan.warnings(), plan.selection(), null, null);
+        plan.memory(), plan.outputs(), plan.notes(), plan.warnings(), plan.selection(), null, null,
+        plan.longInput());
   }
 
   /**
@@ -123,7 +189,15 @@ public final class Planner {
    * type it had when the model was fitted (columns may be in any order; extra columns are ignored).
    */
   public static JobPlan planApply(SparkSession spark, JobSettings settings, PcaModel model) {
-    Dataset<Row> table = TableLoader.read(spark, settings.input());
+    if (settings.input().isLong()) {
+      LongTable.View view = LongTable.open(spark, settings.input(), settings.features(),
+          new LinkedHashSet<>(model.features()));
+      return planApply(spark, longSettings(settings, view), model, view.wide()).withLongInput(view);
+    }
+    return planApply(spark, settings, model, TableLoader.read(spark, settings.input()));
+  }
+
+  private static JobPlan planApply(SparkSession spark, JobSettings settings, PcaModel model, Dataset<Row> table) {
     List<String> problems = new ArrayList<>();
     StructType schema = table.schema();
     checkDuplicates(schema, problems);
@@ -287,7 +361,8 @@ public final class Planner {
 
   /** {@code table} filtered by {@code input.where}; {@code table} when unset or when its problem is added. */
   private static Dataset<Row> filtered(Dataset<Row> table, JobSettings settings, List<String> problems) {
-    if (!settings.input().filtered()) {
+    // a long table's filter applies to its long rows, before the pivot (LongTable.open)
+    if (!settings.input().filtered() || settings.input().isLong()) {
       return table;
     }
     String problem = InputFilter.problem(table, settings.input().where());
@@ -300,7 +375,7 @@ public final class Planner {
 
   private static InputSelection selection(Dataset<Row> table, Dataset<Row> kept, JobSettings settings,
       List<String> features, List<String> partitionColumns) {
-    if (!settings.input().filtered()) {
+    if (!settings.input().filtered() || settings.input().isLong()) {
       return null;
     }
     return InputSelection.of(table, kept, settings.input().where(), settings.input().path(), features,
@@ -400,22 +475,11 @@ public final class Planner {
   }
 
   static boolean isGlob(String pattern) {
-    return pattern.indexOf('*') >= 0 || pattern.indexOf('?') >= 0;
+    return io.eigenmill.settings.Globs.isGlob(pattern);
   }
 
-  /** A glob with * (any run of characters) and ? (one character); everything else literal. */
   static Pattern globRegex(String glob) {
-    StringBuilder s = new StringBuilder();
-    for (char c : glob.toCharArray()) {
-      if (c == '*') {
-        s.append(".*");
-      } else if (c == '?') {
-        s.append('.');
-      } else {
-        s.append(Pattern.quote(String.valueOf(c)));
-      }
-    }
-    return Pattern.compile(s.toString());
+    return io.eigenmill.settings.Globs.regex(glob);
   }
 
   static boolean isNumeric(DataType type) {
@@ -423,25 +487,7 @@ public final class Planner {
   }
 
   private static List<String> partitionColumns(Dataset<Row> table, JobSettings settings) {
-    List<String> out = new ArrayList<>();
-    if (settings.input().format() != InputFormat.PARQUET) {
-      return out;
-    }
-    String[] files = table.inputFiles();
-    if (files.length == 0) {
-      return out;
-    }
-    String root = new Path(settings.input().path()).toUri().getPath();
-    String file = new Path(files[0]).toUri().getPath();
-    int at = file.indexOf(root);
-    String rest = at >= 0 ? file.substring(at + root.length()) : file;
-    for (String segment : rest.split("/")) {
-      int eq = segment.indexOf('=');
-      if (eq > 0) {
-        out.add(segment.substring(0, eq));
-      }
-    }
-    return out;
+    return TableLoader.partitionColumns(table, settings.input());
   }
 
   /** Rows in the footers of the files the scan reads (those {@code input.where} keeps), or -1 when not cheap. */
@@ -451,7 +497,7 @@ public final class Planner {
       return -1;
     }
     String[] files = selection != null ? selection.files().toArray(String[]::new) : table.inputFiles();
-    if (files.length > FOOTER_LIMIT) {
+    if (files.length > FOOTER_LIMIT || files.length == 0 && settings.input().isLong()) {
       return -1;
     }
     Configuration conf = spark.sparkContext().hadoopConfiguration();

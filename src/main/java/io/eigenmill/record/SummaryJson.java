@@ -44,6 +44,10 @@ public final class SummaryJson {
     m.put("input", s.input().fromSnapshots() ? s.input().snapshots() : s.input().path());
     m.put("input_where", s.input().filtered() ? s.input().where() : null);
     m.put("source", s.input().fromSnapshots() ? "snapshots" : "table");
+    m.put("layout", s.input().layout().word());
+    if (run.plan().longInput() != null) {
+      m.put("long_input", longSection(run.plan().longInput()));
+    }
     m.put("output", run.outputPath());
     if (run.fit() != null) {
       m.putAll(fitSection(run.fit()));
@@ -86,6 +90,44 @@ public final class SummaryJson {
    * The snapshot store a fit wrote to ({@code written}: true) or merged from: its path, the key columns and each
    * key with its rows (read, and used in the moments).
    */
+  /** The pivot of a long table: its columns, the metrics (name, column, rows with a value), the rows it skipped. */
+  static Map<String, Object> longSection(io.eigenmill.io.LongTable.View view) {
+    Map<String, Object> m = new LinkedHashMap<>();
+    var l = view.layout();
+    m.put("entity", l.entity());
+    m.put("time", l.timed() ? l.time() : null);
+    m.put("bucket_seconds", l.timed() ? l.bucketMicros() / 1e6 : null);
+    m.put("aggregate", l.aggregate().word());
+    m.put("key_columns", view.keyColumns());
+    m.put("metrics_found", view.discovered());
+    var p = view.pivoted();
+    List<Map<String, Object>> metrics = new java.util.ArrayList<>();
+    for (int j = 0; j < view.metrics().size(); j++) {
+      Map<String, Object> one = new LinkedHashMap<>();
+      one.put("metric", view.metrics().get(j));
+      one.put("column", view.columns().get(j));
+      if (p != null) {
+        one.put("rows_present", p.present()[j]);
+        one.put("rows_missing", p.rows() - p.present()[j]);
+      }
+      metrics.add(one);
+    }
+    m.put("metrics", metrics);
+    if (p != null) {
+      m.put("long_rows_read", p.longRows());
+      m.put("rows", p.rows());
+      Map<String, Object> skipped = new LinkedHashMap<>();
+      skipped.put("null_metric", p.nullMetric());
+      skipped.put("other_metric", p.otherMetric());
+      skipped.put("null_value", p.nullValue());
+      skipped.put("nan_or_infinite_value", p.nonFinite());
+      skipped.put("null_time", p.nullTime());
+      m.put("long_rows_skipped", skipped);
+      m.put("pivot_seconds", p.seconds());
+    }
+    return m;
+  }
+
   static Map<String, Object> snapshotSection(io.eigenmill.pca.SnapshotUse use) {
     Map<String, Object> m = new LinkedHashMap<>();
     m.put("store", use.store());

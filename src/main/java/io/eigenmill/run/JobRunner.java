@@ -4,6 +4,7 @@ import io.eigenmill.engine.Stopwatch;
 import io.eigenmill.engine.KeyColumns;
 import io.eigenmill.io.GroupModels;
 import io.eigenmill.io.InputFiles;
+import io.eigenmill.io.LongTable;
 import io.eigenmill.io.ModelStore;
 import io.eigenmill.io.OutputCommit;
 import io.eigenmill.io.PcaModel;
@@ -92,6 +93,10 @@ public final class JobRunner {
     OutputCommit out = OutputCommit.begin(spark, settings.output().path(), settings.output().mode());
     try {
       RunResult result = execute(spark, plan, applied, groups, earlier, out, started, skipped);
+      if (result.plan().longInput() != null) {
+        out.delete(LongTable.STAGING);
+        out.writeText(LongTable.MAPPING_FILE, LongTable.mappingCsv(result.plan().longInput()));
+      }
       out.writeText("summary.json", SummaryJson.render(result));
       out.writeText("report.html", HtmlReport.render(result));
       commitSnapshots(store, result);
@@ -119,10 +124,20 @@ public final class JobRunner {
 
   private static RunResult execute(SparkSession spark, JobPlan plan, PcaModel applied, GroupModels groups,
       PcaModel earlier, OutputCommit out, long started, String skipped) {
+    Dataset<Row> table;
+    if (plan.longInput() != null) {
+      // the long table is pivoted once into the staging folder; every pass then reads it as a wide Parquet table
+      LongTable.Staged staged = plan.longInput().stage(spark, out.staged(LongTable.STAGING));
+      plan = Planner.afterPivot(plan, staged);
+      table = staged.table();
+      LOG.info("run: pivoted {} long rows into {} rows of {} metrics in {} s", staged.view().pivoted().longRows(),
+          staged.view().pivoted().rows(), staged.view().metrics().size(),
+          String.format(java.util.Locale.ROOT, "%.1f", staged.view().pivoted().seconds()));
+    } else {
+      table = plan.settings().input().fromSnapshots() ? null : TableLoader.load(spark, plan.settings().input());
+    }
     Steps run = new Steps(spark, plan, out, skipped);
     run.appliedGroups = groups;
-    Dataset<Row> table = plan.settings().input().fromSnapshots() ? null
-        : TableLoader.load(spark, plan.settings().input());
     FitResult fit = applied == null ? run.fit(table) : null;
     PcaModel model = fit == null ? applied : fit.model();
     ScoringStage scoring = new ScoringStage(spark, plan, model, out);

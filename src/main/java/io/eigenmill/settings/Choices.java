@@ -80,4 +80,19 @@ public final class Choices {
     UnknownGroup(String word) { this.word = word; }
     @Override public String word() { return word; }
   }
+
+  public enum InputLayout implements Word {
+    WIDE("wide"), LONG("long");
+    private final String word;
+    InputLayout(String word) { this.word = word; }
+    @Override public String word() { return word; }
+  }
+
+  /** How the values of one metric in one entity's time bucket become a cell ({@code input.long.aggregate}). */
+  public enum Aggregate implements Word {
+    MEAN("mean"), LAST("last"), MAX("max"), MIN("min"), SUM("sum");
+    private final String word;
+    Aggregate(String word) { this.word = word; }
+    @Override public String word() { return word; }
+  }
 }

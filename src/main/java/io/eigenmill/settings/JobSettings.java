@@ -50,8 +50,23 @@ public record JobSettings(
    * @param where a Spark SQL predicate over the input's columns; rows where it is true are the job's input (empty:
    *     every row). Applied by {@code io.TableLoader.load} before anything else.
    */
-  public record Input(String path, InputFormat format, CorruptFiles corruptFiles, String where, String snapshots)
-      implements Serializable {
+  public record Input(String path, InputFormat format, CorruptFiles corruptFiles, String where, String snapshots,
+      Choices.InputLayout layout, LongLayout longLayout) implements Serializable {
+    /** A wide input. */
+    public Input(String path, InputFormat format, CorruptFiles corruptFiles, String where, String snapshots) {
+      this(path, format, corruptFiles, where, snapshots, Choices.InputLayout.WIDE, null);
+    }
+
+    /** True when the table is long ({@code input.layout = long}) and the job pivots it. */
+    public boolean isLong() {
+      return layout == Choices.InputLayout.LONG;
+    }
+
+    /** This input without its row filter (the filter is applied elsewhere, e.g. before a pivot). */
+    public Input withoutWhere() {
+      return new Input(path, format, corruptFiles, "", snapshots, layout, longLayout);
+    }
+
     /** An input without a row filter. */
     public Input(String path, InputFormat format, CorruptFiles corruptFiles) {
       this(path, format, corruptFiles, "");
@@ -75,6 +90,25 @@ public record JobSettings(
     /** True when {@code input.where} is set (not blank). */
     public boolean filtered() {
       return !where.isBlank();
+    }
+  }
+
+  /**
+   * The columns of a long table ({@code input.long}).
+   *
+   * @param time the time column; empty: one row per entity
+   * @param bucketMicros width of a time bucket in microseconds; 0: every distinct time is a row
+   * @param maxMetrics most metric names a job discovers
+   * @param minPresence a metric with a value in fewer than this share of the pivoted rows is dropped
+   */
+  public record LongLayout(List<String> entity, String time, String metric, String value, long bucketMicros,
+      Choices.Aggregate aggregate, int maxMetrics, double minPresence) implements Serializable {
+    public LongLayout {
+      entity = List.copyOf(entity);
+    }
+
+    public boolean timed() {
+      return !time.isBlank();
     }
   }
 

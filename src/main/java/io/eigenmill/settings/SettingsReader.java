@@ -157,9 +157,11 @@ public final class SettingsReader {
       f.problem("input.snapshots", "input.snapshots = " + snapshotsIn + " and input.path = " + inputPath
           + " are both set: a fit reads either a table or a snapshot store; remove one");
     }
+    Choices.InputLayout layout = f.choice("input.layout", Choices.InputLayout.values());
+    JobSettings.LongLayout longLayout = layout == Choices.InputLayout.LONG ? longLayout(f, snapshotsIn) : null;
     var input = new JobSettings.Input(inputPath, f.choice("input.format", Choices.InputFormat.values()),
         f.choice("input.corrupt-files", Choices.CorruptFiles.values()), f.string("input.where").strip(),
-        snapshotsIn);
+        snapshotsIn, layout, longLayout);
     var features = new JobSettings.Features(f.strings("features.columns"), f.strings("features.exclude"),
         f.strings("features.keys"));
     var prepare = new JobSettings.Prepare(f.choice("prepare.scaling", Choices.Scaling.values()),
@@ -209,6 +211,56 @@ public final class SettingsReader {
     }
     var spark = new JobSettings.SparkSection(f.string("spark.master"), f.sparkConf());
     return new JobSettings(name, source, input, features, prepare, reduce, monitor, apply, cluster, output, spark);
+  }
+
+  /** {@code input.long}, checked: an entity, a metric and a value column, a bucket of at least a millisecond. */
+  private static JobSettings.LongLayout longLayout(Fields f, String snapshotsIn) {
+    List<String> entity = f.strings("input.long.entity");
+    if (entity.isEmpty()) {
+      f.problem("input.long.entity", "input.long.entity = []: input.layout = long needs the columns naming an"
+          + " entity (e.g. [host]): each pivoted row is one entity's bucket");
+    }
+    String metric = f.string("input.long.metric").strip();
+    String value = f.string("input.long.value").strip();
+    String time = f.string("input.long.time").strip();
+    for (String[] kv : new String[][] {{"input.long.metric", metric}, {"input.long.value", value}}) {
+      if (kv[1].isEmpty()) {
+        f.problem(kv[0], kv[0] + " is empty: input.layout = long needs it (the column of the metric's name, the"
+            + " column of its value)");
+      }
+    }
+    String bucketText = f.string("input.long.bucket").strip();
+    long bucketMicros = 0;
+    if (!bucketText.isEmpty()) {
+      try {
+        java.time.Duration d = f.merged.getDuration("input.long.bucket");
+        bucketMicros = d.toNanos() / 1000;
+        if (d.toMillis() < 1) {
+          f.problem("input.long.bucket", "input.long.bucket = " + bucketText + ": a bucket must be at least 1"
+              + " millisecond (or empty: every distinct time is a row)");
+        }
+      } catch (com.typesafe.config.ConfigException | ArithmeticException e) {
+        f.problem("input.long.bucket", "input.long.bucket = " + bucketText + ": not a duration; write e.g."
+            + " \"5 minutes\", \"1 hour\", \"30 seconds\" (or empty: every distinct time is a row)");
+      }
+    }
+    List<String> named = new ArrayList<>(entity);
+    named.add(metric);
+    named.add(value);
+    if (!time.isEmpty()) {
+      named.add(time);
+    }
+    if (new java.util.HashSet<>(named).size() < named.size()) {
+      f.problem("input.long", "input.long: entity " + entity + ", time " + (time.isEmpty() ? "(none)" : time)
+          + ", metric " + metric + " and value " + value + " must be different columns");
+    }
+    if (!snapshotsIn.isEmpty()) {
+      f.problem("input.layout", "input.layout = long with input.snapshots: a snapshot store holds moments, not a"
+          + " table; remove input.layout (snapshots written from a long table are read like any others)");
+    }
+    return new JobSettings.LongLayout(entity, time, metric, value, bucketMicros,
+        f.choice("input.long.aggregate", Choices.Aggregate.values()), f.intIn("input.long.max-metrics", 1, 200_000),
+        f.share("input.long.min-presence"));
   }
 
   /**
@@ -388,6 +440,15 @@ public final class SettingsReader {
       double v = number(key);
       if (!(v > 0 && v <= 1) && !Double.isNaN(v)) {
         bad(key, "must be a fraction in (0, 1]");
+      }
+      return v;
+    }
+
+    /** A share in [0, 1]. */
+    double share(String key) {
+      double v = number(key);
+      if (!(v >= 0 && v <= 1) && !Double.isNaN(v)) {
+        bad(key, "must be a share from 0 to 1");
       }
       return v;
     }

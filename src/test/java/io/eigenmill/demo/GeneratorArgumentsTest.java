@@ -6,6 +6,7 @@ import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import io.eigenmill.demo.FleetTelemetryGenerator.FleetSpec;
+import io.eigenmill.demo.FleetTelemetryGenerator.Layout;
 import java.io.ByteArrayOutputStream;
 import java.io.PrintStream;
 import java.nio.charset.StandardCharsets;
@@ -39,6 +40,18 @@ class GeneratorArgumentsTest {
   }
 
   @Test
+  void layoutIsWideUnlessLongIsAsked() {
+    assertEquals(Layout.WIDE, GeneratorArguments.parse(new String[] {"--out", "o"}).layout());
+    assertEquals(Layout.LONG, GeneratorArguments.parse(new String[] {"--out", "o", "--layout", "long"}).layout());
+    assertEquals(Layout.LONG, GeneratorArguments.parse(new String[] {"--out=o", "--layout=LONG"}).layout());
+    assertEquals(Layout.WIDE, GeneratorArguments.parse(new String[] {"--out=o", "--layout", "wide"}).layout());
+    assertTrue(GeneratorArguments.USAGE.contains("--layout wide|long"), GeneratorArguments.USAGE);
+    for (String renamed : FleetTelemetryGenerator.LONG_NAMES.values()) {
+      assertTrue(GeneratorArguments.USAGE.contains(renamed), "usage names " + renamed);
+    }
+  }
+
+  @Test
   void onlyTheOutputIsRequired() {
     GeneratorArguments a = GeneratorArguments.parse(new String[] {"--out=data"});
     assertEquals(FleetSpec.defaults(), a.spec());
@@ -54,6 +67,7 @@ class GeneratorArgumentsTest {
     expectError("--partitions 0: must be between 1", "--out", "o", "--partitions", "0");
     expectError("--extra-metrics 100001: must be between 0 and 100000", "--out", "o", "--extra-metrics", "100001");
     expectError("--seed abc", "--out", "o", "--seed", "abc");
+    expectError("--layout tall: must be wide or long", "--out", "o", "--layout", "tall");
     expectError("unknown flag --colour", "--out", "o", "--colour", "red");
     expectError("unknown flag extra", "--out", "o", "extra");
     expectError("--rows needs a value", "--out", "o", "--rows");
