@@ -128,8 +128,8 @@ public record BenchOptions(long rows, int features, int cores, int reps, Path da
     if (d < 11) {
       throw new IllegalArgumentException("--features " + d + ": at least 11 (the fits keep k = 10 components)");
     }
-    return new BenchOptions(n, d, cores, reps, data, new ArrayList<>(cases), casesGiven, scaling, wide, windows, groups,
-        longInput, smoke, out, command(args));
+    return new BenchOptions(n, d, cores, reps, data, new ArrayList<>(cases), casesGiven, scaling, wide, windows,
+        groups, longInput, smoke, out, command(args));
   }
 
   private static Set<BenchCase> casesOf(String list) {

@@ -277,8 +277,7 @@ final class GroupRun {
     };
   }
 
-  /** The fit step of a job: {@code Planner.plan} + {@code FitJob.execute}, no output written. */
-  static FitResult fit(SparkSession spark, JobSettings s) {
+  private static FitResult fit(SparkSession spark, JobSettings s) {
     return new FitJob(spark, Planner.plan(spark, s)).execute();
   }
 

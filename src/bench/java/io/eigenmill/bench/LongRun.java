@@ -1,10 +1,10 @@
 package io.eigenmill.bench;
 
 import io.eigenmill.engine.ColumnarScan;
+import io.eigenmill.io.LongTable;
 import io.eigenmill.io.WriterSession;
 import io.eigenmill.pca.FitJob;
 import io.eigenmill.pca.FitResult;
-import io.eigenmill.io.LongTable;
 import io.eigenmill.plan.JobPlan;
 import io.eigenmill.plan.Planner;
 import io.eigenmill.settings.JobSettings;
@@ -84,8 +84,9 @@ final class LongRun {
    *
    * @param stages the fit's own timings of the last repetition (fits only)
    * @param spark the Spark stages of the last repetition ({@link StageLog#describe})
+   * @param eachStage the same stages one by one (a shuffle's map and reduce sides apart)
    */
-  record LegResult(Leg leg, Timing timing, String stages, String spark) {}
+  record LegResult(Leg leg, Timing timing, String stages, String spark, String eachStage) {}
 
   /**
    * @param longRows rows of the long table (from the read floor's count)
@@ -134,7 +135,8 @@ final class LongRun {
             "pivot staged %.3f, ", pivotSeconds[0]) : "") + GroupRun.stages(f.timings()) + ", " + (f.columnarRead()
             ? "columnar" : "Row path") : "";
         long[] w = windows.get(leg);
-        legs.put(leg, new LegResult(leg, t.timing(), fitStages, StageLog.describe(log.between(w[0], w[1]))));
+        List<StageLog.Stage> ran = log.between(w[0], w[1]);
+        legs.put(leg, new LegResult(leg, t.timing(), fitStages, StageLog.describe(ran), each(ran)));
       }
       long longRows = (long) floor[floor.length - 1];
       String[] check = new String[1];
@@ -297,9 +299,26 @@ final class LongRun {
         ratio(legs, Leg.SPARK_ROUTE, Leg.READ_FLOOR, null));
   }
 
+  /** "id name: tasks, wall, task time" for each stage, in order of submission. */
+  private static String each(List<StageLog.Stage> stages) {
+    List<String> parts = new ArrayList<>();
+    for (StageLog.Stage st : stages) {
+      parts.add(String.format(Locale.ROOT, "%d %s: %d tasks, %.2f s wall, %.2f s task time", st.id(), st.name()
+          .replaceAll(" at .*", ""), st.tasks(), st.wallSeconds(), st.taskMillis() / 1e3));
+    }
+    return String.join("; ", parts);
+  }
+
+  /** The ratio of the medians, with the ratio of each repetition pair (the legs were timed in turn). */
   private static Ratio ratio(Map<Leg, LegResult> legs, Leg top, Leg bottom, Ratio.Target target) {
+    double[] a = legs.get(top).timing().seconds();
+    double[] b = legs.get(bottom).timing().seconds();
+    double[] pairs = new double[a.length];
+    for (int i = 0; i < a.length; i++) {
+      pairs[i] = a[i] / b[i];
+    }
     return new Ratio(top.word + " / " + bottom.word, legs.get(top).timing().median() / legs.get(bottom).timing()
-        .median(), target);
+        .median(), target, pairs);
   }
 
   static String render(LongResult r, List<String> header, int cores) {
@@ -324,22 +343,30 @@ final class LongRun {
     s.append("- check: ").append(r.check()).append("\n\n");
     List<List<String>> rows = new ArrayList<>();
     for (LegResult l : r.legs().values()) {
+      List<String> each = new ArrayList<>();
+      for (double v : l.timing().seconds()) {
+        each.add(Report.seconds(v));
+      }
       rows.add(List.of(l.leg().word, String.valueOf(l.timing().repetitions()), Report.seconds(l.timing().median()),
-          Report.seconds(l.timing().min())));
+          Report.seconds(l.timing().min()), String.join(", ", each)));
     }
-    s.append(Report.table(List.of("leg", "reps", "median s", "min s"), rows));
+    s.append(Report.table(List.of("leg", "reps", "median s", "min s", "each repetition s"), rows));
     s.append('\n');
-    List<List<String>> ratioRows = new ArrayList<>();
-    for (Ratio q : r.ratios()) {
-      ratioRows.add(List.of(q.name(), Report.number(q.value()), q.target() == null ? "" : q.target().describe(),
-          q.verdict()));
+    s.append(Report.table(List.of("ratio", "value", "target", "verdict"), MainReport.ratioRows(r.ratios())));
+    s.append("\nRatios of each repetition pair (timed next to each other):\n\n");
+    for (String line : MainReport.inTurnLines(r.ratios())) {
+      s.append("- ").append(line).append('\n');
     }
-    s.append(Report.table(List.of("ratio", "value", "target", "verdict"), ratioRows));
     s.append("\nWhere the time went (last repetition: the fit's own timings, the long fit's staged pivot first; the "
         + "Spark stages by job group, wall and summed task time):\n\n");
     for (LegResult l : r.legs().values()) {
       s.append("- ").append(l.leg().word).append(": ").append(l.stages().isEmpty() ? "" : l.stages() + "; ")
           .append("stages: ").append(l.spark()).append('\n');
+    }
+    s.append("\nThe same stages one by one (stage id, call site; a shuffle's map side and reduce side are stages of "
+        + "their own):\n\n");
+    for (LegResult l : r.legs().values()) {
+      s.append("- ").append(l.leg().word).append(": ").append(l.eachStage()).append('\n');
     }
     return s.toString();
   }
