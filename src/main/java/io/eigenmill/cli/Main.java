@@ -72,7 +72,9 @@ public final class Main {
         }
         JobPlan plan = JobRunner.plan(spark, settings);
         out.print(Redaction.scrub(plan.describe() + sparkLine(settings), secrets));
-        out.println("plan is valid; nothing was computed (" + Linalg.describe() + ")");
+        out.println("plan is valid; nothing was computed" + (plan.longInput() != null && plan.longInput().discovered()
+            ? " but the metric names (one read of column " + plan.longInput().layout().metric() + ")" : "") + " ("
+            + Linalg.describe() + ")");
         return OK;
       }
       RunResult result = JobRunner.run(spark, settings);

@@ -99,7 +99,8 @@ public final class LongTable {
     public Staged stage(SparkSession spark, String folder) {
       long started = System.nanoTime();
       try (Progress progress = Progress.start(spark, "long pivot", counters.rows())) {
-        var writer = wide.write().mode("overwrite");
+        // the cells are continuous values: a dictionary per column chunk would cost CPU for nothing
+        var writer = wide.write().mode("overwrite").option("parquet.enable.dictionary", "false");
         if (!carried.isEmpty()) {
           writer = writer.partitionBy(carried.toArray(String[]::new));
         }
@@ -186,12 +187,7 @@ public final class LongTable {
     if (layout.timed()) {
       named.add(layout.time());
     }
-    List<String> carried = new ArrayList<>();
-    for (String p : TableLoader.partitionColumns(raw, input)) {
-      if (!named.contains(p)) {
-        carried.add(p);
-      }
-    }
+    List<String> carried = carried(raw, input);
     List<String> keyColumns = new ArrayList<>(layout.entity());
     keyColumns.addAll(carried);
     if (layout.timed()) {
@@ -253,6 +249,26 @@ public final class LongTable {
         wideSchema, false);
     return new View(layout, input.path(), wide, List.copyOf(metrics), columns, List.copyOf(keyColumns),
         List.copyOf(carried), layout.timed() ? layout.time() : null, discovered, counters, null);
+  }
+
+  /**
+   * The long table's partition columns that the pivot carries as keys of its rows (those that are not the entity,
+   * time, metric or value column). Reads the schema and lists the files; no data.
+   */
+  public static List<String> carried(SparkSession spark, JobSettings.Input input) {
+    return carried(TableLoader.read(spark, input), input);
+  }
+
+  private static List<String> carried(Dataset<Row> raw, JobSettings.Input input) {
+    JobSettings.LongLayout layout = input.longLayout();
+    List<String> out = new ArrayList<>();
+    for (String p : TableLoader.partitionColumns(raw, input)) {
+      if (!layout.entity().contains(p) && !p.equals(layout.time()) && !p.equals(layout.metric())
+          && !p.equals(layout.value())) {
+        out.add(p);
+      }
+    }
+    return out;
   }
 
   /**

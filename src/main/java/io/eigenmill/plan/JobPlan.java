@@ -170,7 +170,8 @@ public record JobPlan(
         + " when the pivot has run (a warning names it)");
   }
 
-  static String bucketText(long micros) {
+  /** A bucket width in words: "5 minutes", "1 hour". */
+  public static String bucketText(long micros) {
     long[] units = {86_400_000_000L, 3_600_000_000L, 60_000_000L, 1_000_000L, 1000L};
     String[] names = {"day", "hour", "minute", "second", "millisecond"};
     for (int i = 0; i < units.length; i++) {

@@ -234,7 +234,7 @@ public final class Planner {
     int d = model.d();
     MemoryEstimate memory = new MemoryEstimate(8L * d * (model.k() + 2), 8L * settings.reduce().blockRows()
         * (2L * d + model.k()), driverHeap, taskHeap, "block of " + settings.reduce().blockRows() + " x " + d);
-    List<String> partitionColumns = partitionColumns(table, settings);
+    List<String> partitionColumns = partitionColumns(spark, table, settings);
     InputSelection selection = selection(table, kept, settings, model.features(), partitionColumns);
     return new JobPlan(settings, "apply", model.features(), model.featureTypes(), keys, partitionColumns,
         rowEstimate(spark, kept, selection, settings), TableLoader.sizeBytes(spark, settings.input().path()),
@@ -254,7 +254,7 @@ public final class Planner {
     StructType schema = table.schema();
     checkDuplicates(schema, problems);
     Dataset<Row> kept = filtered(table, settings, problems);
-    List<String> partitionColumns = partitionColumns(table, settings);
+    List<String> partitionColumns = partitionColumns(spark, table, settings);
     List<String> keys = resolveKeys(schema, settings.features().keys(), problems);
     List<StructField> features = resolveFeatures(schema, settings.features(), keys, problems, notes, warnings);
     if (features.isEmpty() && problems.isEmpty()) {
@@ -486,7 +486,10 @@ public final class Planner {
     return type instanceof NumericType || type instanceof DecimalType;
   }
 
-  private static List<String> partitionColumns(Dataset<Row> table, JobSettings settings) {
+  private static List<String> partitionColumns(SparkSession spark, Dataset<Row> table, JobSettings settings) {
+    if (settings.input().isLong()) {
+      return LongTable.carried(spark, settings.input());
+    }
     return TableLoader.partitionColumns(table, settings.input());
   }
 

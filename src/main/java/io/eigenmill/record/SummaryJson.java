@@ -86,10 +86,6 @@ public final class SummaryJson {
     return m;
   }
 
-  /**
-   * The snapshot store a fit wrote to ({@code written}: true) or merged from: its path, the key columns and each
-   * key with its rows (read, and used in the moments).
-   */
   /** The pivot of a long table: its columns, the metrics (name, column, rows with a value), the rows it skipped. */
   static Map<String, Object> longSection(io.eigenmill.io.LongTable.View view) {
     Map<String, Object> m = new LinkedHashMap<>();
@@ -128,6 +124,10 @@ public final class SummaryJson {
     return m;
   }
 
+  /**
+   * The snapshot store a fit wrote to ({@code written}: true) or merged from: its path, the key columns and each
+   * key with its rows (read, and used in the moments).
+   */
   static Map<String, Object> snapshotSection(io.eigenmill.pca.SnapshotUse use) {
     Map<String, Object> m = new LinkedHashMap<>();
     m.put("store", use.store());

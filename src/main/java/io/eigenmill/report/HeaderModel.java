@@ -103,6 +103,9 @@ public record HeaderModel(
     boolean fromSnapshots = run.fit() != null && run.fit().fromSnapshots();
     if (fromSnapshots) {
       f.add(new Fact("Input", "snapshot store " + s.input().snapshots() + " (reading no rows)"));
+    } else if (plan.longInput() != null) {
+      f.add(new Fact("Input", "long table " + s.input().path() + " [" + s.input().format().word()
+          + "] (pivoted by the job)"));
     } else {
       f.add(new Fact("Input", s.input().path() + " [" + s.input().format().word() + "]"));
     }

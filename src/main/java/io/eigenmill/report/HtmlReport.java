@@ -29,6 +29,7 @@ public final class HtmlReport {
     b.append("<main>\n");
     header(b, m.header());
     warnings(b, m.warnings());
+    Sections.longInput(b, m.longInput());
     Sections.snapshots(b, m.snapshots());
     Sections.scree(b, m.scree());
     Sections.loadings(b, m.loadings());
@@ -61,6 +62,7 @@ public final class HtmlReport {
     return switch (id) {
       case "section-header" -> "Run";
       case "section-warnings" -> "Warnings (" + m.warnings().size() + ")";
+      case "section-long-input" -> "Long input";
       case "section-snapshots" -> "Snapshots";
       case "section-scree" -> "Variance";
       case "section-loadings" -> "Loadings";

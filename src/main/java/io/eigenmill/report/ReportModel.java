@@ -22,7 +22,8 @@ public record ReportModel(
     DriftModel drift,
     DataDriftModel dataDrift,
     SnapshotModel snapshots,
-    GroupsModel groups) {
+    GroupsModel groups,
+    LongInputModel longInput) {
 
   /** Pure: reads the records, never Spark or the file system. */
   public static ReportModel of(RunResult run) {
@@ -31,7 +32,7 @@ public record ReportModel(
     return new ReportModel("eigenmill report: " + run.plan().settings().name(), HeaderModel.of(run, scree), warnings,
         scree, LoadingsModel.of(run, scree), ScoreMapModel.of(run, scree), MonitoringModel.of(run),
         ClusterModel.of(run), CompressionModel.of(run), DriftModel.of(run), DataDriftModel.of(run),
-        SnapshotModel.of(run), GroupsModel.of(run));
+        SnapshotModel.of(run), GroupsModel.of(run), LongInputModel.of(run));
   }
 
   /** The ids of the sections this report has, in page order. */
@@ -39,6 +40,7 @@ public record ReportModel(
     List<String> ids = new ArrayList<>();
     ids.add("section-header");
     add(ids, !warnings.isEmpty(), "section-warnings");
+    add(ids, longInput != null, "section-long-input");
     add(ids, snapshots != null, "section-snapshots");
     add(ids, scree != null, "section-scree");
     add(ids, loadings != null, "section-loadings");

@@ -7,6 +7,32 @@ import java.util.List;
 final class Sections {
   private Sections() {}
 
+  static void longInput(StringBuilder b, LongInputModel m) {
+    if (m == null) {
+      return;
+    }
+    HtmlReport.open(b, "section-long-input", "Long input", m.intro());
+    HtmlReport.facts(b, m.facts());
+    HtmlReport.figure(b, LongInputCharts.presence(m), "One bar per metric: the share of the pivoted rows where it "
+        + "has a value, least present first." + (m.dropsSparse() ? " The dashed line is input.long.min-presence; "
+            + "metrics below it were left out of the fit (in orange, labelled dropped)." : " An apply job keeps "
+            + "the model's metrics however sparse; their gaps follow prepare.missing.")
+        + (m.bars().size() < m.metricsTotal() ? " The " + m.bars().size() + " least present of "
+            + Fmt.count(m.metricsTotal()) + " metrics are drawn; metric-columns.csv lists every metric with its "
+            + "presence." : ""));
+    if (!m.renamed().isEmpty()) {
+      b.append("<h3>Renamed metrics</h3>\n<p class=\"note\">These metric names are not column names as they "
+          + "stand; each became the column beside it (the same name always gives the same column).</p>\n");
+      HtmlReport.table(b, "renamed-table", List.of("metric", "column"), 2, m.renamed());
+      if (m.renamed().size() < m.renamedTotal()) {
+        b.append("<p class=\"note\">The first ").append(m.renamed().size()).append(" of ")
+            .append(Fmt.count(m.renamedTotal())).append(" renamed metrics are listed; metric-columns.csv has all of"
+                + " them.</p>\n");
+      }
+    }
+    HtmlReport.close(b);
+  }
+
   static void snapshots(StringBuilder b, SnapshotModel m) {
     if (m == null) {
       return;

@@ -276,7 +276,11 @@ public final class JobRunner {
 
     /** The fit's own timings, then the run's steps. */
     Map<String, Double> timings() {
-      Map<String, Double> timings = new LinkedHashMap<>(fitTimings);
+      Map<String, Double> timings = new LinkedHashMap<>();
+      if (plan.longInput() != null && plan.longInput().pivoted() != null) {
+        timings.put("pivot", plan.longInput().pivoted().seconds());
+      }
+      timings.putAll(fitTimings);
       timings.putAll(clock.timings());
       return timings;
     }
