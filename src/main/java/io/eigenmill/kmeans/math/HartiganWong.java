@@ -96,7 +96,11 @@ public final class HartiganWong {
     return s;
   }
 
-  /** The means of the clusters of {@code owner} into {@code centres} (an empty cluster keeps its value), and sizes. */
+  /**
+   * The means of the clusters of {@code owner} into {@code centres} (an empty cluster keeps its value), and sizes.
+   * Two passes: the plain mean, then the mean of the residuals added to it (the residuals of equal points are exact,
+   * so a cluster of equal points gets exactly their value).
+   */
   static void means(double[] points, int m, int d, int[] owner, int k, double[] centres, long[] sizes) {
     double[] sums = new double[k * d];
     java.util.Arrays.fill(sizes, 0);
@@ -107,10 +111,23 @@ public final class HartiganWong {
         sums[c * d + l] += points[i * d + l];
       }
     }
+    double[] plain = new double[k * d];
+    for (int c = 0; c < k; c++) {
+      for (int l = 0; l < d; l++) {
+        plain[c * d + l] = sizes[c] > 0 ? sums[c * d + l] / sizes[c] : 0;
+      }
+    }
+    java.util.Arrays.fill(sums, 0.0);
+    for (int i = 0; i < m; i++) {
+      int c = owner[i];
+      for (int l = 0; l < d; l++) {
+        sums[c * d + l] += points[i * d + l] - plain[c * d + l];
+      }
+    }
     for (int c = 0; c < k; c++) {
       if (sizes[c] > 0) {
         for (int l = 0; l < d; l++) {
-          centres[c * d + l] = sums[c * d + l] / sizes[c];
+          centres[c * d + l] = plain[c * d + l] + sums[c * d + l] / sizes[c];
         }
       }
     }
