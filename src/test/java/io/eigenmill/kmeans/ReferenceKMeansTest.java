@@ -94,6 +94,10 @@ class ReferenceKMeansTest extends SparkSuite {
           "stopped by the rule");
       assertEquals(wss, restarts.min(), 1e-9 * wss, "the confirmed best is the driver's best");
       assertTrue(restarts.min() <= restarts.median() && restarts.median() <= restarts.max());
+      Row row = table.get(k - 2);
+      assertEquals(restarts.run(), row.getInt(row.fieldIndex("restarts_run")), "k-selection restarts_run");
+      assertEquals(restarts.atBest(), row.getInt(row.fieldIndex("restarts_at_best")));
+      assertEquals(restarts.max(), row.getDouble(row.fieldIndex("restarts_wcss_max")), 0.0);
     }
     report.forEach(System.out::println);
   }
