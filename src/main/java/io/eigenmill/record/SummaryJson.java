@@ -351,6 +351,11 @@ public final class SummaryJson {
     m.put("silhouette", r.silhouette());
     m.put("silhouette_sample", r.silhouetteSample());
     m.put("init_sample", r.initSample());
+    for (ClusterResult.KScore k : r.selection()) {
+      if (k.k() == r.k()) {
+        putRestarts(m, k.restarts());
+      }
+    }
     m.put("sizes", r.sizes());
     List<Map<String, Object>> sel = new java.util.ArrayList<>();
     for (ClusterResult.KScore k : r.selection()) {
@@ -360,10 +365,30 @@ public final class SummaryJson {
       e.put("silhouette", k.silhouette());
       e.put("calinski_harabasz", k.calinskiHarabasz());
       e.put("davies_bouldin", k.daviesBouldin());
+      putRestarts(e, k.restarts());
       sel.add(e);
     }
     m.put("k_selection", sel);
     return m;
+  }
+
+  /**
+   * The restarts of one k: {@code restarts_run}, {@code restarts_at_best} (within 1e-9 relative of the lowest),
+   * {@code restarts_wcss} ({@code min}, {@code median}, {@code max} of their within-cluster sums of squares) and
+   * {@code restarts_on_driver}; nothing when unknown.
+   */
+  private static void putRestarts(Map<String, Object> m, ClusterResult.Restarts r) {
+    if (r == null) {
+      return;
+    }
+    m.put("restarts_run", r.run());
+    m.put("restarts_at_best", r.atBest());
+    Map<String, Object> spread = new LinkedHashMap<>();
+    spread.put("min", r.min());
+    spread.put("median", r.median());
+    spread.put("max", r.max());
+    m.put("restarts_wcss", spread);
+    m.put("restarts_on_driver", r.onDriver());
   }
 
   static Map<String, Object> fitSection(FitResult fit) {

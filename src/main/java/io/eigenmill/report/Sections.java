@@ -298,6 +298,8 @@ final class Sections {
     b.append("<div class=\"tablewrap\"><table class=\"selection-table\"><thead><tr><th class=\"num\">k</th>")
         .append("<th class=\"num\">within-cluster sum of squares</th><th class=\"num\">silhouette</th>")
         .append("<th class=\"num\">Calinski-Harabasz</th><th class=\"num\">Davies-Bouldin (lower is better)</th>")
+        .append("<th class=\"num\">restarts at the best / run</th>")
+        .append("<th class=\"num\">restarts' within-cluster SS min / median / max</th>")
         .append("</tr></thead><tbody>");
     for (ClusterModel.Selection s : m.selection()) {
       b.append(s.chosen() ? "<tr class=\"chosen\">" : "<tr>");

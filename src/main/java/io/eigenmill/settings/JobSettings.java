@@ -186,7 +186,9 @@ public record JobSettings(
       int initSample,
       long seed,
       String entity,
-      boolean entitySpread) implements Serializable {}
+      boolean entitySpread,
+      int restartsAtBest,
+      int maxRestarts) implements Serializable {}
 
   /**
    * @param snapshots a snapshot store the fit also writes its moments to, one snapshot per value of

@@ -196,7 +196,8 @@ public final class SettingsReader {
         f.intIn("cluster.restarts", 1, 1000), f.intIn("cluster.max-iterations", 1, 100_000),
         f.positive("cluster.tolerance"), f.intIn("cluster.silhouette-sample", 10, 100_000),
         f.intIn("cluster.init-sample", 0, 10_000_000), f.longValue("cluster.seed"), f.string("cluster.entity"),
-        f.bool("cluster.entity-spread"));
+        f.bool("cluster.entity-spread"), f.intIn("cluster.restarts-at-best", 1, 1000),
+        f.intIn("cluster.max-restarts", 0, 100_000));
     var output = new JobSettings.Output(f.required("output.path"),
         f.choice("output.mode", Choices.OutputMode.values()), f.bool("output.scores"),
         f.bool("output.reconstruction"), f.intIn("output.report-sample", 0, 50_000),

@@ -53,6 +53,8 @@ class SettingsReaderTest {
     assertEquals(ref.getBoolean("cluster.enabled"), s.cluster().enabled());
     assertEquals(ref.getString("cluster.select-by"), s.cluster().selectBy().word());
     assertEquals(ref.getInt("cluster.restarts"), s.cluster().restarts());
+    assertEquals(ref.getInt("cluster.restarts-at-best"), s.cluster().restartsAtBest());
+    assertEquals(ref.getInt("cluster.max-restarts"), s.cluster().maxRestarts());
     assertEquals(ref.getString("spark.master"), s.spark().master());
     assertEquals("job", s.name(), "the name defaults to the job file's base name");
   }
