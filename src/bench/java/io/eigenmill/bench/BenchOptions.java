@@ -20,19 +20,26 @@ import java.util.Set;
  * @param windows only the windows case: a 7-day refit from moment snapshots against the data fit ({@link WindowRun})
  * @param groups only the groups cases: one model per group in one pass against one model and against separate
  *     filtered fits ({@link GroupRun})
+ * @param longInput only the long-input case: the main table written long (one row per host, time, metric), our long
+ *     fit against Spark's pivot followed by our wide fit, and a plain read of the long table ({@link LongRun}); the
+ *     main table then has {@link #LONG_ROWS} rows unless {@code --rows} is given
  * @param command the command as typed, for the results file
  */
 public record BenchOptions(long rows, int features, int cores, int reps, Path data, List<BenchCase> cases,
-    boolean casesGiven, boolean scaling, boolean wide, boolean windows, boolean groups, boolean smoke, Path out, String command) {
+    boolean casesGiven, boolean scaling, boolean wide, boolean windows, boolean groups, boolean longInput,
+    boolean smoke, Path out, String command) {
 
   public static final long DEFAULT_ROWS = 2_000_000L;
   public static final int DEFAULT_FEATURES = 100;
   public static final long SMOKE_ROWS = 20_000L;
+  /** Rows of the main table the long-input case writes long (times d = 100 metrics: 50 million long rows). */
+  public static final long LONG_ROWS = 500_000L;
   public static final int SMOKE_FEATURES = 20;
 
   public static final String USAGE = String.join("\n",
       "usage: local-demo/bench [--rows N] [--features D] [--cores C] [--reps R] [--data DIR] [--cases LIST]",
-      "                        [--scaling] [--wide] [--windows] [--groups] [--smoke] [--out FILE]",
+      "                        [--scaling] [--wide] [--windows] [--groups] [--long] [--smoke]",
+      "                        [--out FILE]",
       "  --rows N      rows of the main table (default 2000000)",
       "  --features D  numeric features (default 100)",
       "  --cores C     Spark local[C] (default 2)",
@@ -48,6 +55,10 @@ public record BenchOptions(long rows, int features, int cores, int reps, Path da
       "  --groups      only the groups cases on the main table copied with group columns g10, g1000, g10000: one",
       "                model against reduce.group-by with 10 and 1,000 groups, 10 separate filtered fits (input.where),",
       "                and 10,000 groups once with its peak heap; fit step and whole job",
+      "  --long        only the long-input case: the main table at 500000 rows (unless --rows) written long, one",
+      "                row per (host, ts, metric, value), 50 million rows at d = 100; our long fit (input.layout =",
+      "                long, 5-minute buckets, mean) against Spark's groupBy(host, bucket).pivot(metric, names)",
+      "                .agg(avg(value)) followed by our wide fit, and a plain read of the long table",
       "  --smoke       tiny table (20000 x 20 unless given), 1 repetition, no warm-up",
       "  --out FILE    results as markdown (default local-demo/BENCHMARKS.md); only this run's sections are replaced");
 
@@ -74,6 +85,7 @@ public record BenchOptions(long rows, int features, int cores, int reps, Path da
     boolean wide = false;
     boolean windows = false;
     boolean groups = false;
+    boolean longInput = false;
     boolean smoke = false;
     for (int i = 0; i < args.length; i++) {
       String a = args[i];
@@ -92,6 +104,7 @@ public record BenchOptions(long rows, int features, int cores, int reps, Path da
         case "--wide" -> wide = true;
         case "--windows" -> windows = true;
         case "--groups" -> groups = true;
+        case "--long" -> longInput = true;
         case "--smoke" -> smoke = true;
         default -> throw new IllegalArgumentException("unknown argument '" + a + "'");
       }
@@ -106,14 +119,17 @@ public record BenchOptions(long rows, int features, int cores, int reps, Path da
       throw new IllegalArgumentException("--groups runs only its own cases: drop --windows, --wide, --scaling and "
           + "--cases");
     }
-    long n = rows != null ? rows : smoke ? SMOKE_ROWS : DEFAULT_ROWS;
+    if (longInput && (groups || windows || wide || scaling || casesGiven)) {
+      throw new IllegalArgumentException("--long runs only its own case: drop --groups, --windows, --wide, "
+          + "--scaling and --cases");
+    }
+    long n = rows != null ? rows : smoke ? SMOKE_ROWS : longInput ? LONG_ROWS : DEFAULT_ROWS;
     int d = features != null ? features : smoke ? SMOKE_FEATURES : DEFAULT_FEATURES;
     if (d < 11) {
       throw new IllegalArgumentException("--features " + d + ": at least 11 (the fits keep k = 10 components)");
     }
-    return new BenchOptions(n, d, cores, reps, data, new ArrayList<>(cases), casesGiven, scaling, wide, windows, groups, smoke,
-        out,
-        command(args));
+    return new BenchOptions(n, d, cores, reps, data, new ArrayList<>(cases), casesGiven, scaling, wide, windows,
+        groups, longInput, smoke, out, command(args));
   }
 
   private static Set<BenchCase> casesOf(String list) {

@@ -13,7 +13,8 @@ import org.apache.spark.sql.SparkSession;
  * columns, a plain Parquet write of the scores' shape) and against the engine's own PCA and k-means, with accuracy
  * beside speed, in one run; optionally scaling in rows, or (in a run of its own) wide tables with their peak heap, or a window refit
  * from moment snapshots against the data fit ({@code --windows}), or one model per group against one model and
- * against separate filtered fits ({@code --groups}).
+ * against separate filtered fits ({@code --groups}), or the long-input fit against Spark's pivot followed by our
+ * wide fit ({@code --long}).
  * Results go to a markdown file ({@code --out}) and the console. Run it with {@code local-demo/bench}; flags in
  * {@link BenchOptions#USAGE}.
  *
@@ -86,6 +87,18 @@ public final class Benchmark {
           GroupRun.render(r, Report.header(machine, options, loadBefore, Machine.loadAverage()))));
       System.out.println(GroupRun.render(groups, Report.header(machine, options, loadBefore,
           Machine.loadAverage())));
+      return new Outcome(null, null, null, options.out());
+    }
+    if (options.longInput()) {
+      LongRun.LongResult longInput = LongRun.run(spark, options);
+      String body = LongRun.render(longInput, Report.header(machine, options, loadBefore, Machine.loadAverage()),
+          options.cores());
+      System.out.println(body);
+      Report.writeSection(options.out(), "long", body);
+      if (!longInput.agree()) {
+        throw new IllegalStateException("the long fit and the Spark route gave different models: "
+            + longInput.check());
+      }
       return new Outcome(null, null, null, options.out());
     }
     if (options.wide()) {

@@ -268,7 +268,7 @@ final class GroupRun {
   }
 
   /** The body, with the epoch-millisecond window of its latest call kept under {@code c}. */
-  private static <T> Callable<T> watched(Map<Case, long[]> windows, Case c, Callable<T> body) {
+  static <K, T> Callable<T> watched(Map<K, long[]> windows, K c, Callable<T> body) {
     return () -> {
       long t0 = System.currentTimeMillis();
       T v = body.call();
@@ -368,7 +368,8 @@ final class GroupRun {
     return new SettingsReader().readString(String.join("\n", lines), List.of(), "bench-groups");
   }
 
-  private static String stages(Map<String, Double> seconds) {
+  /** The fit's own timings, "stage seconds, ...". */
+  static String stages(Map<String, Double> seconds) {
     List<String> parts = new ArrayList<>();
     seconds.forEach((stage, v) -> parts.add(stage + " " + String.format(Locale.ROOT, "%.3f", v)));
     return String.join(", ", parts);
@@ -416,7 +417,8 @@ final class GroupRun {
     return s.toString();
   }
 
-  private static String shortPath(String path) {
+  /** The path from {@code local-demo/} on, when it lies under it. */
+  static String shortPath(String path) {
     int i = path.indexOf("local-demo/");
     return i < 0 ? path : path.substring(i);
   }

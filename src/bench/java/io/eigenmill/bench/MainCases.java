@@ -173,7 +173,19 @@ final class MainCases {
         (FitResult f) -> f.passes() + (f.passes() == 1 ? " pass, " : " passes, ") + (f.columnarRead()
             ? "columnar batches (column copy " + io.eigenmill.math.ShiftedCopy.best().describe() + ")"
             : "Row path") + ", k = " + f.model().k() + ", " + f.blas() + " ("
-            + stages(f.timings()) + ")").keeping(r -> fits.put(method, r));
+            + stages(f.timings()) + ")" + accuracyNote(f)).keeping(r -> fits.put(method, r));
+  }
+
+  /** The randomized fit's own accuracy: its bound against the tolerance and the passes the tolerance added. */
+  private static String accuracyNote(FitResult f) {
+    var a = f.randomizedAccuracy();
+    if (a == null) {
+      return "";
+    }
+    return String.format(Locale.ROOT, "; accuracy bound %.2e (tolerance %s, %s) after %d power iterations, %d"
+        + " added for the tolerance; bound by pass %s", a.figures().bound(), Double.toString(a.tolerance()),
+        a.targetMet() ? "met" : "not met", a.powerIterationsRun(), a.extraPasses(),
+        Arrays.stream(a.boundByPass()).mapToObj(x -> String.format(Locale.ROOT, "%.1e", x)).toList());
   }
 
   private Prepared<PCAModel> builtinPca() {

@@ -44,9 +44,8 @@ import scala.Tuple2;
  * table has rows), then gathers the cells of each key in a second aggregation: two hash aggregations and a shuffle
  * of every cell. Here a cell is a slot of an array from the first row on.
  *
- * <p>The input ({@code prepared}) has four columns: {@code k} a struct of the key columns (the time bucket last when
- * the table is timed), {@code metric} a string, {@code value} a double, {@code t} a long (the time, for
- * {@code last}).
+ * <p>The input ({@code prepared}) has the key columns first (the time bucket last when the table is timed), then
+ * {@code metric} a string, {@code value} a double, {@code t} a long (the time, for {@code last}).
  */
 public final class LongPivot {
   private LongPivot() {}
@@ -54,7 +53,7 @@ public final class LongPivot {
   /**
    * What a pivot reads and makes.
    *
-   * @param keySchema the fields of the key struct
+   * @param keySchema the key columns (the first columns of the input)
    * @param timed true when the last key field is the time bucket (a null there skips the row)
    * @param metrics the wanted metric names, in column order
    * @param flushBytes a map task sends its cells on when they hold more than this
@@ -164,7 +163,12 @@ public final class LongPivot {
         index.put(UTF8String.fromString(spec.metrics().get(j)), j);
       }
       int keyFields = spec.keySchema().size();
-      UnsafeProjection project = UnsafeProjection.create(spec.keySchema());
+      int metricAt = keyFields;
+      int valueAt = keyFields + 1;
+      int timeAt = keyFields + 2;
+      // the binary key: the input row's first columns, copied into a row of their own (reused between calls)
+      UnsafeProjection project = UnsafeProjection.create(
+          Arrays.stream(spec.keySchema().fields()).map(f -> f.dataType()).toArray(DataType[]::new));
       long budgetRows = Math.max(1, spec.flushBytes() / MetricCells.bytesPerRow(spec.aggregate(), m));
       return new Iterator<>() {
         private final Map<UnsafeRow, MetricCells> cells = new HashMap<>();
@@ -212,30 +216,29 @@ public final class LongPivot {
           while (rows.hasNext() && cells.size() < budgetRows) {
             InternalRow row = rows.next();
             read++;
-            if (row.isNullAt(1)) {
+            if (row.isNullAt(metricAt)) {
               nullMetric++;
               continue;
             }
-            Integer j = index.get(row.getUTF8String(1));
+            Integer j = index.get(row.getUTF8String(metricAt));
             if (j == null) {
               otherMetric++;
               continue;
             }
-            if (row.isNullAt(2)) {
+            if (row.isNullAt(valueAt)) {
               nullValue++;
               continue;
             }
-            double v = row.getDouble(2);
+            double v = row.getDouble(valueAt);
             if (!Double.isFinite(v)) {
               nonFinite++;
               continue;
             }
-            InternalRow keyStruct = row.getStruct(0, keyFields);
-            if (spec.timed() && keyStruct.isNullAt(keyFields - 1)) {
+            if (spec.timed() && row.isNullAt(keyFields - 1)) {
               nullTime++;
               continue;
             }
-            UnsafeRow key = project.apply(keyStruct);
+            UnsafeRow key = project.apply(row);
             MetricCells c;
             if (lastKey != null && lastKey.equals(key)) {
               c = lastCells;
@@ -250,7 +253,7 @@ public final class LongPivot {
               lastKey = owners.get(c);
               lastCells = c;
             }
-            c.add(j, v, row.isNullAt(3) ? 0L : row.getLong(3));
+            c.add(j, v, row.isNullAt(timeAt) ? 0L : row.getLong(timeAt));
           }
           if (!rows.hasNext()) {
             report();

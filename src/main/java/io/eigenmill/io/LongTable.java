@@ -182,12 +182,6 @@ public final class LongTable {
       throw new InvalidJobException(problems);
     }
     Dataset<Row> filtered = InputFilter.apply(raw, input);
-    List<String> named = new ArrayList<>(layout.entity());
-    named.add(layout.metric());
-    named.add(layout.value());
-    if (layout.timed()) {
-      named.add(layout.time());
-    }
     List<String> carried = carried(raw, input);
     List<String> keyColumns = new ArrayList<>(layout.entity());
     keyColumns.addAll(carried);
@@ -234,9 +228,13 @@ public final class LongTable {
       Column start = width == 0 ? time : time.minus(functions.pmod(time, functions.lit(width)));
       keys[keys.length - 1] = (seconds ? start : functions.timestamp_micros(start)).as(layout.time());
     }
-    Dataset<Row> prepared = filtered.select(functions.struct(keys).as("k"), functions.col(layout.metric())
-        .as("metric"), functions.col(layout.value()).cast("double").as("value"), time.as("t"));
-    StructType keySchema = (StructType) prepared.schema().fields()[0].dataType();
+    List<Column> selected = new ArrayList<>(List.of(keys));
+    selected.add(functions.col(layout.metric()).as("__metric"));
+    selected.add(functions.col(layout.value()).cast("double").as("__value"));
+    selected.add(time.as("__t"));
+    Dataset<Row> prepared = filtered.select(selected.toArray(Column[]::new));
+    StructType keySchema = DataTypes.createStructType(java.util.Arrays.copyOf(prepared.schema().fields(),
+        keys.length));
     List<StructField> fields = new ArrayList<>(List.of(keySchema.fields()));
     for (String c : columns) {
       fields.add(DataTypes.createStructField(c, DataTypes.DoubleType, true));

@@ -24,7 +24,9 @@ import org.slf4j.LoggerFactory;
 
 /**
  * Clusters the rows of a points table, or its entities (e.g. hosts), with k-means: k-means|| initialisation, Lloyd
- * iterations, several restarts keeping the lowest within-cluster sum of squares, for a fixed k or for every k of a
+ * iterations, several restarts keeping the lowest within-cluster sum of squares (on a table of at most
+ * {@code cluster.init-sample} rows: restarts on the driver until the best is reached by
+ * {@code cluster.restarts-at-best} of them, refined by single-point moves), for a fixed k or for every k of a
  * range, choosing k by the silhouette, Calinski-Harabasz or Davies-Bouldin ({@link ParallelKMeans},
  * {@link KChoice}).
  *
@@ -101,7 +103,8 @@ public final class ClusterJob {
       double totalSs = totalSs(moments);
       double radius = Math.sqrt(totalSs / moments.count());
       ParallelKMeans kmeans = new ParallelKMeans(spark, blocks, d, mean, settings.seed(),
-          settings.maxIterations(), settings.tolerance());
+          settings.maxIterations(), settings.tolerance())
+          .driverRestarts(settings.restarts(), settings.restartsAtBest(), settings.maxRestarts());
       List<Fitted> fitted;
       try {
         fitted = kmeans.fit(runs, summary, radius);
@@ -109,7 +112,7 @@ public final class ClusterJob {
         throw tooFew(e.k(), e.distinct() + " distinct", byEntity);
       }
       clock.lap("k-means");
-      KChoice choice = KChoice.of(settings, fitted, summary, totalSs, d);
+      KChoice choice = KChoice.of(settings, fitted, summary, totalSs, d, kmeans.restartSpread());
       clock.lap("quality");
       warnings.addAll(choice.notes(settings));
       ClusterResult result = profiles.result(choice, summary, space, settings.entity(), dims,

@@ -31,7 +31,20 @@ public record ClusterResult(
     int silhouetteSample,
     int initSample) {
 
-  public record KScore(int k, double wcss, double silhouette, double calinskiHarabasz, double daviesBouldin) {}
+  /**
+   * @param restarts how the restarts of this k went; null when not known
+   */
+  public record KScore(int k, double wcss, double silhouette, double calinskiHarabasz, double daviesBouldin,
+      Restarts restarts) {}
+
+  /**
+   * The restarts of one k: how many ran, how many reached the lowest within-cluster sum of squares (within 1e-9
+   * relative), and the lowest, median and highest within-cluster sum of squares among them.
+   *
+   * @param onDriver true when they ran on the driver over every point (a table of at most cluster.init-sample
+   *     rows; the best was then confirmed by Lloyd passes over all rows); false for k-means|| restarts
+   */
+  public record Restarts(int run, int atBest, double min, double median, double max, boolean onDriver) {}
 
   /** The features that most distinguish a cluster, largest |standardised difference| first. */
   public record Profile(int cluster, long size, double share, List<FeatureShift> distinguishing) {}

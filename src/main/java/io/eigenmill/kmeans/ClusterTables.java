@@ -99,7 +99,12 @@ public final class ClusterTables {
         .add("calinski_harabasz", DataTypes.DoubleType, false)
         .add("davies_bouldin", DataTypes.DoubleType, false)
         .add("chosen", DataTypes.BooleanType, false)
-        .add("sizes", DataTypes.createArrayType(DataTypes.LongType, false), false);
+        .add("sizes", DataTypes.createArrayType(DataTypes.LongType, false), false)
+        .add("restarts_run", DataTypes.IntegerType, true)
+        .add("restarts_at_best", DataTypes.IntegerType, true)
+        .add("restarts_wcss_min", DataTypes.DoubleType, true)
+        .add("restarts_wcss_median", DataTypes.DoubleType, true)
+        .add("restarts_wcss_max", DataTypes.DoubleType, true);
     List<Row> rows = new ArrayList<>();
     for (int i = 0; i < r.selection().size(); i++) {
       ClusterResult.KScore s = r.selection().get(i);
@@ -109,8 +114,10 @@ public final class ClusterTables {
       for (int c = 0; c < sorted.length; c++) {
         descending[c] = sorted[sorted.length - 1 - c];
       }
+      ClusterResult.Restarts rs = s.restarts();
       rows.add(RowFactory.create(s.k(), s.wcss(), s.silhouette(), s.calinskiHarabasz(), s.daviesBouldin(),
-          s.k() == r.k(), descending));
+          s.k() == r.k(), descending, rs == null ? null : rs.run(), rs == null ? null : rs.atBest(),
+          rs == null ? null : rs.min(), rs == null ? null : rs.median(), rs == null ? null : rs.max()));
     }
     return spark.createDataFrame(rows, schema).coalesce(1);
   }

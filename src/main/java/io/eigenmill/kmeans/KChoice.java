@@ -26,6 +26,7 @@ final class KChoice {
   private final int chosen;
   private final String rule;
   private final int sampleSize;
+  private final Map<Integer, ParallelKMeans.Spread> spread = new TreeMap<>();
 
   private KChoice(List<Fitted> best, int restarts, double[] silhouette, double[] ch, double[] db, int chosen,
       String rule, int sampleSize) {
@@ -39,7 +40,17 @@ final class KChoice {
     this.sampleSize = sampleSize;
   }
 
-  static KChoice of(JobSettings.Cluster s, List<Fitted> fitted, PointSummary summary, double totalSs, int d) {
+  static KChoice of(JobSettings.Cluster s, List<Fitted> fitted, PointSummary summary, double totalSs, int d,
+      List<ParallelKMeans.Spread> restarts) {
+    KChoice c = of(s, fitted, summary, totalSs, d);
+    for (ParallelKMeans.Spread sp : restarts) {
+      c.spread.put(sp.k(), sp);
+    }
+    return c;
+  }
+
+  private static KChoice of(JobSettings.Cluster s, List<Fitted> fitted, PointSummary summary, double totalSs,
+      int d) {
     Map<Integer, Fitted> byK = new TreeMap<>();
     for (Fitted f : fitted) {
       Fitted held = byK.get(f.run().k());
@@ -106,8 +117,11 @@ final class KChoice {
     List<ClusterResult.KScore> out = new ArrayList<>();
     for (int i = 0; i < best.size(); i++) {
       Fitted f = best.get(i);
+      ParallelKMeans.Spread sp = spread.get(f.run().k());
+      ClusterResult.Restarts restarts = sp == null ? null
+          : new ClusterResult.Restarts(sp.run(), sp.atBest(), sp.min(), sp.median(), sp.max(), sp.onDriver());
       out.add(new ClusterResult.KScore(f.run().k(), f.wcss(), silhouette[i], calinskiHarabasz[i],
-          daviesBouldin[i]));
+          daviesBouldin[i], restarts));
     }
     return out;
   }
@@ -125,9 +139,11 @@ final class KChoice {
     List<String> out = new ArrayList<>();
     for (Fitted f : best) {
       if (!f.converged()) {
+        ParallelKMeans.Spread sp = spread.get(f.run().k());
         out.add(String.format(Locale.ROOT, "k = %d: the best of %d restarts stopped at cluster.max-iterations = %d"
             + " with a centroid still moving more than cluster.tolerance = %g times the data's RMS radius;"
-            + " raise cluster.max-iterations", f.run().k(), restarts, s.maxIterations(), s.tolerance()));
+            + " raise cluster.max-iterations", f.run().k(), sp == null ? restarts : sp.run(), s.maxIterations(),
+            s.tolerance()));
       }
       if (f.reseeds() > 0) {
         out.add("k = " + f.run().k() + ": the best restart re-seeded " + f.reseeds() + " empty cluster"

@@ -1,5 +1,6 @@
 package io.eigenmill.kmeans;
 
+import io.eigenmill.kmeans.math.DriverRestarts;
 import io.eigenmill.kmeans.math.KMeansSeeding;
 import io.eigenmill.kmeans.math.LloydStats;
 import io.eigenmill.kmeans.math.NearestKeys;
@@ -48,6 +49,16 @@ import org.slf4j.LoggerFactory;
  * deterministically with the row farthest from its centroid (the next farthest for a second empty cluster, ties by
  * identity), counted in {@link Fitted#reseeds}, and the run is not considered converged in that iteration.
  *
+ * <p><b>Restarts on the driver when the points are few.</b> When the initialisation sample holds every row (a table
+ * of at most {@code cluster.init-sample} rows) and {@code cluster.max-restarts} is positive, the restarts of each k
+ * run on the driver over all the points instead ({@link DriverRestarts}: k-means++, Lloyd, Hartigan-Wong
+ * single-point moves), as many as it takes for the best within-cluster sum of squares to be reached by
+ * {@code cluster.restarts-at-best} of them (at least {@code cluster.restarts}, at most {@code cluster.max-restarts},
+ * fewer when the points' cost caps them); only the best of each k goes on to the Lloyd passes over the cache, which
+ * confirm it (a partition no single move improves is a fixed point of Lloyd) and report its exact state. Larger
+ * tables keep k-means|| with {@code cluster.restarts} restarts side by side. {@link #restartSpread} reports, per k,
+ * the restarts run, how many reached the best, and the spread of their within-cluster sums of squares.
+ *
  * <p>Passes: 1 summary (done by the caller) + Lloyd iterations (the slowest run's count), plus {@link #ROUNDS}
  * rounds + 1 (weights) when the initialisation runs over all rows, where a round whose kept rows overflow costs one
  * more pass (rare: see {@link #KEPT_PER_OVERSAMPLE}). Centroids travel as
@@ -79,6 +90,15 @@ public final class ParallelKMeans {
    * and the driver's copy stay small at any d.
    */
   public static final int INIT_SAMPLE_VALUES = 1 << 21;
+
+  /**
+   * The restarts of one k: how many ran, how many reached the lowest within-cluster sum of squares (within
+   * {@link DriverRestarts#SAME} relative), and the lowest, median and highest of their within-cluster sums of
+   * squares. On the driver these are the driver's restarts (the best is then confirmed over the cache); otherwise
+   * the k-means|| restarts' final states.
+   */
+  public record Spread(int k, int run, int atBest, double min, double median, double max, boolean onDriver)
+      implements Serializable {}
 
   /** One k-means run: the number of clusters and the restart number (0-based). */
   public record Run(int k, int restart) implements Serializable {}
@@ -124,6 +144,10 @@ public final class ParallelKMeans {
   private final int maxIterations;
   private final double tolerance;
   private int passes;
+  private int minRestarts = 1;
+  private int restartsAtBest = 1;
+  private int maxRestarts = 0;
+  private List<Spread> spread = List.of();
   private static final NearestKeys DRIVER_KERNEL = new NearestKeys.Scalar();
   /** Rows of the sample the last fit's initialisation ran on; 0 when it ran over all rows. */
   private int initRows;
@@ -140,6 +164,22 @@ public final class ParallelKMeans {
     this.seed = seed;
     this.maxIterations = maxIterations;
     this.tolerance = tolerance;
+  }
+
+  /**
+   * Restarts on the driver (see the class comment): at least {@code min}, stopping once {@code atBest} reached the
+   * best, at most {@code max}; {@code max = 0} keeps k-means|| restarts for every table.
+   */
+  public ParallelKMeans driverRestarts(int min, int atBest, int max) {
+    this.minRestarts = min;
+    this.restartsAtBest = atBest;
+    this.maxRestarts = max;
+    return this;
+  }
+
+  /** Per k of the last {@link #fit}, in increasing k: the restarts and the spread of their results. */
+  public List<Spread> restartSpread() {
+    return spread;
   }
 
   /** Rows of the sample the last {@link #fit}'s k-means|| ran on; 0 when it ran over all rows. */
@@ -160,9 +200,16 @@ public final class ParallelKMeans {
    * @throws TooFewDistinctPoints when a run's k exceeds the number of distinct points
    */
   public List<Fitted> fit(List<Run> runs, PointSummary summary, double radius) {
+    initRows = 0;
+    if (maxRestarts > 0 && summary.initSample != null
+        && summary.initSampleSize() >= summary.moments().count()) {
+      List<Fitted> onDriver = fitOnDriver(runs, summary, radius);
+      if (onDriver != null) {
+        return onDriver;
+      }
+    }
     List<PointBlock> sample = summary.initBlocks(ClusterPasses.CHUNK_ROWS);
     double[][] starts = null;
-    initRows = 0;
     if (sample != null) {
       long t0 = System.nanoTime();
       try {
@@ -182,7 +229,74 @@ public final class ParallelKMeans {
     if (starts == null) {
       starts = new KMeansParallelInit(this, d, shift, seed).initialise(runs, summary, null);
     }
-    return lloyd(runs, starts, radius);
+    List<Fitted> fitted = lloyd(runs, starts, radius);
+    spread = spreadOf(fitted);
+    return fitted;
+  }
+
+  /**
+   * The driver's restarts over every point (the initialisation sample is the whole table), then one Lloyd run per k
+   * over the cache from the best; null when the points have fewer than k distinct values (k-means|| then reports
+   * it).
+   */
+  private List<Fitted> fitOnDriver(List<Run> runs, PointSummary summary, double radius) {
+    int m = summary.initSampleSize();
+    double[] pts = summary.initSample.points();
+    for (int i = 0; i < m; i++) {
+      for (int l = 0; l < d; l++) {
+        pts[i * d + l] -= shift[l];
+      }
+    }
+    java.util.TreeSet<Integer> ks = new java.util.TreeSet<>();
+    for (Run r : runs) {
+      ks.add(r.k());
+    }
+    long t0 = System.nanoTime();
+    List<Run> best = new ArrayList<>();
+    double[][] starts = new double[ks.size()][];
+    List<Spread> out = new ArrayList<>();
+    for (int k : ks) {
+      DriverRestarts.Outcome o;
+      try {
+        o = DriverRestarts.run(pts, m, d, k, seed, minRestarts, restartsAtBest, maxRestarts);
+      } catch (IllegalArgumentException e) {
+        return null; // fewer than k distinct points
+      }
+      starts[best.size()] = o.centres();
+      best.add(new Run(k, 0));
+      double[] w = o.wcss();
+      out.add(new Spread(k, o.restarts(), o.atBest(), o.best(), DriverRestarts.median(w),
+          java.util.Arrays.stream(w).max().orElse(Double.NaN), true));
+      LOG.info("k-means: k = {}: {} restarts on the driver over all {} points, {} reached the best {}", k,
+          o.restarts(), m, o.atBest(), o.best());
+    }
+    LOG.info("k-means: driver restarts took {} ms", (System.nanoTime() - t0) / 1_000_000);
+    initRows = m;
+    List<Fitted> fitted = lloyd(best, starts, radius);
+    spread = List.copyOf(out);
+    return fitted;
+  }
+
+  /** The spread of the k-means|| restarts of each k from their final states. */
+  private static List<Spread> spreadOf(List<Fitted> fitted) {
+    java.util.Map<Integer, List<Double>> byK = new java.util.TreeMap<>();
+    for (Fitted f : fitted) {
+      byK.computeIfAbsent(f.run().k(), x -> new ArrayList<>()).add(f.wcss());
+    }
+    List<Spread> out = new ArrayList<>();
+    byK.forEach((k, list) -> {
+      double[] w = list.stream().mapToDouble(Double::doubleValue).toArray();
+      double min = java.util.Arrays.stream(w).min().orElse(Double.NaN);
+      int at = 0;
+      for (double x : w) {
+        if (x <= min * (1 + DriverRestarts.SAME)) {
+          at++;
+        }
+      }
+      out.add(new Spread(k, w.length, at, min, DriverRestarts.median(w),
+          java.util.Arrays.stream(w).max().orElse(Double.NaN), false));
+    });
+    return List.copyOf(out);
   }
 
   /** Rows of the initialisation sample for a request of {@code requested} rows (0: none) at dimension d. */

@@ -20,6 +20,8 @@ public final class SeedStream {
   public static final int SILHOUETTE = 4;
   /** Purpose: the sample on which k-means|| chooses the starting centroids. */
   public static final int INIT_SAMPLE = 5;
+  /** Purpose: the k-means++ seeding of one restart run on the driver over every point ({@code DriverRestarts}). */
+  public static final int DRIVER_RESTART = 6;
 
   private static final long GOLDEN = 0x9e3779b97f4a7c15L;
 

@@ -21,6 +21,7 @@ import io.eigenmill.math.Linalg;
 import io.eigenmill.math.Moments;
 import io.eigenmill.pca.math.RFactor;
 import io.eigenmill.pca.math.RandomizedSubspace;
+import io.eigenmill.pca.math.RitzAccuracy;
 import io.eigenmill.pca.math.Spectrum;
 import io.eigenmill.plan.JobPlan;
 import io.eigenmill.plan.MethodChoice;
@@ -43,7 +44,8 @@ import org.slf4j.LoggerFactory;
  * the R factor of the centred rows), then the randomized method's own passes, the decomposition on the driver, the
  * sign convention and the choice of k.
  *
- * <p>Passes: covariance 1, TSQR 1, randomized 2 + power-iterations; one more with impute-mean (the column means). Missing values follow
+ * <p>Passes: covariance 1, TSQR 1, randomized 2 + the power iterations run (power-iterations, plus those added to
+ * reach reduce.randomized.tolerance, up to max-power-iterations); one more with impute-mean (the column means). Missing values follow
  * {@code prepare.missing}; constant columns are dropped with a warning; results do not depend on the partitioning
  * beyond rounding.
  */
@@ -112,7 +114,7 @@ public final class FitJob {
     LOG.info("fit: {} groups, {} with a model, solved on the {}", out.groups().size(), fitted,
         out.onDriver() ? "driver" : "executors");
     return new FitResult(plan, pooled.model(), pooled.spectrum(), pooled.dropped(), counts.rowsRead(),
-        counts.rowsDropped(), impute.cells(), counts.missingCells(), input.columnar(), passes(impute),
+        counts.rowsDropped(), impute.cells(), counts.missingCells(), input.columnar(), passes(impute, null),
         pooled.kRule(), Linalg.describe(), clock.timings(), warnings, null, groups);
   }
 
@@ -177,15 +179,18 @@ public final class FitJob {
       List<String> warnings) {
     ModelSolver solver = solver();
     ModelSolver.Solved solved;
+    RandomizedAccuracy accuracy = null;
     if (plan.method() == Method.RANDOMIZED) {
       List<String> dropped = new ArrayList<>();
       int[] keep = solver.keptColumns(first.means(), first.variances(), dropped);
       solver.checkComponents(keep.length);
       double[] scales = solver.scales(first.variances(), keep);
       int l = Math.min(keep.length, MethodChoice.sketchSize(plan.settings().reduce(), keep.length));
-      Spectrum spectrum = randomizedSpectrum(input, impute.values(), first.means(), keep, scales,
-          first.variances(), first.used(), l);
-      solved = solver.finish(first.used(), first.means(), first.variances(), keep, scales, spectrum, dropped);
+      Randomized randomized = randomizedSpectrum(input, impute.values(), first.means(), keep, scales,
+          first.variances(), first.used(), l, solver);
+      accuracy = randomized.accuracy();
+      solved = solver.finish(first.used(), first.means(), first.variances(), keep, scales, randomized.spectrum(),
+          dropped);
     } else {
       solved = solver.solve(first.moments(), first.rFactor());
     }
@@ -193,6 +198,14 @@ public final class FitJob {
     List<String> dropped = solved.dropped();
     warnAboutLostData(first.counts(), dropped, warnings);
     warnings.addAll(solved.warnings());
+    if (accuracy != null && !accuracy.targetMet()) {
+      warnings.add(String.format(java.util.Locale.ROOT, "randomized method: the accuracy bound on the %d kept"
+          + " components is %.3e of the largest eigenvalue after %d power iterations, above"
+          + " reduce.randomized.tolerance = %s (reduce.randomized.max-power-iterations = %d reached): raise"
+          + " reduce.randomized.oversample or max-power-iterations, or use the covariance method",
+          accuracy.figures().k(), accuracy.figures().bound(), accuracy.powerIterationsRun(),
+          Double.toString(accuracy.tolerance()), accuracy.maxPowerIterations()));
+    }
     Spectrum spectrum = solved.spectrum();
     String rule = solved.kRule();
     PcaModel model = solved.model();
@@ -202,8 +215,8 @@ public final class FitJob {
         firstRatios(spectrum, Math.min(3, spectrum.available())));
     ReadCounts counts = first.counts();
     return new FitResult(plan, model, spectrum, dropped, counts.rowsRead(), counts.rowsDropped(), impute.cells(),
-        counts.missingCells(), input != null && input.columnar(), input == null ? 0 : passes(impute), rule,
-        Linalg.describe(), clock.timings(), warnings, first.snapshots());
+        counts.missingCells(), input != null && input.columnar(), input == null ? 0 : passes(impute, accuracy), rule,
+        Linalg.describe(), clock.timings(), warnings, first.snapshots(), null, accuracy);
   }
 
   /** The imputation values of impute-mean (null otherwise), the cells they fill and the pass that found them. */
@@ -326,9 +339,12 @@ public final class FitJob {
         plan.settings().reduce());
   }
 
-  /** Passes over the input: column means (impute-mean), the first pass, the randomized method's own. */
-  private int passes(Imputation impute) {
-    int own = plan.method() == Method.RANDOMIZED ? plan.settings().reduce().powerIterations() + 1 : 0;
+  /**
+   * Passes over the input: column means (impute-mean), the first pass, the randomized method's own (one per power
+   * iteration run, those added for the tolerance included, and one more).
+   */
+  private int passes(Imputation impute, RandomizedAccuracy accuracy) {
+    int own = accuracy != null ? accuracy.powerIterationsRun() + 1 : 0;
     return impute.passes() + 1 + own;
   }
 
@@ -396,8 +412,18 @@ public final class FitJob {
     return impute == null ? ReadMode.DROP : ReadMode.MARK;
   }
 
-  private Spectrum randomizedSpectrum(FeatureInput input, double[] impute, double[] means, int[] keep,
-      double[] scales, double[] variances, long n, int l) {
+  /** The randomized method's spectrum and what its residuals say about the kept components. */
+  private record Randomized(Spectrum spectrum, RandomizedAccuracy accuracy) {}
+
+  /**
+   * The randomized passes: the start, {@code reduce.randomized.power-iterations} power iterations, then more, one
+   * at a time and each logged, while the bound on the kept components (from the last pass's own product: see
+   * {@link RandomizedSubspace#rayleighRitz}) is above {@code reduce.randomized.tolerance}, up to
+   * {@code reduce.randomized.max-power-iterations}. k is chosen afresh from each pass's spectrum, by the same rule as
+   * the final model.
+   */
+  private Randomized randomizedSpectrum(FeatureInput input, double[] impute, double[] means, int[] keep,
+      double[] scales, double[] variances, long n, int l, ModelSolver solver) {
     JobSettings.Reduce r = plan.settings().reduce();
     int dk = keep.length;
     double trace = 0;
@@ -406,21 +432,43 @@ public final class FitJob {
     }
     BlockPrep prep = centreAndScale(impute, means, variances, keep, scales);
     double[] q = RandomizedSubspace.start(dk, l, r.seed());
-    double[] z = null;
-    for (int it = 0; it <= r.powerIterations(); it++) {
-      Broadcast<double[]> basis = spark.sparkContext().broadcast(q, scala.reflect.ClassTag$.MODULE$.apply(
-          double[].class));
-      try {
-        z = input.run("fit/randomized-pass-" + (it + 1), new BroadcastSketch(dk, l, basis), modeFor(impute),
-            prep).value().product();
-      } finally {
-        basis.destroy();
+    List<Double> history = new ArrayList<>();
+    int iterations = 0;
+    while (true) {
+      double[] z = sketchPass(input, impute, prep, q, dk, l, iterations + 1);
+      RandomizedSubspace.Ritz ritz = RandomizedSubspace.rayleighRitz(q, z, dk, l, n, trace);
+      RitzAccuracy figures = RitzAccuracy.of(ritz, solver.componentsOf(ritz.spectrum()));
+      history.add(figures.bound());
+      boolean met = figures.bound() <= r.randomizedTolerance();
+      if (iterations >= r.powerIterations()) {
+        LOG.info("fit: randomized, {} power iterations: bound {} on k = {} ({} reduce.randomized.tolerance = {})",
+            iterations, String.format(java.util.Locale.ROOT, "%.3e", figures.bound()), figures.k(),
+            met ? "within" : "above", r.randomizedTolerance());
+        if (met || iterations >= r.maxPowerIterations()) {
+          double[] byPass = history.stream().mapToDouble(Double::doubleValue).toArray();
+          return new Randomized(ritz.spectrum(), new RandomizedAccuracy(figures, r.randomizedTolerance(), met,
+              r.powerIterations(), iterations, r.maxPowerIterations(), byPass));
+        }
+        LOG.info("fit: randomized, one more power iteration (pass {} over the data) to reach"
+            + " reduce.randomized.tolerance = {}, at most {} (reduce.randomized.max-power-iterations)",
+            iterations + 2, r.randomizedTolerance(), r.maxPowerIterations());
       }
-      if (it < r.powerIterations()) {
-        q = RandomizedSubspace.next(z, dk, l);
-      }
+      q = RandomizedSubspace.next(z, dk, l);
+      iterations++;
     }
-    return RandomizedSubspace.finish(q, z, dk, l, n, trace);
+  }
+
+  /** One pass Z = A^T A Q over the input, Q broadcast to the executors for the pass. */
+  private double[] sketchPass(FeatureInput input, double[] impute, BlockPrep prep, double[] q, int dk, int l,
+      int number) {
+    Broadcast<double[]> basis = spark.sparkContext().broadcast(q, scala.reflect.ClassTag$.MODULE$.apply(
+        double[].class));
+    try {
+      return input.run("fit/randomized-pass-" + number, new BroadcastSketch(dk, l, basis), modeFor(impute), prep)
+          .value().product();
+    } finally {
+      basis.destroy();
+    }
   }
 
   private static String firstRatios(Spectrum s, int count) {

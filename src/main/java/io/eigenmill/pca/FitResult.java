@@ -15,6 +15,7 @@ import java.util.Map;
  * @param snapshots what the fit wrote to or merged from a snapshot store; null without one
  * @param groups the groups of a grouped fit, each with its model; null without groups ({@code model} is then
  *     the one model; with groups it is the pooled model of all rows)
+ * @param randomizedAccuracy what the randomized method's residuals say about its fit; null for other methods
  */
 public record FitResult(
     JobPlan plan,
@@ -32,7 +33,16 @@ public record FitResult(
     Map<String, Double> timings,
     List<String> warnings,
     SnapshotUse snapshots,
-    Groups groups) {
+    Groups groups,
+    RandomizedAccuracy randomizedAccuracy) {
+
+  /** A fit by a method other than randomized. */
+  public FitResult(JobPlan plan, PcaModel model, Spectrum spectrum, List<String> droppedConstant, long rowsRead,
+      long rowsDropped, long imputedCells, long[] missingCells, boolean columnarRead, int passes, String kRule,
+      String blas, Map<String, Double> timings, List<String> warnings, SnapshotUse snapshots, Groups groups) {
+    this(plan, model, spectrum, droppedConstant, rowsRead, rowsDropped, imputedCells, missingCells, columnarRead,
+        passes, kRule, blas, timings, warnings, snapshots, groups, null);
+  }
 
   /** A fit without groups. */
   public FitResult(JobPlan plan, PcaModel model, Spectrum spectrum, List<String> droppedConstant, long rowsRead,

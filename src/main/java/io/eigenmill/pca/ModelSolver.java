@@ -68,6 +68,13 @@ public record ModelSolver(List<String> features, List<String> featureTypes, Scal
     return new Solved(model(n, means, variances, keep, scales, spectrum, k[0]), spectrum, dropped, rule, warnings);
   }
 
+  /** The k {@link #finish} would choose for {@code spectrum} (its warnings dropped). */
+  public int componentsOf(Spectrum spectrum) {
+    int[] k = new int[1];
+    chooseK(spectrum, k, new ArrayList<>());
+    return k[0];
+  }
+
   /**
    * Columns kept: those whose sample standard deviation exceeds 64 eps |mean| (and zero). A constant column's
    * computed deviation is rounding noise of order eps |mean|, so 64 eps |mean| separates it from any real spread

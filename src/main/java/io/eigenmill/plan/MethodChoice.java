@@ -12,7 +12,8 @@ import io.eigenmill.settings.JobSettings;
  *       {@code reduce.covariance-max-features} and the Gram fits.
  *   <li>tsqr: one pass (each block centred on its mean and QR-factored with the R so far); d x d R per task; chosen only when asked (best accuracy for ill-conditioned
  *       data, since singular values are not squared).
- *   <li>randomized: moments pass + (power-iterations + 1) passes; d x l arrays only, for wide tables.
+ *   <li>randomized: moments pass + (power-iterations + 1) passes, more (up to max-power-iterations + 1) while the
+ *       accuracy bound is above reduce.randomized.tolerance; d x l arrays only, for wide tables.
  * </ul>
  */
 public final class MethodChoice {
@@ -48,7 +49,9 @@ public final class MethodChoice {
         ? "d = " + d + " > reduce.covariance-max-features (" + reduce.covarianceMaxFeatures() + ")"
         : "the d x d Gram does not fit (" + cov.describe() + ")";
     return new Choice(Method.RANDOMIZED, "auto: " + why + ": randomized SVD with l = " + l
-        + " columns, no d x d array, " + (reduce.powerIterations() + 2) + " passes", rnd);
+        + " columns, no d x d array, " + (reduce.powerIterations() + 2) + " passes"
+        + (reduce.maxPowerIterations() > reduce.powerIterations() ? " (up to " + (reduce.maxPowerIterations() + 2)
+            + " to reach reduce.randomized.tolerance)" : ""), rnd);
   }
 
   /** Sketch columns of the randomized method: k (or max-components) + oversample, at most d. */

@@ -12,7 +12,9 @@ import io.eigenmill.monitor.DriftResult;
 import io.eigenmill.monitor.MonitorResult;
 import io.eigenmill.monitor.ReconstructionResult;
 import io.eigenmill.pca.FitResult;
+import io.eigenmill.pca.RandomizedAccuracy;
 import io.eigenmill.pca.math.Spectrum;
+import java.util.ArrayList;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
@@ -229,8 +231,13 @@ public final class SummaryJson {
       m.put("unknown_groups", r.unknownGroups());
     }
     // 1 - confidence in decimal (0.01, not the binary difference 0.010000000000000009)
-    m.put("expected_flagged_share", java.math.BigDecimal.ONE.subtract(java.math.BigDecimal.valueOf(r.confidence()))
-        .doubleValue());
+    double expectedShare = java.math.BigDecimal.ONE.subtract(java.math.BigDecimal.valueOf(r.confidence()))
+        .doubleValue();
+    m.put("expected_flagged_share", expectedShare);
+    // beside flagged_t2 and flagged_q: what limits that hold flag, and the counts chance alone gives in 95% of runs
+    m.put("expected_flagged", r.rowsScored() * expectedShare);
+    m.put("expected_flagged_range", io.eigenmill.monitor.math.ControlLimits.chanceRange(r.rowsScored(),
+        r.confidence(), io.eigenmill.monitor.math.ControlLimits.CHANCE_LEVEL));
     List<Map<String, Object>> top = new java.util.ArrayList<>();
     for (MonitorResult.FlaggedRow row : r.top()) {
       Map<String, Object> t = new LinkedHashMap<>();
@@ -347,6 +354,11 @@ public final class SummaryJson {
     m.put("silhouette", r.silhouette());
     m.put("silhouette_sample", r.silhouetteSample());
     m.put("init_sample", r.initSample());
+    for (ClusterResult.KScore k : r.selection()) {
+      if (k.k() == r.k()) {
+        putRestarts(m, k.restarts());
+      }
+    }
     m.put("sizes", r.sizes());
     List<Map<String, Object>> sel = new java.util.ArrayList<>();
     for (ClusterResult.KScore k : r.selection()) {
@@ -356,10 +368,30 @@ public final class SummaryJson {
       e.put("silhouette", k.silhouette());
       e.put("calinski_harabasz", k.calinskiHarabasz());
       e.put("davies_bouldin", k.daviesBouldin());
+      putRestarts(e, k.restarts());
       sel.add(e);
     }
     m.put("k_selection", sel);
     return m;
+  }
+
+  /**
+   * The restarts of one k: {@code restarts_run}, {@code restarts_at_best} (within 1e-9 relative of the lowest),
+   * {@code restarts_wcss} ({@code min}, {@code median}, {@code max} of their within-cluster sums of squares) and
+   * {@code restarts_on_driver}; nothing when unknown.
+   */
+  private static void putRestarts(Map<String, Object> m, ClusterResult.Restarts r) {
+    if (r == null) {
+      return;
+    }
+    m.put("restarts_run", r.run());
+    m.put("restarts_at_best", r.atBest());
+    Map<String, Object> spread = new LinkedHashMap<>();
+    spread.put("min", r.min());
+    spread.put("median", r.median());
+    spread.put("max", r.max());
+    m.put("restarts_wcss", spread);
+    m.put("restarts_on_driver", r.onDriver());
   }
 
   static Map<String, Object> fitSection(FitResult fit) {
@@ -392,9 +424,40 @@ public final class SummaryJson {
     m.put("variance_share", s.varianceShares());
     m.put("cumulative_variance_share", s.cumulativeVarianceShares());
     m.put("total_variance", s.totalVariance());
+    if (fit.randomizedAccuracy() != null) {
+      m.put("randomized_accuracy", randomizedAccuracySection(fit.randomizedAccuracy()));
+    }
     m.put("means", model.means());
     m.put("scales", model.scales());
     m.put("schema_fingerprint", model.schemaFingerprint());
+    return m;
+  }
+
+  /**
+   * The randomized method's a-posteriori accuracy (README, Methods): per kept component the residual
+   * ||C v - theta v|| / theta_1 and the estimated angle bound; the bound ||R_k||_2 / theta_1 against the tolerance;
+   * the captured variance share with the width of the interval the optimum lies in; the iterations run.
+   */
+  static Map<String, Object> randomizedAccuracySection(RandomizedAccuracy a) {
+    Map<String, Object> m = new LinkedHashMap<>();
+    var f = a.figures();
+    m.put("components", f.k());
+    m.put("residuals", f.residuals());
+    m.put("bound", f.bound());
+    m.put("tolerance", a.tolerance());
+    m.put("target_met", a.targetMet());
+    m.put("captured_variance", f.capturedVariance());
+    m.put("captured_variance_bound", f.capturedVarianceBound());
+    List<Double> angles = new ArrayList<>();
+    for (double x : f.angleBounds()) {
+      angles.add(Double.isNaN(x) ? null : x);
+    }
+    m.put("angle_bounds_estimated_rad", angles);
+    m.put("power_iterations_set", a.powerIterationsSet());
+    m.put("power_iterations_run", a.powerIterationsRun());
+    m.put("max_power_iterations", a.maxPowerIterations());
+    m.put("extra_passes", a.extraPasses());
+    m.put("bound_by_pass", a.boundByPass());
     return m;
   }
 }

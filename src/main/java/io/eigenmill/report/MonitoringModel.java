@@ -1,6 +1,7 @@
 package io.eigenmill.report;
 
 import io.eigenmill.monitor.MonitorResult;
+import io.eigenmill.monitor.math.ControlLimits;
 import io.eigenmill.record.RunResult;
 import java.util.ArrayList;
 import java.util.Comparator;
@@ -12,7 +13,7 @@ import org.apache.commons.math3.distribution.BinomialDistribution;
  * 1 - confidence) or along a row sample (each row's value against its limit), the counts the monitor flagged, the
  * limit rules, and the top flagged rows with the features that drive their Q.
  *
- * @param counts rows scored and flagged, as the monitor counted them
+ * @param counts rows scored and flagged, as the monitor counted them, and the count limits that hold flag by chance
  * @param limits the two limits with their rules
  * @param time true when positions are seconds since the epoch (see {@link #isTime})
  * @param buckets true when the points are time buckets with counts ({@code rows}, {@code overT2}, {@code overQ});
@@ -65,10 +66,14 @@ public record MonitoringModel(
     if (m == null) {
       return null;
     }
+    long[] range = ControlLimits.chanceRange(m.rowsScored(), m.confidence(), ControlLimits.CHANCE_LEVEL);
     List<Fact> counts = List.of(
         new Fact("Rows scored", Fmt.count(m.rowsScored())),
         new Fact("Flagged by T2", Fmt.count(m.flaggedT2())),
         new Fact("Flagged by Q", Fmt.count(m.flaggedQ())),
+        new Fact(EXPECTED_LABEL + " (" + Fmt.percent(1 - m.confidence(), 1) + " of rows; "
+            + Fmt.percent(ControlLimits.CHANCE_LEVEL, 0) + " range " + Fmt.count(range[0]) + " to "
+            + Fmt.count(range[1]) + ")", "about " + Fmt.count(Math.round(m.rowsScored() * (1 - m.confidence())))),
         new Fact("Flagged by both", Fmt.count(m.flaggedBoth())),
         new Fact("Confidence of the limits", Fmt.percent(m.confidence(), 1)),
         new Fact("Components (k)", Fmt.count(m.k())));
@@ -87,6 +92,7 @@ public record MonitoringModel(
     if (m.qRule() != null && !perGroup) {
       limits.add(new Fact("Q rule", m.qRule() + (Double.isNaN(m.qH0()) ? "" : ", h0 = " + Fmt.num(m.qH0(), 3))));
     }
+    limits.add(new Fact(AGAINST_CHANCE_LABEL, againstChance(m, range)));
     MonitorResult.Series s = m.series();
     double[] empty = new double[0];
     long[] none = new long[0];
@@ -103,6 +109,35 @@ public record MonitoringModel(
         buckets ? s.flaggedQ() : none, m.t2Limit(), m.qLimit(), 1 - m.confidence(), Fmt.percent(m.confidence(), 1),
         caption(m, label, pos.length, buckets, buckets ? s.rows() : none, perGroup), keyNames(run, m), top,
         perGroup);
+  }
+
+  /** Label of the card with the count a limit that holds flags, followed by its share and chance range. */
+  static final String EXPECTED_LABEL = "Expected by chance, each limit";
+
+  /** Label of the fact comparing the flagged counts with the chance range. */
+  static final String AGAINST_CHANCE_LABEL = "Flagged against chance";
+
+  /**
+   * The observed counts beside the expected one: limits that hold flag about n (1 - confidence) rows, and a count in
+   * the central {@link ControlLimits#CHANCE_LEVEL} range of Binomial(n, 1 - confidence) ({@link
+   * ControlLimits#chanceRange}) is what chance alone gives. For new rows the range is binomial given the model; the
+   * model's own sampling error widens it a little (see ControlLimits.chanceRange).
+   */
+  static String againstChance(MonitorResult m, long[] range) {
+    long n = m.rowsScored();
+    double share = 1 - m.confidence();
+    String expected = "about " + Fmt.count(Math.round(n * share)) + " of " + Fmt.count(n) + " rows ("
+        + Fmt.percent(share, 1) + ")";
+    return "T2 " + Fmt.count(m.flaggedT2()) + " (" + side(m.flaggedT2(), range) + "), Q " + Fmt.count(m.flaggedQ())
+        + " (" + side(m.flaggedQ(), range) + ") against " + expected + " expected with limits that hold; chance alone"
+        + " gives " + Fmt.count(range[0]) + " to " + Fmt.count(range[1]) + " in "
+        + Fmt.percent(ControlLimits.CHANCE_LEVEL, 0) + " of runs (binomial)"
+        + (m.fittedRows() ? "" : ", a little more spread for new rows from the model's own sampling error");
+  }
+
+  private static String side(long flagged, long[] range) {
+    return flagged > range[1] ? "above the chance range" : flagged < range[0] ? "below the chance range"
+        : "within the chance range";
   }
 
   /** What a point of the charts is: a time bucket's share of flagged rows, or one row (sampled or not). */

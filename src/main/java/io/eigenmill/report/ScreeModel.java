@@ -1,6 +1,8 @@
 package io.eigenmill.report;
 
 import io.eigenmill.io.PcaModel;
+import io.eigenmill.pca.RandomizedAccuracy;
+import io.eigenmill.pca.math.RitzAccuracy;
 import io.eigenmill.pca.math.Spectrum;
 import io.eigenmill.record.RunResult;
 import java.util.ArrayList;
@@ -15,6 +17,7 @@ import java.util.List;
  * @param logScale eigenvalues drawn on a log axis because they span more than {@link #LOG_DECADES} decades
  * @param complete true when all d eigenvalues were computed (else ratios are of the total variance, known anyway)
  * @param computed eigenvalues the method produced; {@code components} shows the first of them
+ * @param accuracy the randomized method's own accuracy figures; null for the other methods and applied models
  */
 public record ScreeModel(
     int k,
@@ -24,7 +27,8 @@ public record ScreeModel(
     boolean complete,
     int computed,
     int features,
-    List<Component> components) {
+    List<Component> components,
+    Accuracy accuracy) {
 
   /** Eigenvalues spanning more decades than this are drawn on a log axis. */
   static final double LOG_DECADES = 3;
@@ -33,6 +37,28 @@ public record ScreeModel(
 
   public record Component(int number, double eigenvalue, double ratio, double cumulative, boolean kept,
       String eigenvalueText, String ratioText, String cumulativeText) {}
+
+  /**
+   * The randomized fit's accuracy ({@link RandomizedAccuracy}, README Methods) as the report shows it.
+   *
+   * @param rows per kept component: "PC i", eigenvalue, residual ||C v - theta v|| / theta_1, estimated angle bound
+   */
+  public record Accuracy(String bound, String tolerance, boolean met, String captured, String capturedBound,
+      int iterations, int added, int maxIterations, List<List<String>> rows) {
+
+    static Accuracy of(RandomizedAccuracy a, double[] eigenvalues) {
+      RitzAccuracy f = a.figures();
+      List<List<String>> rows = new ArrayList<>();
+      for (int i = 0; i < f.k(); i++) {
+        double angle = f.angleBounds()[i];
+        rows.add(List.of("PC" + (i + 1), Fmt.num(eigenvalues[i]), Fmt.num(f.residuals()[i], 3),
+            Double.isNaN(angle) ? "n/a" : Fmt.num(angle, 3)));
+      }
+      return new Accuracy(Fmt.num(f.bound(), 3), Fmt.num(a.tolerance(), 3), a.targetMet(),
+          Fmt.percent(f.capturedVariance(), 2), Fmt.num(100 * f.capturedVarianceBound(), 3), a.powerIterationsRun(),
+          a.extraPasses(), a.maxPowerIterations(), rows);
+    }
+  }
 
   static ScreeModel of(RunResult run) {
     PcaModel model = run.model();
@@ -54,8 +80,9 @@ public record ScreeModel(
           Fmt.percent(ratios[i], 2), Fmt.percent(cumulative[i], 2)));
     }
     boolean complete = model != null ? model.eigenvaluesComplete() : values.length == spectrum.d();
+    RandomizedAccuracy accuracy = run.fit() != null ? run.fit().randomizedAccuracy() : null;
     return new ScreeModel(k, target, rule, Scale.spansDecades(values, LOG_DECADES), complete, values.length,
-        spectrum.d(), out);
+        spectrum.d(), out, accuracy == null ? null : Accuracy.of(accuracy, values));
   }
 
   /**

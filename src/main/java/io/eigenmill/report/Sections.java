@@ -142,7 +142,33 @@ final class Sections {
       b.append("<p class=\"note\">The table lists the first ").append(rows)
           .append(" components; summary.json has all of them.</p>\n");
     }
+    randomizedAccuracy(b, m.accuracy());
     HtmlReport.close(b);
+  }
+
+  /** The randomized fit's residuals per kept component, its bound against the tolerance, and what it cost. */
+  private static void randomizedAccuracy(StringBuilder b, ScreeModel.Accuracy a) {
+    if (a == null) {
+      return;
+    }
+    b.append("<h3>Accuracy of the randomized method</h3>\n<p class=\"note\">The randomized method checks its own "
+        + "result from the last pass over the data. For each kept component v with eigenvalue θ, the residual "
+        + "‖Cv − θv‖ is 0 for an exact eigenpair; it is shown over the largest eigenvalue θ₁. The bound "
+        + Html.esc(a.bound()) + " (the norm of all kept components' residuals over θ₁) is ")
+        .append(a.met() ? "within" : "<b>above</b>").append(" reduce.randomized.tolerance = ")
+        .append(Html.esc(a.tolerance())).append(" after ").append(a.iterations()).append(" power iteration")
+        .append(a.iterations() == 1 ? "" : "s").append(a.added() > 0 ? " (" + a.added() + " added to reach it)" : "")
+        .append(a.met() ? "" : ", the cap reduce.randomized.max-power-iterations = " + a.maxIterations())
+        .append(Html.esc(": each kept eigenvalue is within bound × θ₁ of an eigenvalue of the covariance (Kahan's "
+            + "theorem), and, when the sketch missed no leading direction, at most that much below the true one. "
+            + "The kept components capture " + a.captured() + " of the variance, at most " + a.capturedBound()
+            + " percentage points below the best k components could. The angle column estimates how far each "
+            + "direction may be from the true one (Davis-Kahan, with the gap to the nearest computed eigenvalue): a "
+            + "large angle marks nearly equal eigenvalues, whose directions are ill-determined (their plane is "
+            + "not)."))
+        .append("</p>\n");
+    HtmlReport.table(b, "randomized-accuracy", List.of("component", "eigenvalue", "residual / θ₁",
+        "angle estimate (rad)"), 1, a.rows());
   }
 
   static void loadings(StringBuilder b, LoadingsModel m) {
@@ -272,6 +298,8 @@ final class Sections {
     b.append("<div class=\"tablewrap\"><table class=\"selection-table\"><thead><tr><th class=\"num\">k</th>")
         .append("<th class=\"num\">within-cluster sum of squares</th><th class=\"num\">silhouette</th>")
         .append("<th class=\"num\">Calinski-Harabasz</th><th class=\"num\">Davies-Bouldin (lower is better)</th>")
+        .append("<th class=\"num\">restarts at the best / run</th>")
+        .append("<th class=\"num\">restarts' within-cluster SS min / median / max</th>")
         .append("</tr></thead><tbody>");
     for (ClusterModel.Selection s : m.selection()) {
       b.append(s.chosen() ? "<tr class=\"chosen\">" : "<tr>");

@@ -122,6 +122,10 @@ public record JobSettings(
    * @param groupBy one model per value of these columns ({@code reduce.group-by}; empty: one model)
    * @param minGroupRows groups with fewer usable rows get no model ({@code reduce.min-group-rows}; empty: 10 x the
    *     features, see {@link #minGroupRows(int)})
+   * @param randomizedTolerance {@code reduce.randomized.tolerance}: the accuracy bound the randomized method adds
+   *     power iterations to reach
+   * @param maxPowerIterations {@code reduce.randomized.max-power-iterations}: at most this many power iterations,
+   *     at least {@code powerIterations}
    */
   public record Reduce(
       Method method,
@@ -134,13 +138,9 @@ public record JobSettings(
       int powerIterations,
       long seed,
       List<String> groupBy,
-      OptionalInt minGroupRows) implements Serializable {
-
-    public Reduce(Method method, OptionalInt components, double varianceTarget, int maxComponents, int blockRows,
-        int covarianceMaxFeatures, int oversample, int powerIterations, long seed) {
-      this(method, components, varianceTarget, maxComponents, blockRows, covarianceMaxFeatures, oversample,
-          powerIterations, seed, List.of(), OptionalInt.empty());
-    }
+      OptionalInt minGroupRows,
+      double randomizedTolerance,
+      int maxPowerIterations) implements Serializable {
 
     public boolean grouped() {
       return !groupBy.isEmpty();
@@ -186,7 +186,9 @@ public record JobSettings(
       int initSample,
       long seed,
       String entity,
-      boolean entitySpread) implements Serializable {}
+      boolean entitySpread,
+      int restartsAtBest,
+      int maxRestarts) implements Serializable {}
 
   /**
    * @param snapshots a snapshot store the fit also writes its moments to, one snapshot per value of

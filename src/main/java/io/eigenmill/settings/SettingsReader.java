@@ -176,7 +176,14 @@ public final class SettingsReader {
         f.intIn("reduce.block-rows", 16, 1 << 20), f.intIn("reduce.covariance-max-features", 1, 200_000),
         f.intIn("reduce.randomized.oversample", 0, 1000), f.intIn("reduce.randomized.power-iterations", 1, 50),
         f.longValue("reduce.randomized.seed"), f.strings("reduce.group-by"),
-        f.optionalInt("reduce.min-group-rows", 2, Integer.MAX_VALUE));
+        f.optionalInt("reduce.min-group-rows", 2, Integer.MAX_VALUE), f.positive("reduce.randomized.tolerance"),
+        f.intIn("reduce.randomized.max-power-iterations", 1, 50));
+    if (reduce.maxPowerIterations() < reduce.powerIterations()) {
+      f.problem("reduce.randomized.max-power-iterations", "reduce.randomized.max-power-iterations = "
+          + reduce.maxPowerIterations() + " is below reduce.randomized.power-iterations = " + reduce.powerIterations()
+          + ": the cap must be at least the iterations always run; raise it (equal: no iteration is added to reach"
+          + " reduce.randomized.tolerance)");
+    }
     var monitor = new JobSettings.Monitor(f.openFraction("monitor.confidence"),
         f.choice("monitor.q-limit", Choices.QLimit.values()));
     var apply = new JobSettings.Apply(f.string("apply.model"), f.string("apply.compare-with"),
@@ -189,7 +196,8 @@ public final class SettingsReader {
         f.intIn("cluster.restarts", 1, 1000), f.intIn("cluster.max-iterations", 1, 100_000),
         f.positive("cluster.tolerance"), f.intIn("cluster.silhouette-sample", 10, 100_000),
         f.intIn("cluster.init-sample", 0, 10_000_000), f.longValue("cluster.seed"), f.string("cluster.entity"),
-        f.bool("cluster.entity-spread"));
+        f.bool("cluster.entity-spread"), f.intIn("cluster.restarts-at-best", 1, 1000),
+        f.intIn("cluster.max-restarts", 0, 100_000));
     var output = new JobSettings.Output(f.required("output.path"),
         f.choice("output.mode", Choices.OutputMode.values()), f.bool("output.scores"),
         f.bool("output.reconstruction"), f.intIn("output.report-sample", 0, 50_000),

@@ -79,6 +79,54 @@ class BenchmarkSmokeTest extends SparkSuite {
   }
 
   @Test
+  void longSmokeOptionsRunOnlyTheLongCaseOnATinyTable() {
+    BenchOptions o = BenchOptions.parse(new String[] {"--long", "--smoke"}, BASE);
+    assertTrue(o.longInput() && o.smoke());
+    assertFalse(o.groups() || o.windows() || o.wide() || o.scaling());
+    assertEquals(BenchOptions.SMOKE_ROWS, o.rows());
+    assertEquals(BenchOptions.SMOKE_FEATURES, o.features());
+    assertEquals(0, o.warmups());
+    assertEquals(1, o.repetitions());
+    BenchOptions full = BenchOptions.parse(new String[] {"--long"}, BASE);
+    assertEquals(BenchOptions.LONG_ROWS, full.rows(), "the long case's main table unless --rows");
+    assertEquals(BenchOptions.DEFAULT_FEATURES, full.features());
+    assertEquals(1234, BenchOptions.parse(new String[] {"--long", "--rows", "1234"}, BASE).rows());
+    org.junit.jupiter.api.Assertions.assertThrows(IllegalArgumentException.class,
+        () -> BenchOptions.parse(new String[] {"--long", "--groups"}, BASE));
+    assertTrue(BenchOptions.USAGE.contains("--long"));
+  }
+
+  @Test
+  void longSmokeRunFitsTheSameModelBothWaysAndWritesItsSection() throws IOException {
+    Path out = BASE.resolve("out/long.md");
+    Files.deleteIfExists(out);
+    BenchOptions o = options("--long", "--out", out.toString());
+    LongRun.LongResult r = LongRun.run(spark, o);
+    assertTrue(r.agree(), r.check());
+    assertEquals(20000L * 20, r.longRows() + nullCells(r.base()), "one long row per non-null cell");
+    for (LongRun.LegResult l : r.legs().values()) {
+      assertEquals(1, l.timing().repetitions(), l.leg().word);
+      assertTrue(l.timing().min() > 0, l.leg().word);
+    }
+    assertEquals(3, r.ratios().size());
+    Report.writeSection(out, "long", LongRun.render(r, List.of(), o.cores()));
+    String text = Files.readString(out);
+    assertTrue(text.contains("<!-- bench:long -->") && text.contains("| spark-pivot-fit / long-fit |"), text);
+  }
+
+  private static long nullCells(BenchTable t) {
+    Dataset<Row> table = spark.read().parquet(t.path());
+    Column[] nulls = t.features().stream().map(f -> functions.sum(functions.when(functions.col(f).isNull(), 1)
+        .otherwise(0))).toArray(Column[]::new);
+    Row r = table.agg(nulls[0], java.util.Arrays.copyOfRange(nulls, 1, nulls.length)).first();
+    long n = 0;
+    for (int j = 0; j < nulls.length; j++) {
+      n += r.getLong(j);
+    }
+    return n;
+  }
+
+  @Test
   void casesTimedInTurnAlternateTheirRepetitionsAfterAllWarmUps() {
     List<String> order = new java.util.ArrayList<>();
     List<Timer.Timed<?>> t = Timer.runInTurn(spark.sparkContext(), 1, 2, List.of(

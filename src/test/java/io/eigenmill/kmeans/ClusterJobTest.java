@@ -39,7 +39,7 @@ class ClusterJobTest extends SparkSuite {
 
   static JobSettings.Cluster settings(OptionalInt k, int kMax, KSelection by, int sample) {
     return new JobSettings.Cluster(true, ClusterSpace.SCORES, k, 2, kMax, by, 3, 50, 1e-6, sample, 100_000, 11, "",
-        false);
+        false, 10, 1000);
   }
 
   static ClusterOutcome run(Dataset<Row> points, JobSettings.Cluster s, int d) {
@@ -168,7 +168,7 @@ class ClusterJobTest extends SparkSuite {
   void entitiesWithSpreadInOriginalUnitsAndTablesRoundTrip() throws Exception {
     EntityData fleet = new EntityData();
     JobSettings.Cluster s = new JobSettings.Cluster(true, ClusterSpace.SCORES, OptionalInt.of(3), 2, 8,
-        KSelection.SILHOUETTE, 3, 50, 1e-6, 100, 100_000, 11, "host", true);
+        KSelection.SILHOUETTE, 3, 50, 1e-6, 100, 100_000, 11, "host", true, 10, 1000);
     ClusterOutcome o = new ClusterJob(spark, s, fleet.frame(spark), List.of("host", "t"), List.of("pc_1", "pc_2"),
         fleet.model, ClusterSpace.SCORES).execute();
     ClusterResult r = o.result();

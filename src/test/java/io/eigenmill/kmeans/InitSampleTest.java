@@ -23,7 +23,7 @@ class InitSampleTest extends SparkSuite {
 
   static JobSettings.Cluster settings(int k, int kMax, int initSample) {
     return new JobSettings.Cluster(true, ClusterSpace.SCORES, k > 0 ? OptionalInt.of(k) : OptionalInt.empty(), 2,
-        kMax, KSelection.SILHOUETTE, 3, 50, 1e-6, 500, initSample, 5, "", false);
+        kMax, KSelection.SILHOUETTE, 3, 50, 1e-6, 500, initSample, 5, "", false, 10, 0);
   }
 
   @Test

@@ -96,13 +96,59 @@ final class ReferenceData {
     return spark.createDataFrame(rows, schema).repartition(partitions);
   }
 
+  /**
+   * The first q correlation-PCA scores: z times the first q rows of the JSON's pca.correlation loadings (unit
+   * length, R prcomp up to sign).
+   */
+  double[][] scores(int q) {
+    double[][] v = Datasets.matrix(reference.get("pca").get("correlation").get("loadings"));
+    double[][] out = new double[z.length][q];
+    for (int i = 0; i < z.length; i++) {
+      for (int c = 0; c < q; c++) {
+        double s = 0;
+        for (int j = 0; j < z[i].length; j++) {
+          s += z[i][j] * v[c][j];
+        }
+        out[i][c] = s;
+      }
+    }
+    return out;
+  }
+
+  /** Point column names p_1..p_d. */
+  static List<String> columns(int d) {
+    List<String> out = new ArrayList<>();
+    for (int j = 1; j <= d; j++) {
+      out.add("p_" + j);
+    }
+    return out;
+  }
+
+  /** Any points with a key column {@code row} (0-based), {@code partitions} partitions. */
+  static Dataset<Row> frame(SparkSession spark, double[][] points, List<String> columns, int partitions) {
+    StructType schema = new StructType().add("row", DataTypes.IntegerType, false);
+    for (String f : columns) {
+      schema = schema.add(f, DataTypes.DoubleType, false);
+    }
+    List<Row> rows = new ArrayList<>();
+    for (int i = 0; i < points.length; i++) {
+      Object[] v = new Object[columns.size() + 1];
+      v[0] = i;
+      for (int j = 0; j < columns.size(); j++) {
+        v[j + 1] = points[i][j];
+      }
+      rows.add(RowFactory.create(v));
+    }
+    return spark.createDataFrame(rows, schema).repartition(partitions);
+  }
+
   JsonNode kmeans(int k) {
     return reference.get("kmeans").get("standardized").get("k=" + k);
   }
 
   static JobSettings.Cluster settings(OptionalInt k, int kMin, int kMax, int restarts, int sample) {
     return new JobSettings.Cluster(true, ClusterSpace.FEATURES, k, kMin, kMax, KSelection.SILHOUETTE, restarts, 100,
-        1.0e-6, sample, 100_000, 7, "", false);
+        1.0e-6, sample, 100_000, 7, "", false, 10, 1000);
   }
 
   /**

@@ -6,82 +6,107 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import com.fasterxml.jackson.databind.JsonNode;
 import io.eigenmill.settings.Choices.ClusterSpace;
+import io.eigenmill.settings.JobSettings;
+import io.eigenmill.settings.SettingsReader;
 import io.eigenmill.testing.SparkSuite;
 import java.util.ArrayList;
 import java.util.List;
-import java.util.OptionalInt;
 import org.apache.spark.sql.Row;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.params.ParameterizedTest;
-import org.junit.jupiter.params.provider.ValueSource;
+import org.junit.jupiter.params.provider.CsvSource;
 
 /**
- * k-means on the open reference datasets (src/test/resources/datasets/README.md), standardised as the README's
- * "kmeans.standardized" (z-scores with R's means and n-1 sds). Reference: the best within-cluster sum of squares found
- * by R 4.2.2 {@code stats::kmeans} Hartigan-Wong nstart=200 and the other methods listed there, its cluster sizes,
- * and the adjusted Rand index of the best k = 3 partition of wine against the cultivar labels (scikit-learn 1.2.1
- * {@code adjusted_rand_score}, equal to the exact rational).
+ * k-means with the default settings on the open reference datasets (src/test/resources/datasets/README.md), for
+ * k = 2..5, against R's best of 200 starts (src/test/resources/kmeans: reference.json, computed by
+ * make_reference.R with R 4.2.2 {@code stats::kmeans}, Hartigan-Wong, {@code nstart = 200}; README there).
  *
- * <p>How likely our restarts reach the best: the README gives the share of single Lloyd starts with k-means++ seeding
- * (scikit-learn) that reach it, and with this seed our single starts (k-means|| then Lloyd) reached it in a measured
- * share of 300: usarrests k = 3: 13/300 (README k-means++: 0.017), wine k = 2: 10/300 (0.05), every other required
- * case >= 52/300. With R restarts a miss has probability about (1 - share)^R: usarrests 250 restarts,
- * (1 - 0.017)^250 = 1.4e-2 by the README's share, (1 - 0.043)^250 = 1.7e-5 by ours; wine 300 restarts,
- * (1 - 0.033)^300 = 4e-5; longley 30 restarts, (1 - 0.37)^30 = 1e-6. The seed is fixed, so the outcome is
- * reproducible. Wine k = 4 is the exception: Lloyd-type methods almost never reach the best there (share 0.003 for
- * k-means++, 0.000 for R Lloyd, 0/300 for ours; best-of-200 R Lloyd and best-of-300 scikit-learn random starts stop
- * at 1168.775747); we require WSS >= best (1 - 1e-9), which no partition can beat, and WSS <= 1168.775747 (1 + 1e-9),
- * the best such methods reached (1.38e-4 above the best).
+ * <p>Settings: every cluster key at its default (reference.conf: restarts, restarts-at-best, max-restarts,
+ * init-sample, max-iterations, tolerance, seed) except {@code cluster.enabled = true} and
+ * {@code cluster.k-range = 2..5}, the range compared. Two spaces, as R's script computes them:
+ * <ul>
+ *   <li>features: the z-scores (x - mean) / sd with R's means and n-1 sds ({@code prepare.scaling = standardize},
+ *       {@code cluster.space = features});
+ *   <li>scores: the first q correlation-PCA scores, q the smallest number of components reaching 90% of the
+ *       variance ({@code reduce.variance-target}), i.e. the default {@code cluster.space = scores} after a
+ *       standardized fit; computed here as z times the loadings of ../datasets/*.reference.json (the signs of
+ *       components do not change any within-cluster sum of squares).
+ * </ul>
+ * Both are handed to the clustering as plain point columns (no model): the k-means is the same in either space.
  *
- * <p>Tolerance 1e-6 relative on the within-cluster sum of squares (the issue's bound): at a common optimum our within-cluster sum of squares is a sum of
- * n (<= 178) exactly recomputed squared distances, accurate to ~n eps = 4e-14 relative.
+ * <p>Tolerance 1e-9 relative on the within-cluster sum of squares (the issue's bound): at a common optimum ours is a
+ * sum of n (<= 178) exactly recomputed squared distances, accurate to ~n eps = 4e-14 relative; the sizes must be
+ * equal. The tables have at most 178 rows, so the restarts run on the driver until 10 reach the best.
  */
 class ReferenceKMeansTest extends SparkSuite {
-  /** Restarts per k: see the class comment for the miss probabilities they give. */
-  static int restarts(String dataset) {
-    return switch (dataset) {
-      case "usarrests" -> 250;
-      case "wine" -> 300;
-      default -> 30;
-    };
-  }
-  static final double WINE_K4_LLOYD_BEST = 1168.775747;
+  static final JsonNode R_BEST = reference();
 
-  @ParameterizedTest(name = "{0}")
-  @ValueSource(strings = {"usarrests", "wine", "longley"})
-  void bestWithinSsAndSizesForK2To4(String dataset) {
+  static JsonNode reference() {
+    try (java.io.InputStream in = ReferenceKMeansTest.class.getResourceAsStream("/kmeans/reference.json")) {
+      return new com.fasterxml.jackson.databind.ObjectMapper().readTree(in);
+    } catch (java.io.IOException e) {
+      throw new java.io.UncheckedIOException(e);
+    }
+  }
+
+  /** The default cluster settings, with clustering on and k = 2..5. */
+  static JobSettings.Cluster defaults(String... sets) {
+    List<String> all = new ArrayList<>(List.of("cluster.enabled=true", "cluster.k-range=\"2..5\""));
+    all.addAll(List.of(sets));
+    return new SettingsReader().readString("input.path = \"/data/in\"\noutput.path = \"/data/out\"\n", all,
+        "job.conf").cluster();
+  }
+
+  @ParameterizedTest(name = "{0} {1}")
+  @CsvSource({"usarrests, features", "wine, features", "longley, features", "usarrests, scores", "wine, scores",
+      "longley, scores"})
+  void defaultsReachRsBestOf200StartsForK2To5(String dataset, String space) {
     ReferenceData data = ReferenceData.load(dataset);
-    ClusterOutcome o = new ClusterJob(spark, ReferenceData.settings(OptionalInt.empty(), 2, 4, restarts(dataset), 500),
-        data.frame(spark, 3), List.of("row"), data.features, null, ClusterSpace.FEATURES).execute();
+    JsonNode ref = R_BEST.get(dataset).get(space);
+    double[][] points = space.equals("features") ? data.z : data.scores(R_BEST.get(dataset).get("score_components")
+        .asInt());
+    assertEquals(ref.get("dimensions").asInt(), points[0].length);
+    JobSettings.Cluster settings = defaults();
+    assertEquals(1000, settings.maxRestarts(), "default max-restarts");
+    List<String> columns = ReferenceData.columns(points[0].length);
+    ClusterOutcome o = new ClusterJob(spark, settings, ReferenceData.frame(spark, points, columns, 3),
+        List.of("row"), columns, null, ClusterSpace.FEATURES).execute();
     ClusterResult r = o.result();
     List<Row> table = o.kSelection().orderBy("k").collectAsList();
-    assertEquals(3, table.size(), "one k-selection row per k");
-    for (int k = 2; k <= 4; k++) {
-      JsonNode ref = data.kmeans(k);
-      double best = ref.get("best_tot_withinss").asDouble();
-      double wss = r.selection().get(k - 2).wcss();
-      assertEquals(k, r.selection().get(k - 2).k());
+    assertEquals(4, table.size(), "one k-selection row per k");
+    List<String> report = new ArrayList<>();
+    for (int k = 2; k <= 5; k++) {
+      JsonNode best = ref.get("k=" + k);
+      double rBest = best.get("best_tot_withinss").asDouble();
+      ClusterResult.KScore score = r.selection().get(k - 2);
+      assertEquals(k, score.k());
+      double wss = score.wcss();
       assertEquals(wss, table.get(k - 2).getDouble(table.get(k - 2).fieldIndex("wcss")), 0.0, "table = record");
-      // nothing can beat the best partition (README: best found by R Hartigan-Wong nstart=200 and others)
-      assertTrue(wss >= best * (1 - 1e-9), dataset + " k=" + k + ": " + wss + " below the best " + best);
-      if (dataset.equals("wine") && k == 4) {
-        assertTrue(wss <= WINE_K4_LLOYD_BEST * (1 + 1e-9), "wine k=4: " + wss + " worse than Lloyd's best");
-        continue;
-      }
-      // R stats::kmeans best_tot_withinss, README table
-      assertEquals(best, wss, 1e-6 * best, dataset + " k=" + k + " wcss");
-      // R stats::kmeans cluster_sizes at the best (descending)
       long[] sizes = longs(table.get(k - 2).getList(table.get(k - 2).fieldIndex("sizes")));
-      assertArrayEquals(longs(ref.get("cluster_sizes")), sizes, dataset + " k=" + k + " sizes");
+      ClusterResult.Restarts restarts = score.restarts();
+      report.add(String.format(java.util.Locale.ROOT, "%s %s k=%d: ours %.12g R %.12g rel %.2e restarts %d at best %d",
+          dataset, space, k, wss, rBest, (wss - rBest) / rBest, restarts.run(), restarts.atBest()));
+      // R stats::kmeans Hartigan-Wong nstart = 200: best_tot_withinss and cluster_sizes (descending)
+      assertEquals(rBest, wss, 1e-9 * rBest, dataset + " " + space + " k=" + k + " wcss");
+      assertArrayEquals(longs(best.get("cluster_sizes")), sizes, dataset + " " + space + " k=" + k + " sizes");
+      assertTrue(restarts.onDriver(), "a small table restarts on the driver");
+      assertTrue(restarts.atBest() >= settings.restartsAtBest() || restarts.run() == settings.maxRestarts(),
+          "stopped by the rule");
+      assertEquals(wss, restarts.min(), 1e-9 * wss, "the confirmed best is the driver's best");
+      assertTrue(restarts.min() <= restarts.median() && restarts.median() <= restarts.max());
+      Row row = table.get(k - 2);
+      assertEquals(restarts.run(), row.getInt(row.fieldIndex("restarts_run")), "k-selection restarts_run");
+      assertEquals(restarts.atBest(), row.getInt(row.fieldIndex("restarts_at_best")));
+      assertEquals(restarts.max(), row.getDouble(row.fieldIndex("restarts_wcss_max")), 0.0);
     }
+    report.forEach(System.out::println);
   }
 
   @Test
   void wineThreeClustersAgainstCultivars() {
     ReferenceData data = ReferenceData.load("wine");
-    // single starts reach the best at k = 3 in a share 0.313 (README, k-means++) and 112/300 (ours, this seed):
-    // 60 restarts miss with probability (1 - 0.313)^60 = 2e-10
-    ClusterOutcome o = new ClusterJob(spark, ReferenceData.settings(OptionalInt.of(3), 2, 8, 60, 500),
+    // the default settings with k = 3
+    ClusterOutcome o = new ClusterJob(spark, defaults("cluster.k=3"),
         data.frame(spark, 4), List.of("row"), data.features, null, ClusterSpace.FEATURES).execute();
     JsonNode ref = data.kmeans(3);
     List<Row> rows = o.assignments().orderBy("row").collectAsList();

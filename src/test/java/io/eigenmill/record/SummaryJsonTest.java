@@ -64,6 +64,18 @@ class SummaryJsonTest extends SparkSuite {
     for (JsonNode k : clusters.get("k_selection")) {
       assertTrue(k.get("wcss").asDouble() > 0, "k_selection wcss, k = " + k.get("k"));
       assertFalse(k.has("within_ss"));
+      // the restarts of each k: a small table restarts on the driver, at least cluster.restarts = 3 of them
+      assertTrue(k.get("restarts_run").asInt() >= 3, "restarts_run, k = " + k.get("k"));
+      assertTrue(k.get("restarts_at_best").asInt() >= 1
+          && k.get("restarts_at_best").asInt() <= k.get("restarts_run").asInt());
+      JsonNode spread = k.get("restarts_wcss");
+      assertEquals(k.get("wcss").asDouble(), spread.get("min").asDouble(), 1e-9 * k.get("wcss").asDouble());
+      assertTrue(spread.get("min").asDouble() <= spread.get("median").asDouble()
+          && spread.get("median").asDouble() <= spread.get("max").asDouble());
+      assertTrue(k.get("restarts_on_driver").asBoolean());
+    }
+    for (String field : List.of("restarts_run", "restarts_at_best", "restarts_wcss", "restarts_on_driver")) {
+      assertTrue(clusters.has(field), "clusters." + field + " of the chosen k");
     }
     List<Row> selection = spark.read().parquet(out.resolve("clusters").resolve("k-selection").toString())
         .orderBy("k").collectAsList();

@@ -215,6 +215,33 @@ class ReportModelTest {
     assertEquals(-1, s.plots().get(0).y());
   }
 
+  /**
+   * The expected count beside the observed ones: n (1 - confidence), and the central 95% of Binomial(n, 1 - c)
+   * recomputed here with Commons Math's binomial quantiles.
+   */
+  @Test
+  void monitoringShowsTheExpectedCountAndItsChanceRange() {
+    RunResult run = FLEET.fitWithMonitor();
+    MonitorResult r = run.monitor();
+    MonitoringModel m = ReportModel.of(run).monitoring();
+    double p = 1 - r.confidence();
+    org.apache.commons.math3.distribution.BinomialDistribution b =
+        new org.apache.commons.math3.distribution.BinomialDistribution(null, (int) r.rowsScored(), p);
+    int lo = b.inverseCumulativeProbability(0.025);
+    int hi = b.inverseCumulativeProbability(0.975);
+    Fact card = m.counts().stream().filter(f -> f.label().startsWith(MonitoringModel.EXPECTED_LABEL)).findFirst()
+        .orElseThrow();
+    assertEquals("about " + Fmt.count(Math.round(r.rowsScored() * p)), card.value());
+    assertTrue(card.label().contains("1.0% of rows; 95% range " + Fmt.count(lo) + " to " + Fmt.count(hi)),
+        card.label());
+    String against = Fact.find(m.limits(), MonitoringModel.AGAINST_CHANCE_LABEL);
+    assertTrue(against.startsWith("T2 " + Fmt.count(r.flaggedT2()) + " (" + (r.flaggedT2() > hi ? "above"
+        : r.flaggedT2() < lo ? "below" : "within") + " the chance range), Q " + Fmt.count(r.flaggedQ())), against);
+    assertTrue(against.contains(Fmt.count(lo) + " to " + Fmt.count(hi) + " in 95% of runs"), against);
+    String html = HtmlReport.render(run);
+    assertTrue(html.contains(Html.esc(against)), "the report shows the comparison");
+  }
+
   @Test
   void monitoringCountsLimitsAndTopRowsAreTheRecords() {
     RunResult run = FLEET.fitWithMonitor();
@@ -317,7 +344,11 @@ class ReportModelTest {
     assertTrue(m.hasCurves());
     assertEquals(List.of(3), m.selection().stream().filter(ClusterModel.Selection::chosen)
         .map(ClusterModel.Selection::k).toList());
-    assertEquals(List.of("2", "14,350", "0.33", "402", "1.12"), m.selection().get(0).texts());
+    assertEquals(List.of("2", "14,350", "0.33", "402", "1.12", "10 / 50", "14,350 / 14,640 / 18,660"),
+        m.selection().get(0).texts());
+    // the chosen k's restarts: FleetFixture's 60 on the driver, 10 at the best
+    assertTrue(m.facts().stream().anyMatch(f -> f.toString().contains("60 restarts on the driver, 10 reached")),
+        m.facts().toString());
     for (int i = 0; i < c.sizes().length; i++) {
       assertEquals(c.sizes()[i], m.sizes().get(i).size());
       assertEquals(Fmt.percent(c.profiles().get(i).share(), 1), m.sizes().get(i).shareText());
@@ -328,10 +359,19 @@ class ReportModelTest {
     assertEquals(Fmt.num(record.clusterMean()), top.clusterMean());
     assertEquals(ClusterModel.FEATURES_PER_PROFILE, m.profiles().get(0).shifts().size());
     long clustered = java.util.Arrays.stream(c.sizes()).sum();
+    assertEquals("k-means++ restarts on the driver over all " + Fmt.count(clustered) + " rows, each refined by"
+        + " Lloyd iterations and single-point moves (Hartigan-Wong); the best confirmed by Lloyd passes over all of"
+        + " them", ClusterModel.startingCentroids(c), "the fixture's restarts ran on the driver");
+    List<ClusterResult.KScore> parallel = c.selection().stream().map(s -> new ClusterResult.KScore(s.k(), s.wcss(),
+        s.silhouette(), s.calinskiHarabasz(), s.daviesBouldin(), new ClusterResult.Restarts(3, 1, s.wcss(),
+        s.wcss(), s.wcss(), false))).toList();
+    ClusterResult all = new ClusterResult(c.space(), c.entity(), c.k(), c.selectionRule(), c.wcss(),
+        c.silhouette(), c.sizes(), parallel, c.dimensions(), c.centroids(), c.features(), c.centroidsOriginal(),
+        c.profiles(), c.silhouetteSample(), c.initSample());
     assertEquals("k-means|| on all " + Fmt.count(clustered) + " rows, then Lloyd iterations over all of them",
-        ClusterModel.startingCentroids(c), "a sample of at least every row is every row");
+        ClusterModel.startingCentroids(all), "a sample of at least every row is every row");
     ClusterResult sampled = new ClusterResult(c.space(), c.entity(), c.k(), c.selectionRule(), c.wcss(),
-        c.silhouette(), c.sizes(), c.selection(), c.dimensions(), c.centroids(), c.features(), c.centroidsOriginal(),
+        c.silhouette(), c.sizes(), parallel, c.dimensions(), c.centroids(), c.features(), c.centroidsOriginal(),
         c.profiles(), c.silhouetteSample(), 40);
     assertEquals("k-means|| on a seeded sample of 40 of the " + Fmt.count(clustered) + " rows, then Lloyd iterations"
         + " over all of them", ClusterModel.startingCentroids(sampled));

@@ -44,6 +44,8 @@ class SettingsReaderTest {
     assertEquals(ref.getInt("reduce.randomized.oversample"), s.reduce().oversample());
     assertEquals(ref.getInt("reduce.randomized.power-iterations"), s.reduce().powerIterations());
     assertEquals(ref.getLong("reduce.randomized.seed"), s.reduce().seed());
+    assertEquals(ref.getDouble("reduce.randomized.tolerance"), s.reduce().randomizedTolerance());
+    assertEquals(ref.getInt("reduce.randomized.max-power-iterations"), s.reduce().maxPowerIterations());
     assertEquals(ref.getDouble("monitor.confidence"), s.monitor().confidence());
     assertEquals(ref.getString("monitor.q-limit"), s.monitor().qLimit().word());
     assertEquals(ref.getString("output.mode"), s.output().mode().word());
@@ -51,6 +53,8 @@ class SettingsReaderTest {
     assertEquals(ref.getBoolean("cluster.enabled"), s.cluster().enabled());
     assertEquals(ref.getString("cluster.select-by"), s.cluster().selectBy().word());
     assertEquals(ref.getInt("cluster.restarts"), s.cluster().restarts());
+    assertEquals(ref.getInt("cluster.restarts-at-best"), s.cluster().restartsAtBest());
+    assertEquals(ref.getInt("cluster.max-restarts"), s.cluster().maxRestarts());
     assertEquals(ref.getString("spark.master"), s.spark().master());
     assertEquals("job", s.name(), "the name defaults to the job file's base name");
   }
@@ -92,6 +96,20 @@ class SettingsReaderTest {
     // 1e400 overflows a double (IEEE 754: largest finite value about 1.8e308) and is no tolerance
     assertEquals(List.of("job.conf:3: cluster.tolerance = Infinity: must be a positive number"),
         problems(MINIMAL + "cluster.tolerance = 1e400\ncluster.enabled = true\n"));
+  }
+
+  @Test
+  void randomizedToleranceAndItsCap() {
+    List<String> low = problems(MINIMAL + "reduce.randomized.power-iterations = 4\n"
+        + "reduce.randomized.max-power-iterations = 3\n");
+    assertEquals(1, low.size(), low.toString());
+    assertTrue(low.get(0).contains("reduce.randomized.max-power-iterations = 3 is below"
+        + " reduce.randomized.power-iterations = 4"), low.get(0));
+    List<String> zero = problems(MINIMAL + "reduce.randomized.tolerance = 0\n");
+    assertTrue(zero.get(0).contains("reduce.randomized.tolerance = 0: must be a positive number"), zero.get(0));
+    JobSettings s = read(MINIMAL + "reduce.randomized.tolerance = 1e-6\nreduce.randomized.max-power-iterations = 2\n");
+    assertEquals(1e-6, s.reduce().randomizedTolerance());
+    assertEquals(2, s.reduce().maxPowerIterations());
   }
 
   @Test

@@ -322,7 +322,8 @@ public final class FleetFixture {
     double[] db = {1.12, 0.93, 1.04, 1.15, 1.21, 1.26, 1.31};
     for (int kk = 2; kk <= 8; kk++) {
       double wss = kk == 3 ? within : within * (kk < 3 ? 1.45 : 1 - 0.07 * (kk - 3));
-      selection.add(new ClusterResult.KScore(kk, wss, sil[kk - 2], ch[kk - 2], db[kk - 2]));
+      selection.add(new ClusterResult.KScore(kk, wss, sil[kk - 2], ch[kk - 2], db[kk - 2],
+          new ClusterResult.Restarts(30 + 10 * kk, 10, wss, wss * (1 + 0.01 * kk), wss * 1.3, true)));
     }
     List<String> dims = new ArrayList<>();
     for (int c = 0; c < k; c++) {

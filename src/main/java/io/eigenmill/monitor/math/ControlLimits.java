@@ -171,6 +171,32 @@ public final class ControlLimits {
     return Math.max(EXCESS_FLOOR, (long) Math.max(upper, Math.floor(EXCESS_FACTOR * n * p + 1e-6)));
   }
 
+  /** Probability of the chance range of flagged counts shown beside the observed ones ({@link #chanceRange}). */
+  public static final double CHANCE_LEVEL = 0.95;
+
+  /**
+   * The central {@code level} range of the count of rows above a limit that holds, among {@code n} rows scored at
+   * {@code confidence}: the (1 - level) / 2 and (1 + level) / 2 quantiles of Binomial(n, 1 - confidence) (Commons
+   * Math; above 2^31 - 1 rows the normal approximation mean -/+ z sd, rounded outward). A limit that holds gives a
+   * count inside it in about {@code level} of runs, so a count above it is more than chance suggests. For new rows
+   * the count is binomial only given the fitted model: the model's own sampling error adds spread (small when the
+   * model was fitted on thousands of rows), so read a count just outside as a hint, one far outside as a finding.
+   */
+  public static long[] chanceRange(long n, double confidence, double level) {
+    double p = 1.0 - confidence;
+    if (n <= 0 || !(p > 0)) {
+      return new long[] {0, 0};
+    }
+    double tail = (1.0 - level) / 2.0;
+    if (n <= Integer.MAX_VALUE) {
+      BinomialDistribution b = new BinomialDistribution(null, (int) n, Math.min(1.0, p));
+      return new long[] {b.inverseCumulativeProbability(tail), b.inverseCumulativeProbability(1.0 - tail)};
+    }
+    double z = new NormalDistribution(null, 0, 1).inverseCumulativeProbability(1.0 - tail);
+    double sd = Math.sqrt(n * p * (1 - p));
+    return new long[] {Math.max(0, (long) Math.floor(n * p - z * sd)), (long) Math.ceil(n * p + z * sd)};
+  }
+
   /** Jackson-Mudholkar Q limit; 0 when nothing is discarded (Q is then identically zero). */
   public static double q(Thetas t, double confidence) {
     if (!(t.theta1() > 0) || !(t.theta2() > 0)) {

@@ -45,6 +45,24 @@ public final class RandomizedSubspace {
    * V = Q W of the small matrix Q^T Z = W Lambda W^T, sign-normalised.
    */
   public static Spectrum finish(double[] q, double[] z, int d, int l, long n, double totalVariance) {
+    return rayleighRitz(q, z, d, l, n, totalVariance).spectrum();
+  }
+
+  /**
+   * The Ritz pairs of one pass with their residuals, at no extra pass. With C = A^T A / (n - 1) the covariance the
+   * passes work on, the pass that produced Z was taken against this very Q, so C Q = Z / (n - 1) and, for the Ritz
+   * vectors V = Q W, C V = Z W / (n - 1): the residuals R = C V - V Theta come from the last power iteration's own
+   * product (d x l x l flops on the driver), not from another read of the data.
+   *
+   * @param spectrum the Ritz values theta (descending) and sign-normalised Ritz vectors, as {@link #finish}
+   * @param residualNorms ||C v_i - theta_i v_i||_2 for each of the l Ritz pairs (covariance units)
+   * @param residualGram R^T R (l x l, column-major, before the sign convention: a column's sign flips the signs of
+   *     its row and column of R^T R, which leaves the norm of every leading block unchanged)
+   */
+  public record Ritz(Spectrum spectrum, double[] residualNorms, double[] residualGram) {}
+
+  /** {@link #finish} with the residuals of every Ritz pair ({@link Ritz}). */
+  public static Ritz rayleighRitz(double[] q, double[] z, int d, int l, long n, double totalVariance) {
     double[] g = new double[l * l];
     Linalg.repeatableBlas().dgemm("T", "N", l, l, d, 1.0, q, d, z, d, 0.0, g, l);
     for (int j = 0; j < l; j++) {
@@ -62,7 +80,25 @@ public final class RandomizedSubspace {
     for (int i = 0; i < l; i++) {
       values[i] = e.values()[i] / denominator;
     }
+    // R = Z W / (n - 1) - V Theta, column by column
+    double[] r = new double[d * l];
+    Linalg.repeatableBlas().dgemm("N", "N", d, l, l, 1.0 / denominator, z, d, e.vectors(), l, 0.0, r, d);
+    for (int c = 0; c < l; c++) {
+      for (int i = 0; i < d; i++) {
+        r[i + c * d] -= values[c] * v[i + c * d];
+      }
+    }
+    double[] gram = new double[l * l];
+    Linalg.repeatableBlas().dgemm("T", "N", l, l, d, 1.0, r, d, r, d, 0.0, gram, l);
+    double[] norms = new double[l];
+    for (int c = 0; c < l; c++) {
+      double s = 0;
+      for (int i = 0; i < d; i++) {
+        s += r[i + c * d] * r[i + c * d];
+      }
+      norms[c] = Math.sqrt(s);
+    }
     SignConvention.apply(v, d, l);
-    return new Spectrum(d, values, v, totalVariance);
+    return new Ritz(new Spectrum(d, values, v, totalVariance), norms, gram);
   }
 }

@@ -351,6 +351,25 @@ class ControlLimitsTest {
     return tail;
   }
 
+  /**
+   * The chance range is the central 95% of Binomial(n, 1 - c) (Commons Math's quantiles); above 2^31 - 1 rows,
+   * n p -/+ 1.959964 sqrt(n p (1 - p)) rounded outward (the normal quantile, Abramowitz and Stegun table 26.5).
+   */
+  @Test
+  void chanceRangeIsTheCentralBinomialRange() {
+    BinomialDistribution b = new BinomialDistribution(null, 200_000, 1 - 0.99);
+    long[] r = ControlLimits.chanceRange(200_000, 0.99, 0.95);
+    assertEquals(b.inverseCumulativeProbability(0.025), r[0]);
+    assertEquals(b.inverseCumulativeProbability(0.975), r[1]);
+    long n = 3_000_000_000L;
+    double p = 1 - 0.99;
+    double sd = Math.sqrt(n * p * (1 - p));
+    long[] big = ControlLimits.chanceRange(n, 0.99, 0.95);
+    assertEquals((long) Math.floor(n * p - 1.959964 * sd), big[0], 1);
+    assertEquals((long) Math.ceil(n * p + 1.959964 * sd), big[1], 1);
+    assertEquals(0, ControlLimits.chanceRange(0, 0.99, 0.95)[1]);
+  }
+
   @Test
   void flaggedBoundIsABinomialTailWithAFactorAndAFloor() {
     // n = 400 at 0.99: 4 rows expected; the bound is the binomial quantile (above 3 x 4 = 12 and the floor 10):
