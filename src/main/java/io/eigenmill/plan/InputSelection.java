@@ -67,6 +67,9 @@ public record InputSelection(
         }
       }
     }
+    // in folder order on every line (Spark 4 lists the selected partitions in no fixed order)
+    partitions.sort(null);
+    files.sort(null);
     List<List<Path>> unfiltered = all == null ? null : SparkLine.selectedFiles(all);
     int totalPartitions = all == null || partitionColumns.isEmpty() ? -1 : unfiltered.size();
     int totalFiles = -1;
