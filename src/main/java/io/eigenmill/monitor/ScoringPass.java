@@ -3,6 +3,7 @@ package io.eigenmill.monitor;
 import io.eigenmill.engine.ColumnarScan;
 import io.eigenmill.engine.SparkLine;
 import io.eigenmill.io.PcaModel;
+import io.eigenmill.math.BlockBudget;
 import io.eigenmill.monitor.math.ControlLimits;
 import io.eigenmill.monitor.math.Scorer;
 import io.eigenmill.settings.Choices.MissingPolicy;
@@ -127,7 +128,8 @@ public final class ScoringPass {
    * fail (impute-mean is refused with groups by the planner).
    */
   public static Spec groupedSpec(GroupScoring groups, List<String> features, JobSettings settings) {
-    return new Spec(groups.scorers()[0], features, settings.reduce().blockRows(), settings.prepare().missing(),
+    return new Spec(groups.scorers()[0], features,
+        BlockBudget.rows(settings.reduce().blockRows(), features.size() + 1), settings.prepare().missing(),
         null, Double.NaN, Double.NaN, false, settings.output().reportSample(), groups);
   }
 
@@ -138,7 +140,8 @@ public final class ScoringPass {
    */
   public static Spec spec(PcaModel model, JobSettings settings, Limits limits, boolean reconstruct) {
     Scorer scorer = new Scorer(model.means(), model.scales(), model.loadings(), model.eigenvalues(), model.k());
-    return new Spec(scorer, model.features(), settings.reduce().blockRows(), settings.prepare().missing(),
+    return new Spec(scorer, model.features(),
+        BlockBudget.rows(settings.reduce().blockRows(), model.features().size() + 1), settings.prepare().missing(),
         model.means(), limits.t2(), limits.q(), reconstruct, reconstruct ? 0 : settings.output().reportSample());
   }
 

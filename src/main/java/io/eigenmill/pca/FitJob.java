@@ -15,6 +15,7 @@ import io.eigenmill.engine.ReadMode;
 import io.eigenmill.engine.Stopwatch;
 import io.eigenmill.io.PcaModel;
 import io.eigenmill.io.TableLoader;
+import io.eigenmill.math.BlockBudget;
 import io.eigenmill.math.BlockPrep;
 import io.eigenmill.math.ColumnStats;
 import io.eigenmill.math.Linalg;
@@ -93,7 +94,7 @@ public final class FitJob {
    */
   private FitResult grouped(FeatureInput input, Imputation impute, Stopwatch clock, List<String> warnings) {
     GroupedFit.Outcome out = GroupedFit.run(input, plan.groups(), solver(), modeFor(impute.values()), impute.prep(),
-        plan.settings().reduce().blockRows());
+        blockRows());
     clock.lap("groups");
     ReadCounts counts = out.total();
     checkRows(counts, out.pooled().rowsUsed(), plan.settings().prepare().missing());
@@ -248,8 +249,13 @@ public final class FitJob {
     }
   }
 
+  /** Rows of the passes' blocks: reduce.block-rows, at most 8 MiB of doubles per block ({@link BlockBudget}). */
+  private int blockRows() {
+    return BlockBudget.rows(plan.settings().reduce().blockRows(), plan.d() + 1);
+  }
+
   private FeatureInput open(Dataset<Row> table) {
-    FeatureInput input = new FeatureInput(table, plan.features(), plan.settings().reduce().blockRows());
+    FeatureInput input = new FeatureInput(table, plan.features(), blockRows());
     LOG.info("fit: {} features, method {}, reading {}; {}", plan.d(), plan.method().word(), input.readPath(),
         Linalg.describe());
     return input;
@@ -297,7 +303,7 @@ public final class FitJob {
       Stopwatch clock) {
     int d = plan.d();
     FeatureInput.KeyedResult<Moments> keyed = input.runKeyed("fit/moments", new SummaryAggregator<>(
-        Moments.factory(d, true)), mode, imputation, snapshots.by(), plan.settings().reduce().blockRows());
+        Moments.factory(d, true)), mode, imputation, snapshots.by(), blockRows());
     List<Snapshot> pending = new ArrayList<>();
     List<SnapshotUse.KeyRows> keys = new ArrayList<>();
     List<Moments> parts = new ArrayList<>();

@@ -1,6 +1,7 @@
 package io.eigenmill.plan;
 
 import io.eigenmill.io.LongTable;
+import io.eigenmill.math.BlockBudget;
 import io.eigenmill.settings.Choices.Method;
 import io.eigenmill.settings.JobSettings;
 import java.util.List;
@@ -140,6 +141,7 @@ public record JobPlan(
     }
     line(s, "method", method.word() + " - " + methodReason);
     line(s, "memory", memory.describe());
+    line(s, "block", BlockBudget.describe(j.reduce().blockRows(), features.size() + 1));
     line(s, "outputs", String.join(", ", outputs) + " under " + j.output().path() + " (" + j.output().mode().word()
         + ")");
     for (String note : notes) {

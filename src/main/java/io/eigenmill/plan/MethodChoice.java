@@ -1,5 +1,6 @@
 package io.eigenmill.plan;
 
+import io.eigenmill.math.BlockBudget;
 import io.eigenmill.settings.Choices.Method;
 import io.eigenmill.settings.InvalidJobException;
 import io.eigenmill.settings.JobSettings;
@@ -26,21 +27,22 @@ public final class MethodChoice {
 
   public static Choice choose(JobSettings.Reduce reduce, int d, long driverHeap, long taskHeap) {
     int l = sketchSize(reduce, d);
+    int rows = BlockBudget.rows(reduce.blockRows(), d + 1);
     Method asked = reduce.method();
     if (asked != Method.AUTO) {
-      MemoryEstimate m = estimate(asked, d, l, reduce.blockRows(), driverHeap, taskHeap);
+      MemoryEstimate m = estimate(asked, d, l, rows, driverHeap, taskHeap);
       if (!m.fits()) {
         throw new InvalidJobException("reduce.method = " + asked.word() + ": needs " + m.describe()
             + "; raise spark.driver.memory / spark.executor.memory, or set reduce.method = randomized (or auto)");
       }
       return new Choice(asked, "reduce.method = " + asked.word() + " (set in the job)", m);
     }
-    MemoryEstimate cov = estimate(Method.COVARIANCE, d, l, reduce.blockRows(), driverHeap, taskHeap);
+    MemoryEstimate cov = estimate(Method.COVARIANCE, d, l, rows, driverHeap, taskHeap);
     if (d <= reduce.covarianceMaxFeatures() && cov.fits()) {
       return new Choice(Method.COVARIANCE, "auto: d = " + d + " <= reduce.covariance-max-features ("
           + reduce.covarianceMaxFeatures() + ") and the d x d Gram fits in memory: one pass, exact", cov);
     }
-    MemoryEstimate rnd = estimate(Method.RANDOMIZED, d, l, reduce.blockRows(), driverHeap, taskHeap);
+    MemoryEstimate rnd = estimate(Method.RANDOMIZED, d, l, rows, driverHeap, taskHeap);
     if (!rnd.fits()) {
       throw new InvalidJobException("reduce.method = auto: even the randomized method needs " + rnd.describe()
           + "; raise spark.driver.memory / spark.executor.memory or lower reduce.block-rows");

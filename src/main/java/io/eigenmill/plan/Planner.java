@@ -6,6 +6,7 @@ import io.eigenmill.io.ModelStore;
 import io.eigenmill.io.PcaModel;
 import io.eigenmill.io.LongTable;
 import io.eigenmill.io.TableLoader;
+import io.eigenmill.math.BlockBudget;
 import io.eigenmill.settings.Choices.InputFormat;
 import io.eigenmill.settings.InvalidJobException;
 import io.eigenmill.settings.JobSettings;
@@ -232,8 +233,9 @@ public final class Planner {
     long driverHeap = driverHeap(spark);
     long taskHeap = taskHeap(spark);
     int d = model.d();
-    MemoryEstimate memory = new MemoryEstimate(8L * d * (model.k() + 2), 8L * settings.reduce().blockRows()
-        * (2L * d + model.k()), driverHeap, taskHeap, "block of " + settings.reduce().blockRows() + " x " + d);
+    int blockRows = BlockBudget.rows(settings.reduce().blockRows(), d + 1);
+    MemoryEstimate memory = new MemoryEstimate(8L * d * (model.k() + 2), 8L * blockRows
+        * (2L * d + model.k()), driverHeap, taskHeap, "block of " + blockRows + " x " + d);
     List<String> partitionColumns = partitionColumns(spark, table, settings);
     InputSelection selection = selection(table, kept, settings, model.features(), partitionColumns);
     return new JobPlan(settings, "apply", model.features(), model.featureTypes(), keys, partitionColumns,
@@ -326,7 +328,7 @@ public final class Planner {
     }
     int d = features.size();
     long summary = 8L * d * d;
-    long block = 8L * r.blockRows() * (d + 1L);
+    long block = 8L * BlockBudget.rows(r.blockRows(), d + 1) * (d + 1L);
     return new GroupPlan(new io.eigenmill.engine.KeyColumns(r.groupBy(), types,
         spark.conf().get("spark.sql.session.timeZone")), r.minGroupRows(d), summary, block, driverHeap(spark) / 4,
         taskHeap(spark) / 4);

@@ -5,6 +5,7 @@ import io.eigenmill.io.Snapshot;
 import io.eigenmill.io.SnapshotEntry;
 import io.eigenmill.io.SnapshotKey;
 import io.eigenmill.io.SnapshotStore;
+import io.eigenmill.math.BlockBudget;
 import io.eigenmill.settings.Choices.Method;
 import io.eigenmill.settings.InvalidJobException;
 import io.eigenmill.settings.JobSettings;
@@ -94,7 +95,7 @@ final class SnapshotPlanner {
     });
     MethodChoice.Choice choice = null;
     if (d > 0) {
-      MemoryEstimate m = MethodChoice.estimate(Method.COVARIANCE, d, 0, settings.reduce().blockRows(),
+      MemoryEstimate m = MethodChoice.estimate(Method.COVARIANCE, d, 0, BlockBudget.rows(settings.reduce().blockRows(), d + 1),
           Planner.driverHeap(spark), Planner.taskHeap(spark));
       if (!m.fits()) {
         problems.add("input.snapshots = " + in.snapshots() + ": merging " + d + " features needs " + m.describe()
