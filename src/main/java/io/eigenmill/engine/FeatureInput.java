@@ -30,6 +30,8 @@ public final class FeatureInput {
   private final ColumnarScan columnarScan;
   private final int[] ordinals;
   private final int[] kinds;
+  /** The features kept in executor memory by the first pass ({@link KeptBatches}), or null. */
+  private JavaRDD<ColumnarBatch> kept;
 
   public FeatureInput(Dataset<Row> table, List<String> features, int blockRows) {
     this.table = table;
@@ -41,6 +43,28 @@ public final class FeatureInput {
     this.columnarScan = ord == null ? null : scan;
     this.ordinals = ord;
     this.kinds = ord == null ? null : kindsIn(scan, ord, features);
+  }
+
+  /**
+   * From the next pass on, passes read the features kept in executor memory by the first of them
+   * ({@link KeptBatches}): the same values, so the same results, without reading the input again. Only for a
+   * columnar input; {@link #release} frees the memory.
+   */
+  public void keepInMemory() {
+    if (!columnar()) {
+      throw new IllegalStateException("only a columnar input keeps its batches");
+    }
+    if (kept == null) {
+      kept = KeptBatches.keep(columnarScan.batches(), ordinals, kinds);
+    }
+  }
+
+  /** Frees what {@link #keepInMemory} kept; passes read the input again. */
+  public void release() {
+    if (kept != null) {
+      kept.unpersist(false);
+      kept = null;
+    }
   }
 
   /** True when passes read Parquet's columnar batches; false for the Row path. */
@@ -82,7 +106,11 @@ public final class FeatureInput {
     LongAccumulator rows = sc.longAccumulator("eigenmill rows read (" + stage + ")");
     var spec = new PartitionPasses.PassSpec<>(features.size(), blockRows, mode, prep, aggregator, rows);
     JavaRDD<PartialResult<A>> partials;
-    if (columnar()) {
+    if (kept != null) {
+      int d = features.size();
+      partials = kept.mapPartitions(new PartitionPasses.ColumnarPass<>(spec, KeptBatches.ordinals(d),
+          KeptBatches.kinds(d)));
+    } else if (columnar()) {
       JavaRDD<ColumnarBatch> batches = columnarScan.batches();
       partials = batches.mapPartitions(new PartitionPasses.ColumnarPass<>(spec, ordinals, kinds));
     } else {

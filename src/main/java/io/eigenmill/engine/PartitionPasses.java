@@ -187,7 +187,7 @@ public final class PartitionPasses {
   }
 
   /** The value of non-null row r of an integer or decimal column, as a cast to double gives it. */
-  private static double exactValue(ColumnVector v, int kind, int r) {
+  static double exactValue(ColumnVector v, int kind, int r) {
     switch (kind) {
       case INT:
         return v.getInt(r);

@@ -2,6 +2,7 @@ package io.eigenmill.pca;
 
 import io.eigenmill.Version;
 import io.eigenmill.engine.FeatureInput;
+import io.eigenmill.engine.KeptBatches;
 import io.eigenmill.engine.OrderedMerge;
 import io.eigenmill.engine.SummaryAggregator;
 import io.eigenmill.io.Snapshot;
@@ -78,15 +79,37 @@ public final class FitJob {
     Stopwatch clock = new Stopwatch();
     List<String> warnings = new ArrayList<>();
     FeatureInput input = open(table);
+    keepIfMultiPass(input);
     clock.lap("plan");
-    Imputation impute = imputation(input, clock);
-    if (plan.groups() != null) {
-      return grouped(input, impute, clock, warnings);
+    try {
+      Imputation impute = imputation(input, clock);
+      if (plan.groups() != null) {
+        return grouped(input, impute, clock, warnings);
+      }
+      FirstPass first = firstPass(input, impute, clock);
+      checkRows(first.counts(), first.used(), plan.settings().prepare().missing());
+      return finish(input, impute, first, clock, warnings);
+    } finally {
+      input.release();
     }
-    FirstPass first = firstPass(input, impute, clock);
-    checkRows(first.counts(), first.used(), plan.settings().prepare().missing());
-    return finish(input, impute, first, clock, warnings);
   }
+
+  /**
+   * The randomized method reads the input 2 + power-iterations times (one more with impute-mean): the first pass
+   * keeps the features in executor memory when they fit ({@link KeptBatches}), so the later passes scan memory.
+   * The same decision as the plan's note ({@link MethodChoice#keptPasses}).
+   */
+  private void keepIfMultiPass(FeatureInput input) {
+    KeptBatches.Decision keep = MethodChoice.keptPasses(spark, plan.settings(), plan.method(), plan.d(),
+        plan.rowEstimate(), input.columnar());
+    if (keep != null) {
+      LOG.info("fit: {}", keep.line());
+      if (keep.keep()) {
+        input.keepInMemory();
+      }
+    }
+  }
+
 
   /**
    * A grouped fit ({@link GroupedFit}): the model of every group and the pooled model of all rows, in one pass.

@@ -282,8 +282,14 @@ public final class Planner {
     List<String> types = features.stream().map(f -> f.dataType().simpleString()).toList();
     String kind = settings.apply().appliesModel() ? "apply" : "fit";
     InputSelection selection = selection(table, kept, settings, names, partitionColumns);
+    long rows = rowEstimate(spark, kept, selection, settings);
+    var keep = MethodChoice.keptPasses(spark, settings, choice.method(), d, rows,
+        settings.input().format() == InputFormat.PARQUET);
+    if (keep != null) {
+      notes.add("passes: " + keep.line());
+    }
     return new JobPlan(settings, kind, names, types, keys, partitionColumns,
-        rowEstimate(spark, kept, selection, settings), TableLoader.sizeBytes(spark, settings.input().path()),
+        rows, TableLoader.sizeBytes(spark, settings.input().path()),
         choice.method(), choice.reason(), choice.memory(), outputs(settings), notes, warnings, selection, snapshots,
         groups);
   }

@@ -67,6 +67,12 @@ class PartitionInvarianceTest extends SparkSuite {
       runs.add(fit(write(files, 2000, 42), method, "standardize"));
     }
     RunResult base = runs.get(0);
+    for (RunResult run : runs) {
+      // the randomized method's passes 2..n read the features the first pass kept in memory (KeptBatches)
+      assertEquals(method.equals("randomized"), run.plan().notes().stream()
+          .anyMatch(n -> n.contains("the first pass keeps the features in executor memory")), run.plan().notes()
+          .toString());
+    }
     for (RunResult other : runs.subList(1, runs.size())) {
       assertEquals(base.model().rows(), other.model().rows());
       assertClose(base.fit().spectrum().eigenvalues(), other.fit().spectrum().eigenvalues(), 1e-12);
