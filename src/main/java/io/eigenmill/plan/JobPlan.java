@@ -185,13 +185,29 @@ public record JobPlan(
     return micros + " microseconds";
   }
 
+  /** Features listed in full up to this many; a wider table lists its first 40 and last 5 and counts the types. */
+  static final int FEATURES_LISTED = 60;
+
   private String describeFeatures() {
     StringBuilder s = new StringBuilder();
-    for (int i = 0; i < features.size(); i++) {
+    int n = features.size();
+    boolean wide = n > FEATURES_LISTED;
+    for (int i = 0; i < n; i++) {
+      if (wide && i == 40) {
+        s.append(", ... ").append(n - 45).append(" more ...");
+        i = n - 5;
+      }
       if (i > 0) {
         s.append(", ");
       }
       s.append(features.get(i)).append(':').append(featureTypes.get(i));
+    }
+    if (wide) {
+      java.util.Map<String, Integer> types = new java.util.TreeMap<>();
+      featureTypes.forEach(t -> types.merge(t, 1, Integer::sum));
+      StringBuilder t = new StringBuilder();
+      types.forEach((type, count) -> t.append(t.length() > 0 ? ", " : "").append(count).append(' ').append(type));
+      s.append(" (").append(t).append("; all listed in the run's model)");
     }
     return s.toString();
   }

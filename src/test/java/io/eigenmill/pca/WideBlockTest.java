@@ -72,6 +72,11 @@ class WideBlockTest extends SparkSuite {
   void blocksAreCappedByBytesAndTheFitIsTheSame() throws Exception {
     RunResult capped = fit("");
     RunResult explicit = fit("reduce.block-rows = 952\n");
+    // a wide table's plan lists its first 40 and last 5 features and counts the rest (1100 - 45 = 1055)
+    String featuresLine = capped.plan().describe().lines().filter(l -> l.startsWith("features (1100):"))
+        .findFirst().orElseThrow();
+    assertTrue(featuresLine.contains("m39:double, ... 1055 more ..., m1095:double") && !featuresLine.contains("m40:")
+        && featuresLine.endsWith("m1099:double (1100 double; all listed in the run's model)"), featuresLine);
     assertTrue(blockLine(capped).matches("block: +952 rows x 1101 columns, 8\\.00 MiB .*capped at 8 MiB.*"),
         blockLine(capped));
     assertTrue(blockLine(explicit).matches("block: +952 rows x 1101 columns, 8\\.00 MiB .*: reduce.block-rows .*"),
