@@ -80,7 +80,8 @@ final class Report {
         "yyyy-MM-dd HH:mm 'UTC'", Locale.ROOT)));
     lines.add("- machine: " + machine.describeHardware());
     lines.add("- Java: " + machine.java() + "; JVM heap (-Xmx) " + bytes(machine.maxHeapBytes())
-        + "; Spark local[" + options.cores() + "]");
+        + "; Spark " + io.eigenmill.Version.spark() + " (Scala " + io.eigenmill.Version.scala() + ") local["
+        + options.cores() + "]");
     lines.add("- BLAS/LAPACK: " + machine.blas());
     lines.add("- load average (1, 5, 15 min) at start: " + loadBefore + "; at end: " + loadAfter);
     lines.add("- command: `" + options.command() + "`");
