@@ -1,6 +1,7 @@
 package io.eigenmill.pca;
 
 import io.eigenmill.engine.KeyColumns;
+import io.eigenmill.io.DriverTables;
 import io.eigenmill.io.ModelStore;
 import io.eigenmill.io.OutputCommit;
 import io.eigenmill.pca.math.Spectrum;
@@ -52,7 +53,7 @@ public final class FitTables {
           functions.expr("aggregate(slice(transform(eigenvalues, x -> " + String.format(share, "x") + "), 1, c0 + 1),"
               + " 0D, (acc, x) -> acc + x)").as("cumulative_variance_share"),
           functions.expr("c0 < k").as("kept"))).coalesce(1).write().parquet(out.staged("spectrum"));
-      models.coalesce(1).write().parquet(out.staged("model"));
+      DriverTables.write(spark, models, out.staged("model"));
     } finally {
       models.unpersist();
     }
@@ -80,7 +81,7 @@ public final class FitTables {
     }
     StructType componentSchema = new StructType().add("feature", DataTypes.StringType, false)
         .add("component", DataTypes.IntegerType, false).add("loading", DataTypes.DoubleType, false);
-    spark.createDataFrame(loadings, componentSchema).coalesce(1).write().parquet(out.staged("components"));
+    DriverTables.write(spark, componentSchema, loadings, out.staged("components"));
     double[] shares = s.varianceShares();
     double[] cumulative = s.cumulativeVarianceShares();
     List<Row> spectrum = new ArrayList<>();
@@ -90,7 +91,7 @@ public final class FitTables {
     StructType spectrumSchema = new StructType().add("component", DataTypes.IntegerType, false)
         .add("eigenvalue", DataTypes.DoubleType, false).add("variance_share", DataTypes.DoubleType, false)
         .add("cumulative_variance_share", DataTypes.DoubleType, false).add("kept", DataTypes.BooleanType, false);
-    spark.createDataFrame(spectrum, spectrumSchema).coalesce(1).write().parquet(out.staged("spectrum"));
+    DriverTables.write(spark, spectrumSchema, spectrum, out.staged("spectrum"));
     ModelStore.write(spark, fit.model(), out.staged("model"));
   }
 }
