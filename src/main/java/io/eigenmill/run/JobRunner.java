@@ -106,14 +106,16 @@ public final class JobRunner {
     if (applying || earlier != null || store != null) {
       clock.lap("open-models");
     }
-    // a plain fit lists the input and infers its schema once: the planner and the fit share the table as read
-    Dataset<Row> opened = applying || settings.input().fromSnapshots() || settings.input().isLong() ? null
+    // a fit or an apply of one model lists the input and infers its schema once: the planner and the passes share
+    // the table as read
+    Dataset<Row> opened = groups != null || settings.input().fromSnapshots() || settings.input().isLong() ? null
         : TableLoader.read(spark, settings.input());
     if (opened != null) {
       clock.lap("open-input");
     }
     JobPlan plan = groups != null ? Planner.planApplyGroups(spark, settings, groups)
-        : applying ? Planner.planApply(spark, settings, applied)
+        : applying ? (opened != null ? Planner.planApply(spark, settings, applied, opened)
+            : Planner.planApply(spark, settings, applied))
         : opened != null ? Planner.plan(spark, settings, opened) : Planner.plan(spark, settings);
     OutputCommit out = OutputCommit.begin(spark, settings.output().path(), settings.output().mode());
     clock.lap("planning");
