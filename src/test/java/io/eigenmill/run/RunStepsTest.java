@@ -1,6 +1,8 @@
 package io.eigenmill.run;
 
 import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertFalse;
+import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import com.fasterxml.jackson.databind.JsonNode;
@@ -9,9 +11,11 @@ import io.eigenmill.io.OutputCommit;
 import io.eigenmill.pca.FitTables;
 import io.eigenmill.record.RunResult;
 import io.eigenmill.settings.Choices.OutputMode;
+import io.eigenmill.settings.InvalidJobException;
 import io.eigenmill.testing.Datasets;
 import io.eigenmill.testing.JobFiles;
 import io.eigenmill.testing.SparkSuite;
+import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.List;
@@ -74,6 +78,23 @@ class RunStepsTest extends SparkSuite {
       assertEquals(c + 1, r.getInt(1), "component of row " + i);
       assertEquals(Double.doubleToRawLongBits(run.fit().spectrum().loading(j, c)),
           Double.doubleToRawLongBits(r.getDouble(2)), "loading of row " + i);
+    }
+  }
+
+  /**
+   * A run that fails after its small tables are staged (clustering 50 rows into 60 clusters fails after the fit's
+   * tables are written) publishes nothing: no output folder and no staging folder beside it.
+   */
+  @Test
+  void aRunThatFailsAfterTheSmallTablesPublishesNothing() throws Exception {
+    Path parent = JobFiles.scratch("run-steps-fails");
+    Path out = parent.resolve("fit");
+    assertThrows(InvalidJobException.class, () -> JobRunner.run(spark, JobFiles.settings("input.path = \""
+        + Datasets.csv("usarrests") + "\"\ninput.format = csv\nfeatures.columns = " + JobFiles.quoted(ARRESTS)
+        + "\nreduce.components = 2\ncluster { enabled = true, k = 60 }\noutput.path = \"" + out + "\"\n")));
+    assertFalse(Files.exists(out), "output.path after a failed run");
+    try (var left = Files.list(parent)) {
+      assertEquals(List.of(), left.toList(), "nothing beside output.path after a failed run");
     }
   }
 }
