@@ -63,9 +63,15 @@ public final class Main {
     Set<String> secrets = new LinkedHashSet<>(Redaction.secretValuesOfSets(a.sets()));
     SparkSession spark = null;
     try {
+      long reading = System.nanoTime();
       JobSettings settings = new SettingsReader().read(a.jobFile(), a.sets(), a.envFile());
       secrets.addAll(Redaction.secretValues(settings.spark().conf()));
+      long starting = System.nanoTime();
       spark = Sessions.open(settings);
+      // the run's timings start with these two: the settings read and checked, and Spark started (or joined)
+      java.util.Map<String, Double> before = new java.util.LinkedHashMap<>();
+      before.put("settings", (starting - reading) / 1e9);
+      before.put("spark-start", (System.nanoTime() - starting) / 1e9);
       if (a.command().equals("plan")) {
         InputFiles.Check input = settings.input().fromSnapshots() ? null : InputFiles.check(spark, settings.input());
         if (input != null && !input.skipWarning().isEmpty()) {
@@ -78,7 +84,7 @@ public final class Main {
             + Linalg.describe() + ")");
         return OK;
       }
-      RunResult result = JobRunner.run(spark, settings);
+      RunResult result = JobRunner.run(spark, settings, before);
       out.println(Redaction.scrub(Outcome.describe(result), secrets));
       return OK;
     } catch (InvalidJobException e) {

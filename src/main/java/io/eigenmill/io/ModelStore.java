@@ -43,7 +43,7 @@ public final class ModelStore {
       .add("sds", DataTypes.createArrayType(DataTypes.DoubleType), false);
 
   public static void write(SparkSession spark, PcaModel m, String path) {
-    spark.createDataFrame(List.of(RowFactory.create(fields(m))), SCHEMA).coalesce(1).write().parquet(path);
+    DriverTables.write(spark, SCHEMA, List.of(RowFactory.create(fields(m))), path);
   }
 
   /** The values of a model's row, in the order of {@link #SCHEMA}. */
@@ -98,7 +98,7 @@ public final class ModelStore {
    * back), then the columns of a single model.
    */
   public static void writeGroups(SparkSession spark, KeyColumns by, Map<KeyValues, PcaModel> models, String path) {
-    groupTable(spark, by, models).coalesce(1).write().parquet(path);
+    DriverTables.write(spark, groupTable(spark, by, models), path);
   }
 
   /**

@@ -1,6 +1,7 @@
 package io.eigenmill.kmeans;
 
 import io.eigenmill.engine.Stopwatch;
+import io.eigenmill.io.DriverTables;
 import io.eigenmill.io.PcaModel;
 import io.eigenmill.kmeans.ParallelKMeans.Fitted;
 import io.eigenmill.kmeans.ParallelKMeans.Run;
@@ -135,9 +136,10 @@ public final class ClusterJob {
   /** Writes the four tables as Parquet under {@code folder}/assignments, /centroids, /profiles, /k-selection. */
   public static void writeTables(ClusterOutcome o, String folder) {
     o.assignments().write().parquet(folder + "/assignments");
-    o.centroids().write().parquet(folder + "/centroids");
-    o.profiles().write().parquet(folder + "/profiles");
-    o.kSelection().write().parquet(folder + "/k-selection");
+    // the three small tables are written from the driver (no Spark job each)
+    DriverTables.write(o.centroids().sparkSession(), o.centroids(), folder + "/centroids");
+    DriverTables.write(o.profiles().sparkSession(), o.profiles(), folder + "/profiles");
+    DriverTables.write(o.kSelection().sparkSession(), o.kSelection(), folder + "/k-selection");
   }
 
   private List<Run> runs() {

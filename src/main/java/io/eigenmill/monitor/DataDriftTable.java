@@ -1,5 +1,6 @@
 package io.eigenmill.monitor;
 
+import io.eigenmill.io.DriverTables;
 import java.util.ArrayList;
 import java.util.List;
 import org.apache.spark.sql.Row;
@@ -52,6 +53,6 @@ public final class DataDriftTable {
         .add("component", DataTypes.IntegerType, true).add("feature", DataTypes.StringType, true)
         .add("model_value", DataTypes.DoubleType, true).add("new_value", DataTypes.DoubleType, true)
         .add("value", DataTypes.DoubleType, true);
-    spark.createDataFrame(rows, schema).coalesce(1).write().parquet(path);
+    DriverTables.write(spark, schema, rows, path);
   }
 }

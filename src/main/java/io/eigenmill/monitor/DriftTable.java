@@ -1,5 +1,6 @@
 package io.eigenmill.monitor;
 
+import io.eigenmill.io.DriverTables;
 import java.util.ArrayList;
 import java.util.List;
 import org.apache.spark.sql.Row;
@@ -34,6 +35,6 @@ public final class DriftTable {
         .add("index", DataTypes.IntegerType, true).add("feature", DataTypes.StringType, true)
         .add("old_value", DataTypes.DoubleType, true).add("new_value", DataTypes.DoubleType, true)
         .add("value", DataTypes.DoubleType, true);
-    spark.createDataFrame(rows, schema).coalesce(1).write().parquet(path);
+    DriverTables.write(spark, schema, rows, path);
   }
 }

@@ -1,6 +1,7 @@
 package io.eigenmill.monitor;
 
 import io.eigenmill.engine.Progress;
+import io.eigenmill.io.DriverTables;
 import io.eigenmill.io.OutputCommit;
 import io.eigenmill.engine.KeyColumns;
 import io.eigenmill.engine.KeyValues;
@@ -382,6 +383,6 @@ public final class ScoringStage {
     var schema = new org.apache.spark.sql.types.StructType().add("feature", DataTypes.StringType, false)
         .add("rmse", DataTypes.DoubleType, false).add("max_abs_error", DataTypes.DoubleType, false)
         .add("variance_kept", DataTypes.DoubleType, false);
-    spark.createDataFrame(rows, schema).coalesce(1).write().parquet(out.staged("reconstruction-error"));
+    DriverTables.write(spark, schema, rows, out.staged("reconstruction-error"));
   }
 }

@@ -1,6 +1,7 @@
 package io.eigenmill.pca;
 
 import io.eigenmill.engine.KeyColumns;
+import io.eigenmill.io.DriverTables;
 import io.eigenmill.io.ModelStore;
 import io.eigenmill.io.OutputCommit;
 import io.eigenmill.pca.math.Spectrum;
@@ -22,41 +23,61 @@ public final class FitTables {
   /**
    * Writes the tables of a grouped fit: {@code model/} (one row per group with a model, the group columns first),
    * {@code pooled-model/} (the model of all rows, as a fit without groups writes it), and {@code components/} and
-   * {@code spectrum/} with the group columns first. The last two are exploded by Spark from the model table (one row
-   * per group): at 10,000 groups of 100 features and k = 10, components/ has 10 million rows, which the driver must
-   * not build one by one. Shares and cumulative shares are the same sums in the same order as
+   * {@code spectrum/} with the group columns first. The last two are built on the driver ({@link GroupTables}) when
+   * each has at most {@link DriverTables#MAX_ROWS} rows, else exploded by Spark from the model table (one row per
+   * group): at 10,000 groups of 100 features and k = 10, components/ has 10 million rows, which the driver must not
+   * build one by one. Shares and cumulative shares are the same sums in the same order as
    * {@link Spectrum#varianceShares} and {@link Spectrum#cumulativeVarianceShares}.
    */
   static void writeGroups(SparkSession spark, FitResult fit, OutputCommit out) {
     Groups g = fit.groups();
-    KeyColumns by = g.by();
-    Dataset<Row> models = ModelStore.groupTable(spark, by, g.models()).cache();
+    Dataset<Row> models = ModelStore.groupTable(spark, g.by(), g.models());
+    if (GroupTables.fitsDriver(g)) {
+      GroupTables.write(spark, models, exploded(models, g.by()), out);
+    } else {
+      writeGroupsBySpark(spark, models, g.by(), out);
+    }
+    ModelStore.write(spark, fit.model(), out.staged("pooled-model"));
+  }
+
+  /** The components and spectrum tables as Spark explodes them from the model table (their schemas, lazily). */
+  static Dataset<Row>[] exploded(Dataset<Row> models, KeyColumns by) {
+    List<Column> keys = new ArrayList<>();
+    for (String c : by.names()) {
+      keys.add(functions.col(c));
+    }
+    Dataset<Row> perComponent = models.select(concat(keys, functions.col("features"),
+        functions.posexplode(functions.col("loadings")).as(new String[] {"c0", "vector"})));
+    Dataset<Row> loadings = perComponent.select(concat(keys, functions.col("features"), functions.col("c0"),
+        functions.posexplode(functions.col("vector")).as(new String[] {"j", "loading"})));
+    Dataset<Row> components = loadings.select(concat(keys,
+        functions.expr("element_at(features, j + 1)").as("feature"), functions.expr("c0 + 1").as("component"),
+        functions.col("loading")));
+    Dataset<Row> perEigenvalue = models.select(concat(keys, functions.col("eigenvalues"),
+        functions.col("total_variance"), functions.col("k"),
+        functions.posexplode(functions.col("eigenvalues")).as(new String[] {"c0", "eigenvalue"})));
+    String share = "(CASE WHEN total_variance > 0 THEN %s / total_variance ELSE 0D END)";
+    Dataset<Row> spectrum = perEigenvalue.select(concat(keys, functions.expr("c0 + 1").as("component"),
+        functions.col("eigenvalue"), functions.expr(String.format(share, "eigenvalue")).as("variance_share"),
+        functions.expr("aggregate(slice(transform(eigenvalues, x -> " + String.format(share, "x") + "), 1, c0 + 1),"
+            + " 0D, (acc, x) -> acc + x)").as("cumulative_variance_share"),
+        functions.expr("c0 < k").as("kept")));
+    @SuppressWarnings("unchecked")
+    Dataset<Row>[] both = new Dataset[] {components, spectrum};
+    return both;
+  }
+
+  /** Writes the model, components and spectrum tables of the groups by Spark (one job each). */
+  static void writeGroupsBySpark(SparkSession spark, Dataset<Row> table, KeyColumns by, OutputCommit out) {
+    Dataset<Row> models = table.cache();
     try {
-      List<Column> keys = new ArrayList<>();
-      for (String c : by.names()) {
-        keys.add(functions.col(c));
-      }
-      Dataset<Row> perComponent = models.select(concat(keys, functions.col("features"),
-          functions.posexplode(functions.col("loadings")).as(new String[] {"c0", "vector"})));
-      Dataset<Row> loadings = perComponent.select(concat(keys, functions.col("features"), functions.col("c0"),
-          functions.posexplode(functions.col("vector")).as(new String[] {"j", "loading"})));
-      loadings.select(concat(keys, functions.expr("element_at(features, j + 1)").as("feature"),
-          functions.expr("c0 + 1").as("component"), functions.col("loading"))).coalesce(1).write()
-          .parquet(out.staged("components"));
-      Dataset<Row> perEigenvalue = models.select(concat(keys, functions.col("eigenvalues"),
-          functions.col("total_variance"), functions.col("k"),
-          functions.posexplode(functions.col("eigenvalues")).as(new String[] {"c0", "eigenvalue"})));
-      String share = "(CASE WHEN total_variance > 0 THEN %s / total_variance ELSE 0D END)";
-      perEigenvalue.select(concat(keys, functions.expr("c0 + 1").as("component"), functions.col("eigenvalue"),
-          functions.expr(String.format(share, "eigenvalue")).as("variance_share"),
-          functions.expr("aggregate(slice(transform(eigenvalues, x -> " + String.format(share, "x") + "), 1, c0 + 1),"
-              + " 0D, (acc, x) -> acc + x)").as("cumulative_variance_share"),
-          functions.expr("c0 < k").as("kept"))).coalesce(1).write().parquet(out.staged("spectrum"));
-      models.coalesce(1).write().parquet(out.staged("model"));
+      Dataset<Row>[] tables = exploded(models, by);
+      tables[0].coalesce(1).write().parquet(out.staged("components"));
+      tables[1].coalesce(1).write().parquet(out.staged("spectrum"));
+      DriverTables.write(spark, table, out.staged("model"));
     } finally {
       models.unpersist();
     }
-    ModelStore.write(spark, fit.model(), out.staged("pooled-model"));
   }
 
   private static Column[] concat(List<Column> first, Column... rest) {
@@ -80,7 +101,7 @@ public final class FitTables {
     }
     StructType componentSchema = new StructType().add("feature", DataTypes.StringType, false)
         .add("component", DataTypes.IntegerType, false).add("loading", DataTypes.DoubleType, false);
-    spark.createDataFrame(loadings, componentSchema).coalesce(1).write().parquet(out.staged("components"));
+    DriverTables.write(spark, componentSchema, loadings, out.staged("components"));
     double[] shares = s.varianceShares();
     double[] cumulative = s.cumulativeVarianceShares();
     List<Row> spectrum = new ArrayList<>();
@@ -90,7 +111,7 @@ public final class FitTables {
     StructType spectrumSchema = new StructType().add("component", DataTypes.IntegerType, false)
         .add("eigenvalue", DataTypes.DoubleType, false).add("variance_share", DataTypes.DoubleType, false)
         .add("cumulative_variance_share", DataTypes.DoubleType, false).add("kept", DataTypes.BooleanType, false);
-    spark.createDataFrame(spectrum, spectrumSchema).coalesce(1).write().parquet(out.staged("spectrum"));
+    DriverTables.write(spark, spectrumSchema, spectrum, out.staged("spectrum"));
     ModelStore.write(spark, fit.model(), out.staged("model"));
   }
 }

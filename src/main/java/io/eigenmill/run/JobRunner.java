@@ -4,6 +4,7 @@ import io.eigenmill.engine.Stopwatch;
 import io.eigenmill.engine.KeyColumns;
 import io.eigenmill.io.GroupModels;
 import io.eigenmill.io.InputFiles;
+import io.eigenmill.io.InputFilter;
 import io.eigenmill.io.LongTable;
 import io.eigenmill.io.ModelStore;
 import io.eigenmill.io.OutputCommit;
@@ -70,11 +71,25 @@ public final class JobRunner {
    * ({@link WriterSession}); {@code caller}'s own settings are unchanged.
    */
   public static RunResult run(SparkSession caller, JobSettings settings) {
+    return run(caller, settings, Map.of());
+  }
+
+  /**
+   * Runs the job as {@link #run(SparkSession, JobSettings)} does; {@code before} holds the timings of what the
+   * caller did first (reading the settings, starting Spark), which lead the run's {@code timings_seconds}. Every
+   * step of the run is timed after them: session (the writer session), check-input (every footer read),
+   * open-models (apply jobs), open-input, planning, the fit's or the scoring's own steps, write-model, report and
+   * summary; the commit, which follows the summary, is logged.
+   */
+  public static RunResult run(SparkSession caller, JobSettings settings, Map<String, Double> before) {
     long started = System.nanoTime();
+    Stopwatch clock = new Stopwatch();
     SparkSession spark = WriterSession.of(caller, settings.spark().conf());
+    clock.lap("session");
     // every Parquet footer is read before anything else: an unreadable file fails the run here (exit 2, naming it)
     // or, with input.corrupt-files = skip, is left out and reported
     String skipped = settings.input().fromSnapshots() ? "" : InputFiles.check(spark, settings.input()).skipWarning();
+    clock.lap("check-input");
     // a store path that is not a store fails here, before any work (an absent or empty folder becomes a store)
     SnapshotStore store = settings.output().writesSnapshots() ? SnapshotStore.open(
         spark.sparkContext().hadoopConfiguration(), "output.snapshots", settings.output().snapshots(), true) : null;
@@ -88,20 +103,46 @@ public final class JobRunner {
     if (applying && earlier != null && groups == null) {
       DriftCheck.refuseSelf(spark, settings.apply(), applied, earlier);
     }
+    if (applying || earlier != null || store != null) {
+      clock.lap("open-models");
+    }
+    // a fit or an apply of one model lists the input and infers its schema once: the planner and the passes share
+    // the table as read
+    Dataset<Row> opened = groups != null || settings.input().fromSnapshots() || settings.input().isLong() ? null
+        : TableLoader.read(spark, settings.input());
+    if (opened != null) {
+      clock.lap("open-input");
+    }
     JobPlan plan = groups != null ? Planner.planApplyGroups(spark, settings, groups)
-        : applying ? Planner.planApply(spark, settings, applied) : Planner.plan(spark, settings);
+        : applying ? (opened != null ? Planner.planApply(spark, settings, applied, opened)
+            : Planner.planApply(spark, settings, applied))
+        : opened != null ? Planner.plan(spark, settings, opened) : Planner.plan(spark, settings);
     OutputCommit out = OutputCommit.begin(spark, settings.output().path(), settings.output().mode());
+    clock.lap("planning");
+    Map<String, Double> first = new LinkedHashMap<>(before);
+    first.putAll(clock.timings());
     try {
-      RunResult result = execute(spark, plan, applied, groups, earlier, out, started, skipped);
+      RunResult result = execute(spark, plan, applied, groups, earlier, out, started, skipped, first, opened);
+      clock.restart();
       if (result.plan().longInput() != null) {
         out.delete(LongTable.STAGING);
         out.writeText(LongTable.MAPPING_FILE, LongTable.mappingCsv(result.plan().longInput()));
       }
-      out.writeText("summary.json", SummaryJson.render(result));
       out.writeText("report.html", HtmlReport.render(result));
+      clock.lap("report");
+      // the run's timings map (built by execute for this run) takes the steps after it; the summary is rendered
+      // twice so that the one written carries the time of the first rendering
+      SummaryJson.render(result);
+      clock.lap("summary");
+      result.timings().put("report", clock.timings().get("report"));
+      result.timings().put("summary", clock.timings().get("summary"));
+      out.writeText("summary.json", SummaryJson.render(result));
+      clock.restart();
       commitSnapshots(store, result);
       out.commit();
-      LOG.info("run: committed {}", out.finalPath());
+      clock.lap("commit");
+      LOG.info("run: committed {} (commit {} s)", out.finalPath(),
+          String.format(java.util.Locale.ROOT, "%.3f", clock.timings().get("commit")));
       return result;
     } catch (RuntimeException | Error e) {
       out.abort();
@@ -123,7 +164,8 @@ public final class JobRunner {
   }
 
   private static RunResult execute(SparkSession spark, JobPlan plan, PcaModel applied, GroupModels groups,
-      PcaModel earlier, OutputCommit out, long started, String skipped) {
+      PcaModel earlier, OutputCommit out, long started, String skipped, Map<String, Double> first,
+      Dataset<Row> opened) {
     Dataset<Row> table;
     if (plan.longInput() != null) {
       // the long table is pivoted once into the staging folder; every pass then reads it as a wide Parquet table
@@ -134,9 +176,11 @@ public final class JobRunner {
           staged.view().pivoted().rows(), staged.view().metrics().size(),
           String.format(java.util.Locale.ROOT, "%.1f", staged.view().pivoted().seconds()));
     } else {
-      table = plan.settings().input().fromSnapshots() ? null : TableLoader.load(spark, plan.settings().input());
+      table = plan.settings().input().fromSnapshots() ? null : opened != null
+          ? InputFilter.apply(opened, plan.settings().input()) : TableLoader.load(spark, plan.settings().input());
     }
     Steps run = new Steps(spark, plan, out, skipped);
+    run.first.putAll(first);
     run.appliedGroups = groups;
     FitResult fit = applied == null ? run.fit(table) : null;
     PcaModel model = fit == null ? applied : fit.model();
@@ -165,6 +209,8 @@ public final class JobRunner {
     private final OutputCommit out;
     private final Stopwatch clock = new Stopwatch();
     private final Map<String, Double> fitTimings = new LinkedHashMap<>();
+    /** The timings of the steps before this one (settings, Spark start, session, input check, planning). */
+    private final Map<String, Double> first = new LinkedHashMap<>();
     private final List<String> warnings;
     private ScoreSample sample;
     private GroupModels appliedGroups;
@@ -276,7 +322,7 @@ public final class JobRunner {
 
     /** The fit's own timings, then the run's steps. */
     Map<String, Double> timings() {
-      Map<String, Double> timings = new LinkedHashMap<>();
+      Map<String, Double> timings = new LinkedHashMap<>(first);
       if (plan.longInput() != null && plan.longInput().pivoted() != null) {
         timings.put("pivot", plan.longInput().pivoted().seconds());
       }
