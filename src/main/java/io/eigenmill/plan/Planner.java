@@ -282,16 +282,20 @@ public final class Planner {
     List<String> types = features.stream().map(f -> f.dataType().simpleString()).toList();
     String kind = settings.apply().appliesModel() ? "apply" : "fit";
     InputSelection selection = selection(table, kept, settings, names, partitionColumns);
-    long rows = rowEstimate(spark, kept, selection, settings);
+    TableRead tableRead = settings.input().fromTable() ? TableRead.of(spark, settings.input(), kept, names) : null;
+    long rows = tableRead == null ? rowEstimate(spark, kept, selection, settings)
+        : tableRead.rows() >= 0 ? (settings.input().filtered() ? -1 : tableRead.rows())
+        : kept.inputFiles().length > 0 ? rowEstimate(spark, kept, selection, settings) : -1;
     var keep = MethodChoice.keptPasses(spark, settings, choice.method(), d, rows,
         settings.input().format() == InputFormat.PARQUET);
     if (keep != null) {
       notes.add("passes: " + keep.line());
     }
-    return new JobPlan(settings, kind, names, types, keys, partitionColumns,
+    JobPlan plan = new JobPlan(settings, kind, names, types, keys, partitionColumns,
         rows, TableLoader.sizeBytes(spark, settings.input().path()),
         choice.method(), choice.reason(), choice.memory(), outputs(settings), notes, warnings, selection, snapshots,
         groups);
+    return tableRead == null ? plan : plan.withTableRead(tableRead);
   }
 
   /**
@@ -386,7 +390,7 @@ public final class Planner {
     if (!settings.input().filtered() || settings.input().isLong()) {
       return null;
     }
-    return InputSelection.of(table, kept, settings.input().where(), settings.input().path(), features,
+    return InputSelection.of(table, kept, settings.input().where(), settings.input().source(), features,
         partitionColumns);
   }
 
