@@ -65,7 +65,7 @@ public record TableRead(String table, String asOf, String provider, long snapsho
         + (rows >= 0 ? String.format(Locale.ROOT, ", %,d rows", rows) : "")
         + (asOf.isEmpty() ? " (current)" : " (input.as-of = " + asOf + ")");
     lines.add(new String[] {"snapshot", snapshot});
-    lines.add(new String[] {"table partitioning", partitioning.isEmpty() ? "none" : String.join(", ", partitioning)});
+    lines.add(new String[] {"partitioning", partitioning.isEmpty() ? "none" : String.join(", ", partitioning)});
     lines.add(new String[] {"scan", columnar ? "columnar: the passes read the table scan's columnar batches"
         : "rows, not columnar: " + rowsReason});
     return lines;

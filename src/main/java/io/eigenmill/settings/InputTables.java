@@ -16,7 +16,8 @@ public final class InputTables {
   /** A multi-part table name: dot-separated parts, each a plain identifier or a back-quoted one. */
   private static final Pattern NAME = Pattern.compile("(`[^`]+`|[A-Za-z_][A-Za-z0-9_]*)(\\.(`[^`]+`|[A-Za-z_][A-Za-z0-9_]*))*");
   private static final Pattern DIGITS = Pattern.compile("[0-9]{1,19}");
-  private static final DateTimeFormatter SPACED = DateTimeFormatter.ofPattern("yyyy-MM-dd HH:mm:ss");
+  private static final DateTimeFormatter SPACED = DateTimeFormatter.ofPattern("uuuu-MM-dd HH:mm:ss")
+      .withResolverStyle(java.time.format.ResolverStyle.STRICT);
 
   /** What {@code input.as-of} names. */
   public enum AsOfKind {
