@@ -151,7 +151,7 @@ public final class Planner {
         : TableLoader.read(spark, settings.input()).schema();
     for (String g : groups.columns()) {
       if (schema.getFieldIndex(g).isEmpty()) {
-        problems.add(named + ": the input " + settings.input().path() + " lacks the group column " + g);
+        problems.add(named + ": the input " + settings.input().source() + " lacks the group column " + g);
       }
     }
     List<String> other = new ArrayList<>();
@@ -219,7 +219,7 @@ public final class Planner {
       }
     }
     if (!missing.isEmpty()) {
-      problems.add("apply.model = " + settings.apply().model() + ": the input " + settings.input().path()
+      problems.add("apply.model = " + settings.apply().model() + ": the input " + settings.input().source()
           + " lacks the model feature" + (missing.size() > 1 ? "s " : " ") + String.join(", ", missing));
     }
     if (!retyped.isEmpty()) {
@@ -285,7 +285,7 @@ public final class Planner {
     TableRead tableRead = settings.input().fromTable() ? TableRead.of(spark, settings.input(), kept, names) : null;
     long rows = tableRead == null ? rowEstimate(spark, kept, selection, settings)
         : tableRead.rows() >= 0 ? (settings.input().filtered() ? -1 : tableRead.rows())
-        : kept.inputFiles().length > 0 ? rowEstimate(spark, kept, selection, settings) : -1;
+        : rowEstimate(spark, kept, selection, settings);
     var keep = MethodChoice.keptPasses(spark, settings, choice.method(), d, rows,
         settings.input().format() == InputFormat.PARQUET);
     if (keep != null) {
@@ -512,7 +512,8 @@ public final class Planner {
       return -1;
     }
     String[] files = selection != null ? selection.files().toArray(String[]::new) : table.inputFiles();
-    if (files.length > FOOTER_LIMIT || files.length == 0 && settings.input().isLong()) {
+    if (files.length > FOOTER_LIMIT
+        || files.length == 0 && (settings.input().isLong() || settings.input().fromTable())) {
       return -1;
     }
     Configuration conf = spark.sparkContext().hadoopConfiguration();

@@ -103,6 +103,33 @@ class IcebergInputTest extends SparkSuite {
   }
 
   @Test
+  void applyScoresTheTableAsTheFolder() throws Exception {
+    String t = table("wine_apply");
+    TableInputs.rows(spark).coalesce(1).writeTo(t).using("iceberg").create();
+    var fit = TableInputs.settings("input.path = \"" + folder + "\"");
+    JobRunner.run(spark, fit);
+    List<Row> fromFolder = scores(apply("input.path = \"" + folder + "\"", fit.output().path()));
+    List<Row> fromTable = scores(apply("input.table = \"" + t + "\"", fit.output().path()));
+    // the same rows in the same order, scored by the same model: the same scores, T2 and Q bit for bit
+    assertEquals(178, fromTable.size(), "the wine data has 178 rows (datasets README)");
+    assertEquals(fromFolder, fromTable);
+  }
+
+  private static String apply(String input, String model) throws Exception {
+    Path out = Files.createTempDirectory("eigenmill-table-apply-").resolve("apply");
+    JobRunner.run(spark, new io.eigenmill.settings.SettingsReader().readString(input
+        + "\nfeatures.keys = [class]\napply.model = \"" + model + "\"\noutput.path = \"" + out + "\"\n", List.of(), "apply.conf"));
+    return out.toString();
+  }
+
+  private static List<Row> scores(String out) {
+    Dataset<Row> s = spark.read().parquet(out + "/scores");
+    org.apache.spark.sql.Column[] all = java.util.Arrays.stream(s.columns()).map(functions::col)
+        .toArray(org.apache.spark.sql.Column[]::new);
+    return s.orderBy(all).collectAsList();
+  }
+
+  @Test
   void asOfAnEarlierSnapshotGivesTheEarlierModel() throws Exception {
     String t = table("wine_growing");
     Dataset<Row> wine = TableInputs.rows(spark).coalesce(1);
