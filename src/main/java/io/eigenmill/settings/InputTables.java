@@ -14,7 +14,8 @@ import java.util.regex.Pattern;
  */
 public final class InputTables {
   /** A multi-part table name: dot-separated parts, each a plain identifier or a back-quoted one. */
-  private static final Pattern NAME = Pattern.compile("(`[^`]+`|[A-Za-z_][A-Za-z0-9_]*)(\\.(`[^`]+`|[A-Za-z_][A-Za-z0-9_]*))*");
+  private static final String PART = "(`[^`]+`|[A-Za-z_][A-Za-z0-9_]*)";
+  private static final Pattern NAME = Pattern.compile(PART + "(\\." + PART + ")*");
   private static final Pattern DIGITS = Pattern.compile("[0-9]{1,19}");
   private static final DateTimeFormatter SPACED = DateTimeFormatter.ofPattern("uuuu-MM-dd HH:mm:ss")
       .withResolverStyle(java.time.format.ResolverStyle.STRICT);

@@ -118,7 +118,8 @@ class IcebergInputTest extends SparkSuite {
   private static String apply(String input, String model) throws Exception {
     Path out = Files.createTempDirectory("eigenmill-table-apply-").resolve("apply");
     JobRunner.run(spark, new io.eigenmill.settings.SettingsReader().readString(input
-        + "\nfeatures.keys = [class]\napply.model = \"" + model + "\"\noutput.path = \"" + out + "\"\n", List.of(), "apply.conf"));
+        + "\nfeatures.keys = [class]\napply.model = \"" + model + "\"\noutput.path = \"" + out + "\"\n", List.of(),
+        "apply.conf"));
     return out.toString();
   }
 
