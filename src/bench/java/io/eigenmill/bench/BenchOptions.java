@@ -24,10 +24,12 @@ import java.util.Set;
  *     fit against Spark's pivot followed by our wide fit, and a plain read of the long table ({@link LongRun}); the
  *     main table then has {@link #LONG_ROWS} rows unless {@code --rows} is given
  * @param command the command as typed, for the results file
+ * @param tables only the table-input case: the covariance fit from an Iceberg copy of the main table against the
+ *     fit from its Parquet folder ({@link TableRun})
  */
 public record BenchOptions(long rows, int features, int cores, int reps, Path data, List<BenchCase> cases,
     boolean casesGiven, boolean scaling, boolean wide, boolean windows, boolean groups, boolean longInput,
-    boolean smoke, Path out, String command) {
+    boolean smoke, Path out, String command, boolean tables) {
 
   public static final long DEFAULT_ROWS = 2_000_000L;
   public static final int DEFAULT_FEATURES = 100;
@@ -59,6 +61,8 @@ public record BenchOptions(long rows, int features, int cores, int reps, Path da
       "                row per (host, ts, metric, value), 50 million rows at d = 100; our long fit (input.layout =",
       "                long, 5-minute buckets, mean) against Spark's groupBy(host, bucket).pivot(metric, names)",
       "                .agg(avg(value)) followed by our wide fit, and a plain read of the long table",
+      "  --tables      only the table-input case: the main table copied once into an Iceberg table (Hadoop",
+      "                catalog under --data), the covariance fit from the table against the fit from the folder",
       "  --smoke       tiny table (20000 x 20 unless given), 1 repetition, no warm-up",
       "  --out FILE    results as markdown (default local-demo/BENCHMARKS.md); only this run's sections are replaced");
 
@@ -87,6 +91,7 @@ public record BenchOptions(long rows, int features, int cores, int reps, Path da
     boolean groups = false;
     boolean longInput = false;
     boolean smoke = false;
+    boolean tables = false;
     for (int i = 0; i < args.length; i++) {
       String a = args[i];
       switch (a) {
@@ -106,6 +111,7 @@ public record BenchOptions(long rows, int features, int cores, int reps, Path da
         case "--groups" -> groups = true;
         case "--long" -> longInput = true;
         case "--smoke" -> smoke = true;
+        case "--tables" -> tables = true;
         default -> throw new IllegalArgumentException("unknown argument '" + a + "'");
       }
     }
@@ -129,7 +135,7 @@ public record BenchOptions(long rows, int features, int cores, int reps, Path da
       throw new IllegalArgumentException("--features " + d + ": at least 11 (the fits keep k = 10 components)");
     }
     return new BenchOptions(n, d, cores, reps, data, new ArrayList<>(cases), casesGiven, scaling, wide, windows,
-        groups, longInput, smoke, out, command(args));
+        groups, longInput, smoke, out, command(args), tables);
   }
 
   private static Set<BenchCase> casesOf(String list) {

@@ -89,6 +89,15 @@ public final class Benchmark {
           Machine.loadAverage())));
       return new Outcome(null, null, null, options.out());
     }
+    if (options.tables()) {
+      TableRun.TableResult tables = TableRun.run(spark, options);
+      if (tables != null) {
+        String body = TableRun.render(tables, Report.header(machine, options, loadBefore, Machine.loadAverage()));
+        System.out.println(body);
+        Report.writeSection(options.out(), "tables", body);
+      }
+      return new Outcome(null, null, null, options.out());
+    }
     if (options.longInput()) {
       LongRun.LongResult longInput = LongRun.run(spark, options);
       String body = LongRun.render(longInput, Report.header(machine, options, loadBefore, Machine.loadAverage()),

@@ -22,7 +22,8 @@ import java.util.regex.Pattern;
  * needs its own JVM) can all land in one file; text after the last section (notes on the figures) is kept too. Also the shared formatting helpers.
  */
 final class Report {
-  static final List<String> SECTIONS = List.of("main", "scaling", "wide", "windows", "groups", "long");
+  static final List<String> SECTIONS = List.of("main", "scaling", "wide", "windows", "groups", "long",
+      "tables");
   private static final Pattern SECTION = Pattern.compile(
       "<!-- bench:([a-z]+) -->\\n(.*?)<!-- /bench:\\1 -->", Pattern.DOTALL);
   private static final String TITLE = String.join("\n",

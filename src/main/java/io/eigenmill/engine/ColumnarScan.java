@@ -20,6 +20,7 @@ import org.apache.spark.sql.execution.SparkPlan;
 import org.apache.spark.sql.execution.WholeStageCodegenExec;
 import org.apache.spark.sql.execution.adaptive.AdaptiveSparkPlanExec;
 import org.apache.spark.sql.execution.columnar.InMemoryTableScanExec;
+import org.apache.spark.sql.execution.datasources.v2.BatchScanExec;
 import org.apache.spark.sql.types.DataType;
 import org.apache.spark.sql.vectorized.ColumnarBatch;
 import scala.collection.JavaConverters;
@@ -28,6 +29,11 @@ import scala.collection.JavaConverters;
  * The Parquet scan (or the scan of a table cached in memory) under a plain selection of columns, when Spark's
  * vectorised reader serves it as columnar batches: readers then take the batches ({@code executeColumnar()}) and
  * skip the row conversion. A cached table serves batches only when all its columns are of primitive types.
+ *
+ * <p>A catalog table's scan through Spark's data source API ({@code BatchScanExec}, e.g. an Iceberg table's) qualifies
+ * too when its reader serves columnar batches: their vectors are the format's own (Arrow-backed for Iceberg, with no
+ * array on the heap), so readers take the values through the vector's getters ({@link HeapColumns} finds no array)
+ * and the pass stays columnar. The batch size of such a scan is the table's own setting.
  *
  * <p>Only a plan made of the scan and operators that merely pass or reorder its columns (whole-stage code
  * generation, the columnar-to-row transition, a projection of plain attributes) qualifies: reading the scan
@@ -70,7 +76,8 @@ public final class ColumnarScan {
         node = ((AdaptiveSparkPlanExec) node).executedPlan();
         continue;
       }
-      if (node instanceof FileSourceScanExec || node instanceof InMemoryTableScanExec) {
+      if (node instanceof FileSourceScanExec || node instanceof InMemoryTableScanExec
+          || node instanceof BatchScanExec) {
         return node.supportsColumnar() ? new ColumnarScan(selection.sparkSession(), node) : null;
       }
       boolean passes = node instanceof WholeStageCodegenExec || node instanceof InputAdapter

@@ -89,8 +89,9 @@ public final class InputFiles {
    * A CSV input is not checked (an empty check is returned).
    */
   public static Check check(SparkSession spark, JobSettings.Input input) {
-    if (input.format() != InputFormat.PARQUET) {
-      return new Check(input.path(), List.of(), List.of());
+    if (input.format() != InputFormat.PARQUET || input.fromTable()) {
+      // a catalog table's files are the catalog's: its format reads and checks them
+      return new Check(input.source(), List.of(), List.of());
     }
     TableLoader.requireExists(spark, "input.path", input.path());
     Check check = scan(spark.sparkContext().hadoopConfiguration(), input.path());

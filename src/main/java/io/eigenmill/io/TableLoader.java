@@ -26,6 +26,9 @@ public final class TableLoader {
 
   /** The table as read, without {@code input.where} (the planner checks the predicate against its schema). */
   public static Dataset<Row> read(SparkSession spark, JobSettings.Input input) {
+    if (input.fromTable()) {
+      return CatalogTable.read(spark, input);
+    }
     requireExists(spark, "input.path", input.path());
     DataFrameReader reader = spark.read();
     if (input.corruptFiles() == Choices.CorruptFiles.SKIP) {
@@ -70,6 +73,9 @@ public final class TableLoader {
 
   /** Sum of the sizes of the files under {@code path} (bytes), or -1 when it cannot be listed cheaply. */
   public static long sizeBytes(SparkSession spark, String path) {
+    if (path.isBlank()) {
+      return -1; // a catalog table (input.table): its size is the catalog's
+    }
     try {
       Path p = new Path(path);
       FileSystem fs = p.getFileSystem(spark.sparkContext().hadoopConfiguration());
@@ -85,6 +91,9 @@ public final class TableLoader {
    * folder order; none for CSV.
    */
   public static java.util.List<String> partitionColumns(Dataset<Row> table, JobSettings.Input input) {
+    if (input.fromTable()) {
+      return new java.util.ArrayList<>(CatalogTable.partitionColumns(table.sparkSession(), input.table().strip()));
+    }
     java.util.List<String> out = new java.util.ArrayList<>();
     if (input.format() != Choices.InputFormat.PARQUET) {
       return out;

@@ -220,8 +220,8 @@ public final class ScoringStage {
 
   private void failOnMissing(long dropped, MissingPolicy policy) {
     if (policy == MissingPolicy.FAIL && dropped > 0) {
-      throw new InvalidJobException("prepare.missing = fail: " + dropped + " rows of " + plan.settings().input().path()
-          + " have a missing value (null, NaN or infinite) in a model feature; set prepare.missing = drop-rows"
+      throw new InvalidJobException("prepare.missing = fail: " + dropped + " rows of "
+          + plan.settings().input().source() + " have a missing value (null, NaN or infinite) in a model feature; set prepare.missing = drop-rows"
           + " or impute-mean");
     }
   }

@@ -337,7 +337,7 @@ public final class FitJob {
       Moments.State state = m.state();
       SnapshotKey key = new SnapshotKey(snapshots.by().names(), snapshots.by().types(), e.getKey().texts());
       pending.add(new Snapshot(key, SnapshotStore.FORMAT_VERSION, Version.current(), plan.features(),
-          plan.featureTypes(), fingerprint, List.of(), List.of(), plan.settings().input().path(), List.of(
+          plan.featureTypes(), fingerprint, List.of(), List.of(), plan.settings().input().source(), List.of(
               new SnapshotEntry(null, c.rowsRead(), m.count(), c.missingCells(), state.n(), state.shift(),
                   state.mean(), state.packedM2()))));
       keys.add(new SnapshotUse.KeyRows(e.getKey().texts(), key.display(), c.rowsRead(), m.count()));
@@ -395,13 +395,13 @@ public final class FitJob {
   }
 
   private void checkRows(ReadCounts counts, long used, MissingPolicy missing) {
-    String path = plan.settings().input().path();
+    String path = plan.settings().input().named();
     if (counts.rowsRead() == 0 && plan.settings().input().filtered()) {
       throw new InvalidJobException("input.where = \"" + plan.settings().input().where() + "\" selects no rows of"
-          + " input.path = " + path + " (a fit needs at least 2 rows)");
+          + " " + path + " (a fit needs at least 2 rows)");
     }
     if (counts.rowsRead() == 0) {
-      throw new InvalidJobException("input.path = " + path + ": the table has no rows");
+      throw new InvalidJobException(path + ": the table has no rows");
     }
     if (missing == MissingPolicy.FAIL && counts.totalMissingCells() > 0) {
       throw new InvalidJobException("prepare.missing = fail: the input has missing values (null, NaN or infinite): "
@@ -412,7 +412,7 @@ public final class FitJob {
           + counts.rowsRead() + " rows have a missing value (" + missingSummary(counts) + ")");
     }
     if (used < 2) {
-      throw new InvalidJobException("input.path = " + path + ": only " + used
+      throw new InvalidJobException(path + ": only " + used
           + " usable row; a PCA needs at least 2 rows");
     }
   }

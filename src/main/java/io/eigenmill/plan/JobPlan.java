@@ -16,6 +16,7 @@ import java.util.List;
  *     warnings, then those found against the schema); a run keeps them among its warnings
  * @param selection what {@code input.where} keeps of the input, or null when it is unset (or the input is long)
  * @param longInput the long table and its pivot, or null for a wide input
+ * @param tableRead what is read of a catalog table ({@code input.table}), or null for a folder
  */
 public record JobPlan(
     JobSettings settings,
@@ -35,7 +36,23 @@ public record JobPlan(
     InputSelection selection,
     SnapshotPlan snapshots,
     GroupPlan groups,
-    LongTable.View longInput) {
+    LongTable.View longInput,
+    TableRead tableRead) {
+
+  /** A plan of a folder input (or a table's before its facts are added, {@link #withTableRead}). */
+  public JobPlan(JobSettings settings, String kind, List<String> features, List<String> featureTypes,
+      List<String> keys, List<String> partitionColumns, long rowEstimate, long inputBytes, Method method,
+      String methodReason, MemoryEstimate memory, List<String> outputs, List<String> notes, List<String> warnings,
+      InputSelection selection, SnapshotPlan snapshots, GroupPlan groups, LongTable.View longInput) {
+    this(settings, kind, features, featureTypes, keys, partitionColumns, rowEstimate, inputBytes, method,
+        methodReason, memory, outputs, notes, warnings, selection, snapshots, groups, longInput, null);
+  }
+
+  /** This plan reading the catalog table described by {@code read}. */
+  public JobPlan withTableRead(TableRead read) {
+    return new JobPlan(settings, kind, features, featureTypes, keys, partitionColumns, rowEstimate, inputBytes,
+        method, methodReason, memory, outputs, notes, warnings, selection, snapshots, groups, longInput, read);
+  }
 
   /** A plan of a wide input. */
   public JobPlan(JobSettings settings, String kind, List<String> features, List<String> featureTypes,
@@ -99,12 +116,17 @@ public record JobPlan(
     JobSettings j = settings;
     line(s, "job", j.name() + " (" + kind + ", from " + j.sourceFile() + ")");
     String rows = rowEstimate >= 0 ? ", " + String.format(java.util.Locale.ROOT, "%,d", rowEstimate) + " rows ("
-        + (j.input().fromSnapshots() ? "in the selected snapshots" : "footers" + (selection != null ? ", kept files"
-        : "")) + ")" : ", rows not counted";
+        + (j.input().fromSnapshots() ? "in the selected snapshots" : tableRead != null && tableRead.rows() >= 0
+        ? "table metadata" : "footers" + (selection != null ? ", kept files" : "")) + ")" : ", rows not counted";
     line(s, "input", (j.input().fromSnapshots() ? "snapshot store " + j.input().snapshots()
-        + (j.input().filtered() ? " where " + j.input().where() : "") : j.input().path() + " ["
-        + j.input().format().word() + "]" + (inputBytes >= 0 ? ", " + MemoryEstimate.human(inputBytes) : ""))
-        + rows);
+        + (j.input().filtered() ? " where " + j.input().where() : "") : (j.input().fromTable() ? "table "
+        + j.input().source() : j.input().path() + " [" + j.input().format().word() + "]")
+        + (inputBytes >= 0 ? ", " + MemoryEstimate.human(inputBytes) : "")) + rows);
+    if (tableRead != null) {
+      for (String[] l : tableRead.describe()) {
+        line(s, l[0], l[1]);
+      }
+    }
     if (!partitionColumns.isEmpty()) {
       line(s, "partitioned by", String.join(", ", partitionColumns));
     }

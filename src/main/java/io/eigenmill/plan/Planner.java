@@ -151,7 +151,7 @@ public final class Planner {
         : TableLoader.read(spark, settings.input()).schema();
     for (String g : groups.columns()) {
       if (schema.getFieldIndex(g).isEmpty()) {
-        problems.add(named + ": the input " + settings.input().path() + " lacks the group column " + g);
+        problems.add(named + ": the input " + settings.input().source() + " lacks the group column " + g);
       }
     }
     List<String> other = new ArrayList<>();
@@ -220,7 +220,7 @@ public final class Planner {
       }
     }
     if (!missing.isEmpty()) {
-      problems.add("apply.model = " + settings.apply().model() + ": the input " + settings.input().path()
+      problems.add("apply.model = " + settings.apply().model() + ": the input " + settings.input().source()
           + " lacks the model feature" + (missing.size() > 1 ? "s " : " ") + String.join(", ", missing));
     }
     if (!retyped.isEmpty()) {
@@ -283,16 +283,20 @@ public final class Planner {
     List<String> types = features.stream().map(f -> f.dataType().simpleString()).toList();
     String kind = settings.apply().appliesModel() ? "apply" : "fit";
     InputSelection selection = selection(table, kept, settings, names, partitionColumns);
-    long rows = rowEstimate(spark, kept, selection, settings);
+    TableRead tableRead = settings.input().fromTable() ? TableRead.of(spark, settings.input(), kept, names) : null;
+    long rows = tableRead == null ? rowEstimate(spark, kept, selection, settings)
+        : tableRead.rows() >= 0 ? (settings.input().filtered() ? -1 : tableRead.rows())
+        : rowEstimate(spark, kept, selection, settings);
     var keep = MethodChoice.keptPasses(spark, settings, choice.method(), d, rows,
         settings.input().format() == InputFormat.PARQUET);
     if (keep != null) {
       notes.add("passes: " + keep.line());
     }
-    return new JobPlan(settings, kind, names, types, keys, partitionColumns,
+    JobPlan plan = new JobPlan(settings, kind, names, types, keys, partitionColumns,
         rows, TableLoader.sizeBytes(spark, settings.input().path()),
         choice.method(), choice.reason(), choice.memory(), outputs(settings), notes, warnings, selection, snapshots,
         groups);
+    return tableRead == null ? plan : plan.withTableRead(tableRead);
   }
 
   /**
@@ -387,7 +391,7 @@ public final class Planner {
     if (!settings.input().filtered() || settings.input().isLong()) {
       return null;
     }
-    return InputSelection.of(table, kept, settings.input().where(), settings.input().path(), features,
+    return InputSelection.of(table, kept, settings.input().where(), settings.input().source(), features,
         partitionColumns);
   }
 
@@ -509,7 +513,8 @@ public final class Planner {
       return -1;
     }
     String[] files = selection != null ? selection.files().toArray(String[]::new) : table.inputFiles();
-    if (files.length > FOOTER_LIMIT || files.length == 0 && settings.input().isLong()) {
+    if (files.length > FOOTER_LIMIT
+        || files.length == 0 && (settings.input().isLong() || settings.input().fromTable())) {
       return -1;
     }
     Configuration conf = spark.sparkContext().hadoopConfiguration();

@@ -36,7 +36,7 @@ final class SnapshotPlanner {
     String byKey = out.snapshotsBy().isEmpty() ? "snapshots.by (default: the input's partition columns)"
         : "snapshots.by = " + out.snapshotsBy();
     if (by.isEmpty()) {
-      problems.add(store + ": the input " + settings.input().path() + " has no partition columns, so snapshots.by"
+      problems.add(store + ": the input " + settings.input().source() + " has no partition columns, so snapshots.by"
           + " has no default; set snapshots.by = [column, ...] (e.g. [date])");
     }
     List<String> types = Planner.keyColumnTypes(schema, by, features, byKey, "a snapshot key must not be (exclude"

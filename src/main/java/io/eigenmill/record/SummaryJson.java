@@ -46,7 +46,7 @@ public final class SummaryJson {
     m.put("scala", Version.scala());
     m.put("job", s.name());
     m.put("kind", run.plan().kind());
-    m.put("input", s.input().fromSnapshots() ? s.input().snapshots() : s.input().path());
+    m.put("input", s.input().fromSnapshots() ? s.input().snapshots() : s.input().source());
     m.put("input_where", s.input().filtered() ? s.input().where() : null);
     m.put("source", s.input().fromSnapshots() ? "snapshots" : "table");
     m.put("layout", s.input().layout().word());

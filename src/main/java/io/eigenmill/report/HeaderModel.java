@@ -107,7 +107,9 @@ public record HeaderModel(
       f.add(new Fact("Input", "long table " + s.input().path() + " [" + s.input().format().word()
           + "] (pivoted by the job)"));
     } else {
-      f.add(new Fact("Input", s.input().path() + " [" + s.input().format().word() + "]"));
+      String asOf = s.input().asOf().isBlank() ? "" : " as of " + s.input().asOf().strip();
+      f.add(new Fact("Input", s.input().fromTable() ? "table " + s.input().source() + asOf
+          : s.input().path() + " [" + s.input().format().word() + "]"));
     }
     if (!fromSnapshots && !plan.partitionColumns().isEmpty()) {
       f.add(new Fact("Partitioned by", String.join(", ", plan.partitionColumns())));

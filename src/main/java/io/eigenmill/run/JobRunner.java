@@ -262,7 +262,7 @@ public final class JobRunner {
       var input = settings.input();
       if (applying && input.filtered() && scored.monitor().rowsScored() == 0) {
         throw new InvalidJobException("input.where = \"" + input.where() + "\" selects no rows of input.path = "
-            + input.path() + " (nothing to score)");
+            + input.source() + " (nothing to score)");
       }
       warnings.addAll(scored.monitor().warnings());
       sample = scored.sample();

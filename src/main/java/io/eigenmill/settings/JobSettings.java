@@ -51,7 +51,23 @@ public record JobSettings(
    *     every row). Applied by {@code io.TableLoader.load} before anything else.
    */
   public record Input(String path, InputFormat format, CorruptFiles corruptFiles, String where, String snapshots,
-      Choices.InputLayout layout, LongLayout longLayout) implements Serializable {
+      Choices.InputLayout layout, LongLayout longLayout, String table, String asOf) implements Serializable {
+    /** An input read from a folder ({@code input.path}) or a snapshot store, not a catalog table. */
+    public Input(String path, InputFormat format, CorruptFiles corruptFiles, String where, String snapshots,
+        Choices.InputLayout layout, LongLayout longLayout) {
+      this(path, format, corruptFiles, where, snapshots, layout, longLayout, "", "");
+    }
+
+    /** True when the input is a catalog table ({@code input.table}) instead of a folder. */
+    public boolean fromTable() {
+      return table != null && !table.isBlank();
+    }
+
+    /** The folder or the table name: what the input is, for messages and records. */
+    public String source() {
+      return fromTable() ? table : path;
+    }
+
     /** A wide input. */
     public Input(String path, InputFormat format, CorruptFiles corruptFiles, String where, String snapshots) {
       this(path, format, corruptFiles, where, snapshots, Choices.InputLayout.WIDE, null);
@@ -64,7 +80,7 @@ public record JobSettings(
 
     /** This input without its row filter (the filter is applied elsewhere, e.g. before a pivot). */
     public Input withoutWhere() {
-      return new Input(path, format, corruptFiles, "", snapshots, layout, longLayout);
+      return new Input(path, format, corruptFiles, "", snapshots, layout, longLayout, table, asOf);
     }
 
     /** An input without a row filter. */
@@ -84,7 +100,8 @@ public record JobSettings(
 
     /** What the input is, for messages: {@code input.path = P} or {@code input.snapshots = P}. */
     public String named() {
-      return fromSnapshots() ? "input.snapshots = " + snapshots : "input.path = " + path;
+      return fromSnapshots() ? "input.snapshots = " + snapshots : fromTable() ? "input.table = " + table
+          : "input.path = " + path;
     }
 
     /** True when {@code input.where} is set (not blank). */

@@ -152,7 +152,17 @@ public final class SettingsReader {
       name = source.replaceFirst("\\.conf$", "");
     }
     String snapshotsIn = f.string("input.snapshots").strip();
-    String inputPath = snapshotsIn.isEmpty() ? f.required("input.path") : f.string("input.path");
+    String inputTable = f.string("input.table").strip();
+    String asOf = f.string("input.as-of").strip();
+    String inputPath = f.string("input.path");
+    String tableProblem = InputTables.sourceProblem(inputPath, inputTable, snapshotsIn);
+    if (tableProblem != null) {
+      f.problem(inputTable.isEmpty() ? "input.path" : "input.table", tableProblem);
+    }
+    String asOfProblem = InputTables.asOfProblem(inputTable, asOf);
+    if (asOfProblem != null) {
+      f.problem("input.as-of", asOfProblem);
+    }
     if (!snapshotsIn.isEmpty() && !inputPath.isBlank()) {
       f.problem("input.snapshots", "input.snapshots = " + snapshotsIn + " and input.path = " + inputPath
           + " are both set: a fit reads either a table or a snapshot store; remove one");
@@ -161,7 +171,7 @@ public final class SettingsReader {
     JobSettings.LongLayout longLayout = layout == Choices.InputLayout.LONG ? longLayout(f, snapshotsIn) : null;
     var input = new JobSettings.Input(inputPath, f.choice("input.format", Choices.InputFormat.values()),
         f.choice("input.corrupt-files", Choices.CorruptFiles.values()), f.string("input.where").strip(),
-        snapshotsIn, layout, longLayout);
+        snapshotsIn, layout, longLayout, inputTable, asOf);
     var features = new JobSettings.Features(f.strings("features.columns"), f.strings("features.exclude"),
         f.strings("features.keys"));
     var prepare = new JobSettings.Prepare(f.choice("prepare.scaling", Choices.Scaling.values()),
