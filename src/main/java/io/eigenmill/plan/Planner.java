@@ -198,7 +198,8 @@ public final class Planner {
     return planApply(spark, settings, model, TableLoader.read(spark, settings.input()));
   }
 
-  private static JobPlan planApply(SparkSession spark, JobSettings settings, PcaModel model, Dataset<Row> table) {
+  /** The plan of an apply run over {@code table}, the input as read (or as the caller gave it). */
+  public static JobPlan planApply(SparkSession spark, JobSettings settings, PcaModel model, Dataset<Row> table) {
     List<String> problems = new ArrayList<>();
     StructType schema = table.schema();
     checkDuplicates(schema, problems);

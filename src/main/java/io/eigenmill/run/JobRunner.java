@@ -4,6 +4,7 @@ import io.eigenmill.engine.Stopwatch;
 import io.eigenmill.engine.KeyColumns;
 import io.eigenmill.io.GroupModels;
 import io.eigenmill.io.InputFiles;
+import io.eigenmill.io.InputFilter;
 import io.eigenmill.io.LongTable;
 import io.eigenmill.io.ModelStore;
 import io.eigenmill.io.OutputCommit;
@@ -70,11 +71,20 @@ public final class JobRunner {
    * ({@link WriterSession}); {@code caller}'s own settings are unchanged.
    */
   public static RunResult run(SparkSession caller, JobSettings settings) {
+    return run(caller, settings, null);
+  }
+
+  /**
+   * Runs the job over {@code given}, a table the caller already holds, in place of {@code input.path} (null: the
+   * job reads {@code input.path}). {@code input.where} still applies to it; no file is opened for the input.
+   */
+  public static RunResult run(SparkSession caller, JobSettings settings, Dataset<Row> given) {
     long started = System.nanoTime();
     SparkSession spark = WriterSession.of(caller, settings.spark().conf());
     // every Parquet footer is read before anything else: an unreadable file fails the run here (exit 2, naming it)
     // or, with input.corrupt-files = skip, is left out and reported
-    String skipped = settings.input().fromSnapshots() ? "" : InputFiles.check(spark, settings.input()).skipWarning();
+    String skipped = settings.input().fromSnapshots() || given != null ? ""
+        : InputFiles.check(spark, settings.input()).skipWarning();
     // a store path that is not a store fails here, before any work (an absent or empty folder becomes a store)
     SnapshotStore store = settings.output().writesSnapshots() ? SnapshotStore.open(
         spark.sparkContext().hadoopConfiguration(), "output.snapshots", settings.output().snapshots(), true) : null;
@@ -88,11 +98,12 @@ public final class JobRunner {
     if (applying && earlier != null && groups == null) {
       DriftCheck.refuseSelf(spark, settings.apply(), applied, earlier);
     }
-    JobPlan plan = groups != null ? Planner.planApplyGroups(spark, settings, groups)
+    JobPlan plan = given != null && groups == null ? planGiven(spark, settings, applied, given)
+        : groups != null ? Planner.planApplyGroups(spark, settings, groups)
         : applying ? Planner.planApply(spark, settings, applied) : Planner.plan(spark, settings);
     OutputCommit out = OutputCommit.begin(spark, settings.output().path(), settings.output().mode());
     try {
-      RunResult result = execute(spark, plan, applied, groups, earlier, out, started, skipped);
+      RunResult result = execute(spark, plan, applied, groups, earlier, out, started, skipped, given);
       if (result.plan().longInput() != null) {
         out.delete(LongTable.STAGING);
         out.writeText(LongTable.MAPPING_FILE, LongTable.mappingCsv(result.plan().longInput()));
@@ -122,10 +133,17 @@ public final class JobRunner {
     LOG.info("run: {} snapshot{} committed to {}", pending.size(), pending.size() == 1 ? "" : "s", store.path());
   }
 
+  /** The plan of a run over a table the caller gave: a fit's or an apply's, as for a table read from a path. */
+  public static JobPlan planGiven(SparkSession spark, JobSettings settings, PcaModel applied, Dataset<Row> given) {
+    return applied != null ? Planner.planApply(spark, settings, applied, given) : Planner.plan(spark, settings, given);
+  }
+
   private static RunResult execute(SparkSession spark, JobPlan plan, PcaModel applied, GroupModels groups,
-      PcaModel earlier, OutputCommit out, long started, String skipped) {
+      PcaModel earlier, OutputCommit out, long started, String skipped, Dataset<Row> given) {
     Dataset<Row> table;
-    if (plan.longInput() != null) {
+    if (given != null) {
+      table = InputFilter.apply(given, plan.settings().input());
+    } else if (plan.longInput() != null) {
       // the long table is pivoted once into the staging folder; every pass then reads it as a wide Parquet table
       LongTable.Staged staged = plan.longInput().stage(spark, out.staged(LongTable.STAGING));
       plan = Planner.afterPivot(plan, staged);
