@@ -3,25 +3,14 @@ package io.eigenmill.api;
 import com.typesafe.config.Config;
 import com.typesafe.config.ConfigException;
 import com.typesafe.config.ConfigFactory;
-import io.eigenmill.io.InputFilter;
-import io.eigenmill.io.ModelStore;
-import io.eigenmill.io.PcaModel;
 import io.eigenmill.io.TableLoader;
-import io.eigenmill.monitor.ScoringPass;
-import io.eigenmill.monitor.ScoringStage;
-import io.eigenmill.plan.JobPlan;
 import io.eigenmill.record.RunResult;
+import io.eigenmill.run.GivenRuns;
 import io.eigenmill.run.JobRunner;
 import io.eigenmill.settings.InvalidJobException;
 import io.eigenmill.settings.JobSettings;
 import io.eigenmill.settings.SettingsReader;
-import java.io.IOException;
-import java.io.UncheckedIOException;
-import java.nio.file.Files;
-import java.nio.file.Path;
-import java.util.Comparator;
 import java.util.List;
-import java.util.stream.Stream;
 import org.apache.spark.sql.Dataset;
 import org.apache.spark.sql.Row;
 import org.apache.spark.sql.SparkSession;
@@ -68,7 +57,7 @@ public final class Eigenmill {
     if (s.reduce().grouped()) {
       throw lazyOnly("reduce.group-by = " + s.reduce().groupBy());
     }
-    return lazyFit(spark, input, s);
+    return lazy(GivenRuns.fit(spark, s, input));
   }
 
   /** Applies the model at {@code apply.model} (a fit's output folder or its {@code model/}) to {@code input}. */
@@ -96,15 +85,10 @@ public final class Eigenmill {
     if (!s.apply().centroids().isEmpty()) {
       throw lazyOnly("apply.centroids = " + s.apply().centroids());
     }
-    if (ModelStore.grouped(spark, "apply.model", s.apply().model())) {
+    if (GivenRuns.groupedModel(spark, s)) {
       throw lazyOnly("apply.model = " + s.apply().model() + " (one model per group)");
     }
-    PcaModel model = ModelStore.read(spark, "apply.model", s.apply().model());
-    JobPlan plan = JobRunner.planGiven(spark, s, model, input);
-    ScoringPass.Limits limits = ScoringPass.Limits.of(model, s.monitor(), false);
-    Dataset<Row> scores = new ScoringStage(spark, plan, model, null)
-        .lazyScores(InputFilter.apply(input, s.input()), false);
-    return new JobResult(null, Model.of(model), limits.t2(), limits.q(), scores, null, null);
+    return lazy(GivenRuns.apply(spark, s, input));
   }
 
   /** Clusters {@code input} (fitting a model first, or applying {@code apply.model}); needs {@code output.path}. */
@@ -194,54 +178,15 @@ public final class Eigenmill {
 
   private static JobResult written(SparkSession spark, RunResult run, boolean fittedRows) {
     String out = run.outputPath();
-    // scores/ is written exactly when the run scored (monitor record)
+    // scores/ is written exactly when the run scored (its monitoring record)
     Dataset<Row> scores = run.monitor() != null ? spark.read().parquet(out + "/scores") : null;
     Dataset<Row> clusters = run.clusters() == null ? null : spark.read().parquet(out + "/clusters/assignments");
-    double t2 = Double.NaN;
-    double q = Double.NaN;
-    if (run.monitor() != null) {
-      t2 = run.monitor().t2Limit();
-      q = run.monitor().qLimit();
-    } else if (run.appliedGroups() == null && (run.fit() == null || run.fit().groups() == null)) {
-      ScoringPass.Limits limits = ScoringPass.Limits.of(run.model(), run.plan().settings().monitor(), fittedRows);
-      t2 = limits.t2();
-      q = limits.q();
-    }
-    return new JobResult(run, Model.of(run.model()), t2, q, scores, clusters, out);
+    double[] limits = GivenRuns.limits(run, fittedRows);
+    return new JobResult(run, Model.of(run.model()), limits[0], limits[1], scores, clusters, out);
   }
 
-  /**
-   * A fit without output.path: the runner fits into a scratch folder (model tables and summary, no scores), which is
-   * deleted before returning; the scores are the scoring pass over the given rows, not run until the caller acts.
-   */
-  private static JobResult lazyFit(SparkSession spark, Dataset<Row> input, JobSettings s) {
-    Path scratch;
-    try {
-      scratch = Files.createTempDirectory("eigenmill-api-");
-    } catch (IOException e) {
-      throw new UncheckedIOException(e);
-    }
-    try {
-      JobSettings.Output o = s.output();
-      var output = new JobSettings.Output(scratch.resolve("run").toString(), o.mode(), false, false,
-          o.reportSample(), o.snapshots(), o.snapshotsBy());
-      JobSettings runSettings = new JobSettings(s.name(), s.sourceFile(), s.input(), s.features(), s.prepare(),
-          s.reduce(), s.monitor(), s.apply(), s.cluster(), output, s.spark(), s.warnings());
-      RunResult run = JobRunner.run(spark, runSettings, input);
-      ScoringPass.Limits limits = ScoringPass.Limits.of(run.model(), s.monitor(), true);
-      Dataset<Row> scores = new ScoringStage(spark, run.plan(), run.model(), null)
-          .lazyScores(InputFilter.apply(input, s.input()), true);
-      return new JobResult(run, Model.of(run.model()), limits.t2(), limits.q(), scores, null, null);
-    } finally {
-      delete(scratch);
-    }
-  }
-
-  private static void delete(Path dir) {
-    try (Stream<Path> files = Files.walk(dir)) {
-      files.sorted(Comparator.reverseOrder()).forEach(p -> p.toFile().delete());
-    } catch (IOException e) {
-      // a scratch folder left in the temporary directory is harmless
-    }
+  private static JobResult lazy(GivenRuns.Lazy lazy) {
+    return new JobResult(lazy.run(), Model.of(lazy.model()), lazy.t2Limit(), lazy.qLimit(), lazy.scores(), null,
+        null);
   }
 }
