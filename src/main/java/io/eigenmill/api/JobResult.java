@@ -1,6 +1,7 @@
 package io.eigenmill.api;
 
 import io.eigenmill.record.RunResult;
+import io.eigenmill.run.GivenRuns;
 import io.eigenmill.record.SummaryJson;
 import java.util.Map;
 import org.apache.spark.sql.Dataset;
@@ -35,10 +36,7 @@ public record JobResult(RunResult run, Model model, double t2Limit, double qLimi
 
   /** Rows the fit used (after missing-value handling), or rows scored by an apply; -1 for a lazy apply. */
   public long rows() {
-    if (run == null) {
-      return -1;
-    }
-    return run.fit() != null ? run.fit().rowsUsed() : run.monitor() != null ? run.monitor().rowsScored() : -1;
+    return run == null ? -1 : GivenRuns.rows(run);
   }
 
   /** Components kept. */

@@ -88,6 +88,11 @@ public final class GivenRuns {
     return new double[] {limits.t2(), limits.q()};
   }
 
+  /** Rows a fit used (after missing-value handling), or rows an apply scored; -1 when neither ran. */
+  public static long rows(RunResult run) {
+    return run.fit() != null ? run.fit().rowsUsed() : run.monitor() != null ? run.monitor().rowsScored() : -1;
+  }
+
   private static Lazy lazyScores(SparkSession spark, JobPlan plan, RunResult run, PcaModel model,
       Dataset<Row> given, boolean fittedRows) {
     ScoringPass.Limits limits = ScoringPass.Limits.of(model, plan.settings().monitor(), fittedRows);
