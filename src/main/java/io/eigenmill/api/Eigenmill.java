@@ -93,7 +93,7 @@ public final class Eigenmill {
 
   /** Clusters {@code input} (fitting a model first, or applying {@code apply.model}); needs {@code output.path}. */
   public static JobResult cluster(SparkSession spark, Dataset<Row> input, String hocon) {
-    return cluster(spark, input, settings(hocon.isBlank() || hasPath(hocon, "cluster.enabled") ? hocon
+    return cluster(spark, input, settings(hasPath(hocon, "cluster.enabled") ? hocon
         : hocon + "\ncluster.enabled = true\n"));
   }
 

@@ -152,6 +152,9 @@ class EigenmillTest extends SparkSuite {
     InvalidJobException column = assertThrows(InvalidJobException.class,
         () -> Eigenmill.fit(spark, arrests(), "features.columns = [Murdr]\nfeatures.keys = [state]\n"));
     assertTrue(column.getMessage().contains("Murdr"), column.getMessage());
+    InvalidJobException where = assertThrows(InvalidJobException.class,
+        () -> Eigenmill.fit(spark, arrests(), "input.where = \"Murdr > 1\"\nfeatures.keys = [state]\n"));
+    assertTrue(where.getMessage().contains("input.where"), where.getMessage());
     InvalidJobException cluster = assertThrows(InvalidJobException.class,
         () -> Eigenmill.cluster(spark, arrests(), "cluster.k = 4\n"));
     assertTrue(cluster.getMessage().contains("output.path"), cluster.getMessage());
