@@ -31,7 +31,7 @@ class ArchitectureTest {
    * Top-level packages from the top down: a package may depend only on packages after it. Capabilities (kmeans,
    * monitor, pca) sit between the run record and the shared engine, io, plan, math and settings packages.
    */
-  static final List<String> ORDER = List.of("cli", "run", "report", "record", "kmeans", "monitor", "pca", "plan",
+  static final List<String> ORDER = List.of("api", "cli", "run", "report", "record", "kmeans", "monitor", "pca", "plan",
       "io", "engine", "math", "settings");
   /** Packages outside the order: the demo generator (a tool beside the product), and the root (Version). */
   static final Map<String, Set<String>> SIDE = Map.of("demo", Set.of("io", "engine", "math", "settings"));
@@ -81,6 +81,19 @@ class ArchitectureTest {
       }
     }
     assertEquals(Map.of(), wrong, "dependencies against the order " + ORDER);
+  }
+
+  /**
+   * The Java API is a front-end like the command line: it reaches the jobs through the runner (and the settings,
+   * the run record and the model it hands back), never a capability or the engine directly.
+   */
+  @Test
+  void apiUsesOnlyTheRunnerItsSettingsAndRecords() {
+    ArchRule rule = noClasses().that().resideInAPackage("io.eigenmill.api..")
+        .should().dependOnClassesThat().resideInAnyPackage("io.eigenmill.cli..", "io.eigenmill.report..",
+            "io.eigenmill.kmeans..", "io.eigenmill.monitor..", "io.eigenmill.pca..", "io.eigenmill.plan..",
+            "io.eigenmill.engine..", "io.eigenmill.math..", "io.eigenmill.demo..");
+    rule.check(product);
   }
 
   @Test

@@ -14,6 +14,12 @@ import org.apache.spark.sql.SparkSession;
 
 /** Opens the input table lazily (schema only: no data is read here). */
 public final class TableLoader {
+  /**
+   * The {@code input.path} of a job whose input is a Dataset the caller already holds (the Java API): it names the
+   * input in messages and is never opened.
+   */
+  public static final String GIVEN = "(the given Dataset)";
+
   private TableLoader() {}
 
   /**
@@ -73,8 +79,8 @@ public final class TableLoader {
 
   /** Sum of the sizes of the files under {@code path} (bytes), or -1 when it cannot be listed cheaply. */
   public static long sizeBytes(SparkSession spark, String path) {
-    if (path.isBlank()) {
-      return -1; // a catalog table (input.table): its size is the catalog's
+    if (path.isBlank() || GIVEN.equals(path)) {
+      return -1; // a catalog table (input.table), whose size is the catalog's, or a Dataset given through the API
     }
     try {
       Path p = new Path(path);
@@ -95,7 +101,7 @@ public final class TableLoader {
       return new java.util.ArrayList<>(CatalogTable.partitionColumns(table.sparkSession(), input.table().strip()));
     }
     java.util.List<String> out = new java.util.ArrayList<>();
-    if (input.format() != Choices.InputFormat.PARQUET) {
+    if (input.format() != Choices.InputFormat.PARQUET || GIVEN.equals(input.path())) {
       return out;
     }
     String[] files = table.inputFiles();

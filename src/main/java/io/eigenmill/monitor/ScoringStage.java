@@ -59,6 +59,18 @@ public final class ScoringStage {
    */
   public record Outcome(MonitorResult monitor, ScoreSample sample, String scoresPath, DataDriftResult dataDrift) {}
 
+  /**
+   * The scores of {@code table} as the scoring pass makes them (keys, then scores, T2 and Q against the limits of
+   * fitted or new rows), without running it: a lazy Dataset that scores when the caller acts on it, each time it
+   * does. The same rows, bit for bit, as {@link #score} writes; no monitoring record (nothing has been counted).
+   */
+  public Dataset<Row> lazyScores(Dataset<Row> table, boolean fittedRows) {
+    ScoringPass.Limits limits = ScoringPass.Limits.of(model, plan.settings().monitor(), fittedRows);
+    ScoringPass.Spec spec = ScoringPass.spec(model, plan.settings(), limits, false);
+    ScoringPass.Counters counters = ScoringPass.Counters.register(spark.sparkContext(), "scores", spec, TOP_ROWS);
+    return ScoringPass.apply(table, plan.keys(), plan.partitionColumns(), spec, counters).rows();
+  }
+
   public Outcome score(Dataset<Row> table, boolean fittedRows) {
     JobSettings s = plan.settings();
     double confidence = s.monitor().confidence();

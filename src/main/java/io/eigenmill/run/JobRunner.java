@@ -82,13 +82,27 @@ public final class JobRunner {
    * summary; the commit, which follows the summary, is logged.
    */
   public static RunResult run(SparkSession caller, JobSettings settings, Map<String, Double> before) {
+    return run(caller, settings, before, null);
+  }
+
+  /**
+   * Runs the job over {@code given}, a table the caller already holds, in place of {@code input.path} (the Java
+   * API). {@code input.where} still applies to it; no file is opened for the input.
+   */
+  public static RunResult run(SparkSession caller, JobSettings settings, Dataset<Row> given) {
+    return run(caller, settings, Map.of(), given);
+  }
+
+  private static RunResult run(SparkSession caller, JobSettings settings, Map<String, Double> before,
+      Dataset<Row> given) {
     long started = System.nanoTime();
     Stopwatch clock = new Stopwatch();
     SparkSession spark = WriterSession.of(caller, settings.spark().conf());
     clock.lap("session");
     // every Parquet footer is read before anything else: an unreadable file fails the run here (exit 2, naming it)
     // or, with input.corrupt-files = skip, is left out and reported
-    String skipped = settings.input().fromSnapshots() ? "" : InputFiles.check(spark, settings.input()).skipWarning();
+    String skipped = settings.input().fromSnapshots() || given != null ? ""
+        : InputFiles.check(spark, settings.input()).skipWarning();
     clock.lap("check-input");
     // a store path that is not a store fails here, before any work (an absent or empty folder becomes a store)
     SnapshotStore store = settings.output().writesSnapshots() ? SnapshotStore.open(
@@ -108,7 +122,8 @@ public final class JobRunner {
     }
     // a fit or an apply of one model lists the input and infers its schema once: the planner and the passes share
     // the table as read
-    Dataset<Row> opened = groups != null || settings.input().fromSnapshots() || settings.input().isLong() ? null
+    Dataset<Row> opened = given != null && groups == null ? given
+        : groups != null || settings.input().fromSnapshots() || settings.input().isLong() ? null
         : TableLoader.read(spark, settings.input());
     if (opened != null) {
       clock.lap("open-input");
@@ -161,6 +176,11 @@ public final class JobRunner {
     var pending = result.fit().snapshots().pending();
     store.commit(pending);
     LOG.info("run: {} snapshot{} committed to {}", pending.size(), pending.size() == 1 ? "" : "s", store.path());
+  }
+
+  /** The plan of a run over a table the caller gave: a fit's or an apply's, as for a table read from a path. */
+  public static JobPlan planGiven(SparkSession spark, JobSettings settings, PcaModel applied, Dataset<Row> given) {
+    return applied != null ? Planner.planApply(spark, settings, applied, given) : Planner.plan(spark, settings, given);
   }
 
   private static RunResult execute(SparkSession spark, JobPlan plan, PcaModel applied, GroupModels groups,
