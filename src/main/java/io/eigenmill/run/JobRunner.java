@@ -90,6 +90,7 @@ public final class JobRunner {
     }
     JobPlan plan = groups != null ? Planner.planApplyGroups(spark, settings, groups)
         : applying ? Planner.planApply(spark, settings, applied) : Planner.plan(spark, settings);
+    RowTables.refuseExisting(spark, settings);
     OutputCommit out = OutputCommit.begin(spark, settings.output().path(), settings.output().mode());
     try {
       RunResult result = execute(spark, plan, applied, groups, earlier, out, started, skipped);
@@ -97,8 +98,11 @@ public final class JobRunner {
         out.delete(LongTable.STAGING);
         out.writeText(LongTable.MAPPING_FILE, LongTable.mappingCsv(result.plan().longInput()));
       }
-      out.writeText("summary.json", SummaryJson.render(result));
-      out.writeText("report.html", HtmlReport.render(result));
+      String report = HtmlReport.render(result);
+      // the catalog tables last, once every folder output is staged: a failed run leaves them as they were
+      var tables = RowTables.write(spark, result.plan(), out);
+      out.writeText("summary.json", SummaryJson.render(result, RowTables.summary(tables)));
+      out.writeText("report.html", report);
       commitSnapshots(store, result);
       out.commit();
       LOG.info("run: committed {}", out.finalPath());
