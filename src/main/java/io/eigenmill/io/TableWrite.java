@@ -10,7 +10,6 @@ import org.apache.spark.sql.Dataset;
 import org.apache.spark.sql.Row;
 import org.apache.spark.sql.SaveMode;
 import org.apache.spark.sql.SparkSession;
-import org.apache.spark.sql.catalyst.analysis.NoSuchTableException;
 import org.apache.spark.sql.functions;
 
 /**
@@ -46,22 +45,13 @@ public final class TableWrite {
     boolean exists = spark.catalog().tableExists(table);
     if (TableNames.inOwnCatalog(spark, table)) {
       DataFrameWriterV2<Row> writer = rows.writeTo(table).option("snapshot-property." + RUN_ID, runId);
-      if (!exists) {
-        if (parts.length > 0) {
-          Column[] rest = Arrays.stream(parts).skip(1).map(functions::col).toArray(Column[]::new);
-          writer.partitionedBy(functions.col(parts[0]), rest);
-        }
-        writer.create();
-      } else {
-        try {
-          if (mode == TableMode.OVERWRITE_PARTITIONS) {
-            writer.overwritePartitions();
-          } else {
-            writer.append();
-          }
-        } catch (NoSuchTableException e) {
-          throw new IllegalStateException(table + " was dropped while the job ran", e);
-        }
+      try {
+        commit(writer, exists, mode, parts);
+      } catch (RuntimeException e) {
+        throw e;
+      } catch (Exception e) {
+        // the table writer's checked exceptions (which differ between Spark lines), e.g. Spark's AnalysisException
+        throw new IllegalStateException(e.getMessage(), e);
       }
       return new Written(table, mode, count, snapshotOf(spark, table, runId));
     }
@@ -78,6 +68,22 @@ public final class TableWrite {
       rows.write().mode(SaveMode.Append).partitionBy(parts).saveAsTable(table);
     }
     return new Written(table, mode, count, null);
+  }
+
+  /** One commit through Spark's table writer: create (partitioned), overwrite the written partitions, or append. */
+  private static void commit(DataFrameWriterV2<Row> writer, boolean exists, TableMode mode, String[] parts)
+      throws Exception {
+    if (!exists) {
+      if (parts.length > 0) {
+        Column[] rest = Arrays.stream(parts).skip(1).map(functions::col).toArray(Column[]::new);
+        writer.partitionedBy(functions.col(parts[0]), rest);
+      }
+      writer.create();
+    } else if (mode == TableMode.OVERWRITE_PARTITIONS) {
+      writer.overwritePartitions();
+    } else {
+      writer.append();
+    }
   }
 
   /** The snapshot of {@code table} that run {@code runId} committed, or null when the table has no snapshots. */
