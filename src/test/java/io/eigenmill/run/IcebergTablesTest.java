@@ -110,6 +110,18 @@ class IcebergTablesTest extends SparkSuite {
   }
 
   @Test
+  void failIfExistsChecksEveryTableBeforeWritingAny() throws Exception {
+    String prefix = TableCatalog.freshNamespace() + ".fleet_";
+    // only the second table of the run exists: the first (scores) must not be created either
+    spark.sql("CREATE TABLE " + prefix + "assignments (other STRING) USING iceberg");
+    CommandRun run = runs.run(prefix, "fail-if-exists", "cluster.enabled = true", "cluster.k = 3");
+    assertEquals(2, run.code(), run.err());
+    assertTrue(run.err().contains(prefix + "assignments"), run.err());
+    assertFalse(fresh().catalog().tableExists(prefix + "scores"));
+    assertEquals(List.of(), snapshots(prefix + "assignments"));
+  }
+
+  @Test
   void aFailedSecondCommitNamesTheFirstTablesSnapshot() throws Exception {
     String prefix = TableCatalog.freshNamespace() + ".fleet_";
     // an assignments table the run's rows cannot be appended to (another schema): its commit fails after the scores'
