@@ -36,6 +36,19 @@ public final class SummaryJson {
     }
   }
 
+  /** The summary with a {@code tables} block: the catalog tables the run wrote (output.table-prefix). */
+  public static String render(RunResult run, List<Map<String, Object>> tables) {
+    Map<String, Object> m = toMap(run);
+    if (!tables.isEmpty()) {
+      m.put("tables", tables);
+    }
+    try {
+      return JSON.writeValueAsString(m) + "\n";
+    } catch (JsonProcessingException e) {
+      throw new IllegalStateException("summary is not serialisable", e);
+    }
+  }
+
   public static Map<String, Object> toMap(RunResult run) {
     Map<String, Object> m = new LinkedHashMap<>();
     var s = run.plan().settings();

@@ -132,6 +132,7 @@ public final class JobRunner {
         : applying ? (opened != null ? Planner.planApply(spark, settings, applied, opened)
             : Planner.planApply(spark, settings, applied))
         : opened != null ? Planner.plan(spark, settings, opened) : Planner.plan(spark, settings);
+    RowTables.refuseExisting(spark, settings);
     OutputCommit out = OutputCommit.begin(spark, settings.output().path(), settings.output().mode());
     clock.lap("planning");
     Map<String, Double> first = new LinkedHashMap<>(before);
@@ -145,13 +146,23 @@ public final class JobRunner {
       }
       out.writeText("report.html", HtmlReport.render(result));
       clock.lap("report");
+      // the catalog tables last, once every folder output is staged: a failed run leaves them as they were
+      var tables = RowTables.write(spark, result.plan(), out);
+      var tableSummary = RowTables.summary(tables);
+      if (settings.output().writesTables()) {
+        clock.lap("tables");
+      }
       // the run's timings map (built by execute for this run) takes the steps after it; the summary is rendered
       // twice so that the one written carries the time of the first rendering
-      SummaryJson.render(result);
+      SummaryJson.render(result, tableSummary);
       clock.lap("summary");
-      result.timings().put("report", clock.timings().get("report"));
-      result.timings().put("summary", clock.timings().get("summary"));
-      out.writeText("summary.json", SummaryJson.render(result));
+      for (String step : List.of("report", "tables", "summary")) {
+        Double seconds = clock.timings().get(step);
+        if (seconds != null) {
+          result.timings().put(step, seconds);
+        }
+      }
+      out.writeText("summary.json", SummaryJson.render(result, tableSummary));
       clock.restart();
       commitSnapshots(store, result);
       out.commit();

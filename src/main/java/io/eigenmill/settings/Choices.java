@@ -51,6 +51,14 @@ public final class Choices {
     @Override public String word() { return word; }
   }
 
+  /** How the row outputs' catalog tables are written ({@code output.table-mode}). */
+  public enum TableMode implements Word {
+    APPEND("append"), OVERWRITE_PARTITIONS("overwrite-partitions"), FAIL_IF_EXISTS("fail-if-exists");
+    private final String word;
+    TableMode(String word) { this.word = word; }
+    @Override public String word() { return word; }
+  }
+
   public enum ClusterSpace implements Word {
     SCORES("scores"), FEATURES("features");
     private final String word;

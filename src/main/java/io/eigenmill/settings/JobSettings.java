@@ -211,12 +211,27 @@ public record JobSettings(
    * @param snapshots a snapshot store the fit also writes its moments to, one snapshot per value of
    *     {@code snapshotsBy} ({@code output.snapshots}; empty: none)
    * @param snapshotsBy the key columns of the snapshots ({@code snapshots.by}; empty: the input's partition columns)
+   * @param tablePrefix the row outputs are also written as catalog tables named this prefix and the output's name
+   *     ({@code output.table-prefix}, e.g. {@code catalog.db.fleet_}; empty: no tables)
+   * @param tableMode how those tables are written ({@code output.table-mode})
    */
   public record Output(
       String path, OutputMode mode, boolean scores, boolean reconstruction, int reportSample, String snapshots,
-      List<String> snapshotsBy) implements Serializable {
+      List<String> snapshotsBy, String tablePrefix, Choices.TableMode tableMode) implements Serializable {
     public Output(String path, OutputMode mode, boolean scores, boolean reconstruction, int reportSample) {
       this(path, mode, scores, reconstruction, reportSample, "", List.of());
+    }
+
+    /** An output without catalog tables. */
+    public Output(String path, OutputMode mode, boolean scores, boolean reconstruction, int reportSample,
+        String snapshots, List<String> snapshotsBy) {
+      this(path, mode, scores, reconstruction, reportSample, snapshots, snapshotsBy, "",
+          Choices.TableMode.FAIL_IF_EXISTS);
+    }
+
+    /** True when the row outputs are also written as catalog tables ({@code output.table-prefix}). */
+    public boolean writesTables() {
+      return !tablePrefix.isBlank();
     }
 
     public boolean writesSnapshots() {

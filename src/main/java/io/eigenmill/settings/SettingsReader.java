@@ -211,7 +211,8 @@ public final class SettingsReader {
     var output = new JobSettings.Output(f.required("output.path"),
         f.choice("output.mode", Choices.OutputMode.values()), f.bool("output.scores"),
         f.bool("output.reconstruction"), f.intIn("output.report-sample", 0, 50_000),
-        f.string("output.snapshots").strip(), f.strings("snapshots.by"));
+        f.string("output.snapshots").strip(), f.strings("snapshots.by"), f.string("output.table-prefix").strip(),
+        f.choice("output.table-mode", Choices.TableMode.values()));
     if (f.userSet("reduce.min-group-rows") && !reduce.grouped()) {
       f.problem("reduce.min-group-rows", "reduce.min-group-rows = " + reduce.minGroupRows().getAsInt() + " has no"
           + " effect without reduce.group-by (one model per group); set reduce.group-by or remove the key");
