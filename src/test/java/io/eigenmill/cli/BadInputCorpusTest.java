@@ -3,10 +3,8 @@ package io.eigenmill.cli;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
+import io.eigenmill.testing.CommandRun;
 import io.eigenmill.testing.SparkSuite;
-import java.io.ByteArrayOutputStream;
-import java.io.PrintStream;
-import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
@@ -55,11 +53,8 @@ class BadInputCorpusTest extends SparkSuite {
     Path job = dir.resolve(name + ".conf");
     Files.writeString(job, "input.path = \"" + input + "\"\nfeatures.keys = [host]\noutput.path = \"" + output
         + "\"\n" + extra);
-    ByteArrayOutputStream out = new ByteArrayOutputStream();
-    ByteArrayOutputStream err = new ByteArrayOutputStream();
-    int code = Main.run(new String[] {"run", job.toString()}, new PrintStream(out, true, StandardCharsets.UTF_8),
-        new PrintStream(err, true, StandardCharsets.UTF_8));
-    return new Result(code, out.toString(StandardCharsets.UTF_8), err.toString(StandardCharsets.UTF_8), output);
+    CommandRun r = CommandRun.of("run", job.toString());
+    return new Result(r.code(), r.out(), r.err(), output);
   }
 
   private static void rejected(Result r, String message) {

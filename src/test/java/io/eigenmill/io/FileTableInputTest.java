@@ -4,14 +4,11 @@ import static org.junit.jupiter.api.Assertions.assertArrayEquals;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
-import io.eigenmill.cli.Main;
 import io.eigenmill.pca.math.Spectrum;
 import io.eigenmill.record.RunResult;
+import io.eigenmill.testing.CommandRun;
 import io.eigenmill.testing.LoopbackCluster;
 import io.eigenmill.testing.SparkSuite;
-import java.io.ByteArrayOutputStream;
-import java.io.PrintStream;
-import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import org.apache.spark.sql.Dataset;
@@ -65,11 +62,8 @@ class FileTableInputTest extends SparkSuite {
     Path output = dir.resolve("out-" + name);
     Path job = dir.resolve(name + ".conf");
     Files.writeString(job, input + "\nfeatures.columns = [alcohol, ash]\noutput.path = \"" + output + "\"\n");
-    ByteArrayOutputStream out = new ByteArrayOutputStream();
-    ByteArrayOutputStream err = new ByteArrayOutputStream();
-    int code = Main.run(new String[] {"run", job.toString()}, new PrintStream(out, true, StandardCharsets.UTF_8),
-        new PrintStream(err, true, StandardCharsets.UTF_8));
-    return new Result(code, out.toString(StandardCharsets.UTF_8), err.toString(StandardCharsets.UTF_8), output);
+    CommandRun r = CommandRun.of("run", job.toString());
+    return new Result(r.code(), r.out(), r.err(), output);
   }
 
   /** Exit code 2, one error line (the product's contract, README "Command line") holding {@code message}. */
