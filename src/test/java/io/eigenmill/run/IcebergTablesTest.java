@@ -6,11 +6,19 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
+import io.eigenmill.cli.Main;
 import io.eigenmill.testing.CommandRun;
+import io.eigenmill.testing.FleetTables;
 import io.eigenmill.testing.SparkSuite;
 import io.eigenmill.testing.TableCatalog;
+import java.io.File;
+import java.io.IOException;
 import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.ArrayList;
 import java.util.List;
+import java.util.concurrent.TimeUnit;
+import java.util.stream.Stream;
 import org.apache.spark.sql.Dataset;
 import org.apache.spark.sql.Row;
 import org.apache.spark.sql.SparkSession;
@@ -20,7 +28,8 @@ import org.junit.jupiter.api.Test;
 
 /**
  * Row outputs written as Iceberg tables (output.table-prefix): rows and keys as the input's, partitions replaced by
- * overwrite-partitions, fail-if-exists refusing before any commit, and a failed second commit naming the first.
+ * overwrite-partitions, fail-if-exists refusing before any commit, a failed second commit naming the first, and a
+ * run killed before its commit leaving the history as it was.
  * Source of every check: the input Parquet folder and the tables' own history, read independently with Spark SQL.
  */
 @Tag(TableCatalog.TAG)
@@ -137,5 +146,58 @@ class IcebergTablesTest extends SparkSuite {
     assertEquals(assignmentsBefore, snapshots(prefix + "assignments"));
     // the run failed: no output folder
     assertFalse(Files.exists(runs.lastOutput()));
+  }
+
+  /**
+   * A run killed (SIGKILL, a separate JVM) while it writes its scores into the staging folder, before any table
+   * commit: the table's snapshot history is what it was, and output.path was never created. The tables are
+   * committed only after every folder output is staged (RowTables), so the kill always lands before them.
+   */
+  @Test
+  void aRunKilledBeforeItsCommitLeavesTheHistory() throws Exception {
+    String prefix = TableCatalog.freshNamespace() + ".fleet_";
+    String table = prefix + "scores";
+    assertEquals(0, runs.run(prefix, "append").code());
+    List<Long> before = snapshots(table);
+    // rows enough that the scores take a while to write, so that the kill falls inside that write
+    Path killed = runs.dir.resolve("killed");
+    Path input = killed.resolve("input");
+    FleetTables.write(spark, input, 300_000, 4, 20261205L);
+    Path out = killed.resolve("out");
+    Path job = FleetTables.fitJob(killed, input, "output.path = \"" + out + "\"", "output.scores = true",
+        "reduce.components = 2", "output.table-prefix = \"" + prefix + "\"", "output.table-mode = append",
+        "spark.conf { \"spark.sql.catalog.lake\" = \"org.apache.iceberg.spark.SparkCatalog\", "
+            + "\"spark.sql.catalog.lake.type\" = hadoop, \"spark.sql.catalog.lake.warehouse\" = \""
+            + TableCatalog.warehouse().toUri() + "\" }");
+    String repo = System.getProperty("eigenmill.repo", ".");
+    List<String> cmd = new ArrayList<>(List.of(new File(System.getProperty("java.home"), "bin/java").getPath(),
+        "-Xmx1g"));
+    cmd.addAll(List.of(System.getProperty("eigenmill.jvm.opens", "").split(" ")));
+    cmd.removeIf(String::isBlank);
+    cmd.addAll(List.of("-Dlog4j2.configurationFile=" + repo + "/conf/log4j2.properties", "-cp",
+        System.getProperty("java.class.path"), Main.class.getName(), "run", job.toString(), "--env",
+        repo + "/conf/local.conf", "--set", "spark.master=local[1]"));
+    Path log = killed.resolve("run.log");
+    Process p = new ProcessBuilder(cmd).redirectErrorStream(true).redirectOutput(log.toFile()).start();
+    Path staging = null;
+    long deadline = System.nanoTime() + TimeUnit.SECONDS.toNanos(240);
+    while (staging == null && p.isAlive() && System.nanoTime() < deadline) {
+      staging = stagedScores(killed);
+      Thread.sleep(10);
+    }
+    p.destroyForcibly();
+    assertTrue(p.waitFor(60, TimeUnit.SECONDS));
+    assertTrue(staging != null, "the run began to write its scores before it was killed:\n" + Files.readString(log));
+    assertFalse(Files.exists(staging.resolve("summary.json")), "killed before its summary (written after the tables)");
+    assertEquals(before, snapshots(table), "the table's snapshot history is unchanged");
+    assertFalse(Files.exists(out), "nothing was committed to output.path");
+  }
+
+  /** The staging folder of a run into {@code dir}/out once it holds scores/, or null. */
+  private static Path stagedScores(Path dir) throws IOException {
+    try (Stream<Path> siblings = Files.list(dir)) {
+      return siblings.filter(f -> f.getFileName().toString().startsWith(".out.staging-"))
+          .filter(f -> Files.exists(f.resolve("scores"))).findFirst().orElse(null);
+    }
   }
 }
