@@ -5,7 +5,6 @@ import static io.eigenmill.engine.ValueKinds.FLOAT;
 
 import java.util.Arrays;
 import java.util.Iterator;
-import java.util.Locale;
 import org.apache.spark.SparkExecutorInfo;
 import org.apache.spark.api.java.JavaRDD;
 import org.apache.spark.api.java.function.FlatMapFunction;
@@ -25,51 +24,16 @@ import org.apache.spark.storage.StorageLevel;
  * batches therefore fills the same blocks with the same values as a pass over Parquet, and the fit is the same bit
  * for bit. A partition Spark evicts is read again from Parquet (lineage), never lost.
  *
- * <p>Kept when the estimate, {@value #BYTES_PER_CELL} bytes per cell (the double and its null flag), is at most
- * {@value #SHARE_PERCENT}% of the storage memory the executors have free; otherwise the passes stream, and the plan
- * and the log say why.
+ * <p>Whether a fit keeps its batches is the plan's decision ({@code plan.KeptPasses}), from {@link #BYTES_PER_CELL}
+ * and {@link #freeStorage}.
  */
 public final class KeptBatches {
   /** Bytes per kept cell: a double and the vector's null flag. */
   public static final int BYTES_PER_CELL = 9;
-  /** The share of the executors' free storage memory the kept batches may take. */
-  public static final int SHARE_PERCENT = 80;
-
   private KeptBatches() {}
 
-  /** Whether to keep, the estimate and the free storage memory it was held against, in a line for plan and log. */
-  public record Decision(boolean keep, long bytes, long free, String line) {}
-
-  /**
-   * The decision for a fit of {@code passes} passes over {@code rows} rows (-1: not known before reading) of
-   * {@code d} features.
-   */
-  public static Decision decide(SparkSession spark, long rows, int d, int passes, boolean columnar) {
-    long free = freeStorage(spark);
-    if (passes < 2) {
-      return new Decision(false, 0, free, "one pass: nothing to keep");
-    }
-    if (!columnar) {
-      return new Decision(false, 0, free, "passes 2.." + passes + " read the input again: it has no columnar scan"
-          + " to keep batches of");
-    }
-    if (rows < 0) {
-      return new Decision(false, 0, free, "passes 2.." + passes + " read the input again: its row count is not"
-          + " known before reading (no Parquet footers to count), so the memory it needs cannot be checked");
-    }
-    long bytes = rows * d * (long) BYTES_PER_CELL;
-    long allowed = free / 100 * SHARE_PERCENT;
-    boolean keep = bytes <= allowed;
-    String sizes = human(bytes) + " (" + rows + " rows x " + d + " features x " + BYTES_PER_CELL + " bytes)";
-    return new Decision(keep, bytes, free, keep
-        ? "the first pass keeps the features in executor memory, " + sizes + " of " + human(free)
-            + " free storage memory; passes 2.." + passes + " scan memory, not the input"
-        : "passes 2.." + passes + " read the input again: keeping the features would take " + sizes + ", more than "
-            + SHARE_PERCENT + "% of the " + human(free) + " of free storage memory (raise spark.executor.memory)");
-  }
-
   /** The storage memory free on the executors (the driver's, in local mode), from Spark's status tracker. */
-  static long freeStorage(SparkSession spark) {
+  public static long freeStorage(SparkSession spark) {
     long free = 0;
     for (SparkExecutorInfo e : spark.sparkContext().statusTracker().getExecutorInfos()) {
       free += Math.max(0, e.totalOnHeapStorageMemory() - e.usedOnHeapStorageMemory());
@@ -145,11 +109,5 @@ public final class KeptBatches {
       out[j] = c;
     }
     return new ColumnarBatch(out, n);
-  }
-
-  private static String human(long bytes) {
-    return bytes < (1L << 20) ? String.format(Locale.ROOT, "%.1f KiB", bytes / 1024.0)
-        : bytes < (1L << 30) ? String.format(Locale.ROOT, "%.1f MiB", bytes / (double) (1L << 20))
-        : String.format(Locale.ROOT, "%.2f GiB", bytes / (double) (1L << 30));
   }
 }

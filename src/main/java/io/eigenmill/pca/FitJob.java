@@ -2,7 +2,6 @@ package io.eigenmill.pca;
 
 import io.eigenmill.Version;
 import io.eigenmill.engine.FeatureInput;
-import io.eigenmill.engine.KeptBatches;
 import io.eigenmill.engine.OrderedMerge;
 import io.eigenmill.engine.SummaryAggregator;
 import io.eigenmill.io.Snapshot;
@@ -26,6 +25,7 @@ import io.eigenmill.pca.math.RandomizedSubspace;
 import io.eigenmill.pca.math.RitzAccuracy;
 import io.eigenmill.pca.math.Spectrum;
 import io.eigenmill.plan.JobPlan;
+import io.eigenmill.plan.KeptPasses;
 import io.eigenmill.plan.MethodChoice;
 import io.eigenmill.settings.Choices.Method;
 import io.eigenmill.settings.Choices.MissingPolicy;
@@ -96,12 +96,12 @@ public final class FitJob {
 
   /**
    * The randomized method reads the input 2 + power-iterations times (one more with impute-mean): the first pass
-   * keeps the features in executor memory when they fit ({@link KeptBatches}), so the later passes scan memory.
-   * The same decision as the plan's note ({@link MethodChoice#keptPasses}).
+   * keeps the features in executor memory when they fit ({@link KeptPasses}), so the later passes scan memory.
+   * The same decision as the plan's note.
    */
   private void keepIfMultiPass(FeatureInput input) {
-    KeptBatches.Decision keep = MethodChoice.keptPasses(spark, plan.settings(), plan.method(), plan.d(),
-        plan.rowEstimate(), input.columnar());
+    KeptPasses.Decision keep = KeptPasses.of(spark, plan.settings(), plan.method(), plan.d(), plan.rowEstimate(),
+        input.columnar());
     if (keep != null) {
       LOG.info("fit: {}", keep.line());
       if (keep.keep()) {
@@ -109,7 +109,6 @@ public final class FitJob {
       }
     }
   }
-
 
   /**
    * A grouped fit ({@link GroupedFit}): the model of every group and the pooled model of all rows, in one pass.

@@ -1,12 +1,9 @@
 package io.eigenmill.plan;
 
-import io.eigenmill.engine.KeptBatches;
 import io.eigenmill.math.BlockBudget;
 import io.eigenmill.settings.Choices.Method;
-import io.eigenmill.settings.Choices.MissingPolicy;
 import io.eigenmill.settings.InvalidJobException;
 import io.eigenmill.settings.JobSettings;
-import org.apache.spark.sql.SparkSession;
 
 /**
  * Picks the PCA method and says why, from the number of features d, the sketch size l and memory.
@@ -57,21 +54,6 @@ public final class MethodChoice {
         + " columns, no d x d array, " + (reduce.powerIterations() + 2) + " passes"
         + (reduce.maxPowerIterations() > reduce.powerIterations() ? " (up to " + (reduce.maxPowerIterations() + 2)
             + " to reach reduce.randomized.tolerance)" : ""), rnd);
-  }
-
-  /**
-   * Whether a fit keeps its features in executor memory after the first pass ({@link KeptBatches}), or null when
-   * it reads the input once: the randomized method reads it 2 + power-iterations times (one more with impute-mean);
-   * grouped fits and fits that write snapshots are not randomized or keep their own first pass.
-   */
-  public static KeptBatches.Decision keptPasses(SparkSession spark, JobSettings settings, Method method, int d,
-      long rows, boolean columnar) {
-    if (method != Method.RANDOMIZED || settings.reduce().grouped() || settings.output().writesSnapshots()) {
-      return null;
-    }
-    int passes = 2 + settings.reduce().powerIterations()
-        + (settings.prepare().missing() == MissingPolicy.IMPUTE_MEAN ? 1 : 0);
-    return KeptBatches.decide(spark, rows, d, passes, columnar);
   }
 
   /** Sketch columns of the randomized method: k (or max-components) + oversample, at most d. */

@@ -287,7 +287,7 @@ public final class Planner {
     long rows = tableRead == null ? rowEstimate(spark, kept, selection, settings)
         : tableRead.rows() >= 0 ? (settings.input().filtered() ? -1 : tableRead.rows())
         : rowEstimate(spark, kept, selection, settings);
-    var keep = MethodChoice.keptPasses(spark, settings, choice.method(), d, rows,
+    var keep = KeptPasses.of(spark, settings, choice.method(), d, rows,
         settings.input().format() == InputFormat.PARQUET);
     if (keep != null) {
       notes.add("passes: " + keep.line());

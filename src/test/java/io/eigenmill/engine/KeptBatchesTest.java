@@ -80,20 +80,4 @@ class KeptBatchesTest extends SparkSuite {
     assertEquals(dropped, fromMemory.counts().rowsDropped());
     input.release();
   }
-
-  @Test
-  void theDecisionFollowsTheFreeStorageMemory() {
-    KeptBatches.Decision small = KeptBatches.decide(spark, 1000, 10, 4, true);
-    assertTrue(small.keep(), small.line());
-    assertEquals(1000L * 10 * KeptBatches.BYTES_PER_CELL, small.bytes());
-    assertTrue(small.line().contains("passes 2..4 scan memory"), small.line());
-    // more than the whole storage memory of the test JVM
-    long rows = small.free() / 10 / KeptBatches.BYTES_PER_CELL + 1;
-    KeptBatches.Decision big = KeptBatches.decide(spark, rows, 10, 4, true);
-    assertFalse(big.keep(), big.line());
-    assertTrue(big.line().contains("raise spark.executor.memory"), big.line());
-    assertFalse(KeptBatches.decide(spark, -1, 10, 4, true).keep());
-    assertFalse(KeptBatches.decide(spark, 1000, 10, 4, false).keep());
-    assertFalse(KeptBatches.decide(spark, 1000, 10, 1, true).keep());
-  }
 }
