@@ -6,6 +6,7 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import io.eigenmill.io.OutputCommit;
 import io.eigenmill.testing.BuildDir;
+import io.eigenmill.testing.ChildJvm;
 import io.eigenmill.testing.CommandRun;
 import io.eigenmill.testing.SparkSuite;
 import java.io.File;
@@ -276,14 +277,7 @@ class MainTest extends SparkSuite {
     Path out = dir.resolve("jvm-out");
     Path f = job("jvm", "features.keys = [host, fan1_rpm]\nfeatures.columns = [\"*\"]\noutput.path = \"" + out
         + "\"\n");
-    String repo = System.getProperty("eigenmill.repo", ".");
-    List<String> cmd = new ArrayList<>(List.of(new File(System.getProperty("java.home"), "bin/java").getPath(),
-        "-Xmx1g"));
-    cmd.addAll(List.of(System.getProperty("eigenmill.jvm.opens", "").split(" ")));
-    cmd.removeIf(String::isBlank);
-    cmd.addAll(List.of("-Dlog4j2.configurationFile=" + repo + "/conf/log4j2.properties",
-        "-cp", System.getProperty("java.class.path"), Main.class.getName(), "run", f.toString(),
-        "--env", repo + "/conf/local.conf", "--set", "spark.master=local[1]"));
+    List<String> cmd = ChildJvm.command("run", f.toString());
     Process p = new ProcessBuilder(cmd).redirectOutput(dir.resolve("jvm.out").toFile())
         .redirectError(dir.resolve("jvm.err").toFile()).start();
     assertTrue(p.waitFor(240, TimeUnit.SECONDS), "the JVM finished");

@@ -6,16 +6,14 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
-import io.eigenmill.cli.Main;
+import io.eigenmill.testing.ChildJvm;
 import io.eigenmill.testing.CommandRun;
 import io.eigenmill.testing.FleetTables;
 import io.eigenmill.testing.SparkSuite;
 import io.eigenmill.testing.TableCatalog;
-import java.io.File;
 import java.io.IOException;
 import java.nio.file.Files;
 import java.nio.file.Path;
-import java.util.ArrayList;
 import java.util.List;
 import java.util.concurrent.TimeUnit;
 import java.util.stream.Stream;
@@ -169,14 +167,7 @@ class IcebergTablesTest extends SparkSuite {
         "spark.conf { \"spark.sql.catalog.lake\" = \"org.apache.iceberg.spark.SparkCatalog\", "
             + "\"spark.sql.catalog.lake.type\" = hadoop, \"spark.sql.catalog.lake.warehouse\" = \""
             + TableCatalog.warehouse().toUri() + "\" }");
-    String repo = System.getProperty("eigenmill.repo", ".");
-    List<String> cmd = new ArrayList<>(List.of(new File(System.getProperty("java.home"), "bin/java").getPath(),
-        "-Xmx1g"));
-    cmd.addAll(List.of(System.getProperty("eigenmill.jvm.opens", "").split(" ")));
-    cmd.removeIf(String::isBlank);
-    cmd.addAll(List.of("-Dlog4j2.configurationFile=" + repo + "/conf/log4j2.properties", "-cp",
-        System.getProperty("java.class.path"), Main.class.getName(), "run", job.toString(), "--env",
-        repo + "/conf/local.conf", "--set", "spark.master=local[1]"));
+    List<String> cmd = ChildJvm.command("run", job.toString());
     Path log = killed.resolve("run.log");
     Process p = new ProcessBuilder(cmd).redirectErrorStream(true).redirectOutput(log.toFile()).start();
     Path staging = null;
