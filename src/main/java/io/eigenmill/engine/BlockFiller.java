@@ -20,11 +20,11 @@ public final class BlockFiller<A extends Serializable> implements PartitionPasse
   /** Whether blocks may be shifted: only when the preparation leaves them as read. */
   private final boolean shifts;
 
-  BlockFiller(int d, int capacity, ReadMode mode, BlockPrep prep, BlockAggregator<A> aggregator) {
+  BlockFiller(int d, int capacity, int firstRows, ReadMode mode, BlockPrep prep, BlockAggregator<A> aggregator) {
     this.shifts = prep.isIdentity();
     this.counts = new ReadCounts(d);
     // shifted blocks carry a column of ones after the features (BlockAggregator.addShifted)
-    this.block = ColumnBlock.of(d, capacity, mode, shifts, counts.missingCells);
+    this.block = ColumnBlock.of(d, capacity, firstRows, mode, shifts, counts.missingCells);
     this.prep = prep;
     this.aggregator = aggregator;
     this.partial = aggregator.zero();

@@ -60,7 +60,14 @@ public final class ColumnBlock implements BlockSink {
    * @param missingCells where missing cells are counted per column (d entries), or null
    */
   public static ColumnBlock of(int d, int capacity, ReadMode mode, boolean onesColumn, long[] missingCells) {
-    ColumnBlock b = new ColumnBlock(d, capacity, Math.min(capacity, FIRST_ROWS), onesColumn ? d + 1 : d,
+    return of(d, capacity, 0, mode, onesColumn, missingCells);
+  }
+
+  /** {@link #of} allocating {@code firstRows} rows at first ({@link #FIRST_ROWS} when 0). */
+  public static ColumnBlock of(int d, int capacity, int firstRows, ReadMode mode, boolean onesColumn,
+      long[] missingCells) {
+    int first = firstRows > 0 ? firstRows : FIRST_ROWS;
+    ColumnBlock b = new ColumnBlock(d, capacity, Math.min(capacity, first), onesColumn ? d + 1 : d,
         mode == ReadMode.DROP, null, missingCells);
     if (onesColumn) {
       Arrays.fill(b.values, b.ld * d, b.ld * (d + 1), 1.0);

@@ -40,12 +40,15 @@ public final class KeyedPasses {
    *     unkeyed pass's size, for equality with it); later keys get blocks of {@code smallRows} rows, so that the
    *     blocks of many keys stay within a task's memory
    * @param skip keys whose rows are read but not summarised (groups known to be too small)
+   * @param firstRows rows a key's block allocates at first (it grows as rows arrive, up to its capacity); 0 for
+   *     the blocks' own default. A pass that knows about how many rows a key has in a task (the groups' counts)
+   *     allocates that much at once instead of growing the block, copy by copy
    */
-  public record Routing(int fullKeys, int smallRows, java.util.Set<KeyValues> skip, boolean pooled)
+  public record Routing(int fullKeys, int smallRows, java.util.Set<KeyValues> skip, boolean pooled, int firstRows)
       implements Serializable {
     /** Every key with full blocks, none skipped, no pooled partial. */
     public static Routing full() {
-      return new Routing(Integer.MAX_VALUE, 0, java.util.Set.of(), false);
+      return new Routing(Integer.MAX_VALUE, 0, java.util.Set.of(), false, 0);
     }
   }
 
@@ -82,7 +85,8 @@ public final class KeyedPasses {
           }
           fillers.add(rest);
         } else {
-          fillers.add(spec.filler(made++ < routing.fullKeys() ? spec.blockRows() : routing.smallRows()));
+          fillers.add(spec.filler(made++ < routing.fullKeys() ? spec.blockRows() : routing.smallRows(),
+              routing.firstRows()));
         }
       }
       return fillers.get(code);
@@ -155,9 +159,9 @@ public final class KeyedPasses {
       Router<A> router = new Router<>(spec, routing, coder);
       ColumnVector[] vectors = new ColumnVector[ordinals.length];
       ColumnVector[] keyVectors = new ColumnVector[keyOrdinals.length];
-      int[] codes = new int[0];
-      int[] order = new int[0];
-      BatchScratch scratch = new BatchScratch(ordinals.length);
+      BatchScratch scratch = new BatchScratch(ordinals.length, scratchRows(ordinals.length));
+      int[] codes = new int[scratch.capacity()];
+      int[] order = new int[scratch.capacity()];
       while (batches.hasNext()) {
         ColumnarBatch batch = batches.next();
         for (int j = 0; j < ordinals.length; j++) {
@@ -167,98 +171,160 @@ public final class KeyedPasses {
           keyVectors[c] = batch.column(keyOrdinals[c]);
         }
         int rows = batch.numRows();
-        if (rows == 0) {
-          continue;
-        }
-        if (codes.length < rows) {
-          codes = new int[rows];
-          order = new int[rows];
-        }
-        boolean uniform = true;
-        for (int r = 0; r < rows; r++) {
-          codes[r] = coder.code(keyVectors, r);
-          uniform &= codes[r] == codes[0];
-        }
-        if (uniform) {
-          BlockFiller<A> f = router.filler(codes[0]);
-          if (f == null) {
-            router.skipRows(rows);
-          } else {
-            PartitionPasses.copyRows(vectors, kinds, 0, rows, f);
+        int at = 0;
+        while (at < rows) {
+          if (scratch.room() == 0) {
+            scratch.drain(codes, order, coder.count(), router);
           }
-          continue;
-        }
-        int keysNow = coder.count();
-        int[] starts = orderByCode(codes, rows, keysNow, order);
-        // the batch is decoded once, column by column with the unkeyed copy (SIMD, dictionaries decoded per run),
-        // into a scratch of doubles, and each key's rows are gathered from it
-        scratch.fill(vectors, kinds, rows);
-        for (int c = 0; c < keysNow; c++) {
-          int count = starts[c + 1] - starts[c];
-          if (count > 0) {
-            BlockFiller<A> f = router.filler(c);
+          int t = Math.min(rows - at, scratch.room());
+          int base = scratch.rows();
+          boolean uniform = true;
+          for (int r = 0; r < t; r++) {
+            codes[base + r] = coder.code(keyVectors, at + r);
+            uniform &= codes[base + r] == codes[base];
+          }
+          if (uniform && base == 0) {
+            // one key and nothing held back: the rows go straight into the key's block, as in an unkeyed pass
+            BlockFiller<A> f = router.filler(codes[0]);
             if (f == null) {
-              router.skipRows(count);
+              router.skipRows(t);
             } else {
-              scratch.gather(order, starts[c], count, f);
+              PartitionPasses.copyRows(vectors, kinds, at, t, f);
             }
+          } else {
+            scratch.append(vectors, kinds, at, t);
           }
+          at += t;
         }
       }
+      scratch.drain(codes, order, coder.count(), router);
       return List.of(router.finish(partition)).iterator();
     }
   }
 
+  /** Bytes of decoded rows a task holds back before ordering them by key (see {@link BatchScratch}). */
+  static final long SCRATCH_BYTES = 16L << 20;
+
   /**
-   * A batch's feature columns decoded to doubles (column-major, leading dimension the batch's rows), a missing cell
-   * (null, NaN or infinite) as NaN; rows are gathered from it into the keys' blocks. The values are the block
-   * reader's ({@link PartitionPasses#copyColumn} with no origin: x - 0 is x), and a block's origin is subtracted when
-   * gathering, so a gathered block holds the same bits as a block copied from the batch.
+   * Rows of a task's scratch at d features: {@link #SCRATCH_BYTES} of doubles, at least one batch of the Parquet
+   * reader (4,096 rows) and at most 32,768 rows. With g keys mixed in every batch each key gets about rows / g rows
+   * a drain: 20,971 rows at d = 100 give a key of 1,000 about 21 contiguous values per column, where a batch gave 4.
+   */
+  static int scratchRows(int d) {
+    return (int) Math.max(4096, Math.min(32_768, SCRATCH_BYTES / (8L * Math.max(1, d))));
+  }
+
+  /**
+   * Rows of mixed keys decoded to doubles (column-major, leading dimension the scratch's capacity), a missing cell
+   * (null, NaN or infinite) as NaN, held until the scratch is full or the partition ends; then ordered by key code
+   * (stable) and gathered into the keys' blocks ({@link #drain}). The values are the block reader's
+   * ({@link PartitionPasses#copyColumn} with no origin: x - 0 is x), and a block's origin is subtracted when
+   * gathering, so a gathered block holds the same bits as a block copied from the batch; each key's rows reach its
+   * block in the table's order, so the blocks, and the sums, are those of a pass over the key's rows alone.
+   *
+   * <p>Why hold rows back: with many keys a batch gives each key a few rows, and gathering them wrote a few values
+   * into each of d columns of each key's block, a cache line touched per value. The drain goes column by column
+   * (outer) and key by key (inner): the scratch's column stays in cache while every key takes its rows of that
+   * column, contiguous in the key's block.
    */
   static final class BatchScratch implements BlockSink {
     private final int d;
-    private double[] values = new double[0];
-    private int ld;
+    private final int capacity;
+    private final double[] values;
+    private int rows;
+    /** Row of the scratch where the slice being appended starts. */
+    private int base;
 
-    BatchScratch(int d) {
+    BatchScratch(int d, int capacity) {
       this.d = d;
+      this.capacity = capacity;
+      this.values = new double[d * capacity];
     }
 
-    void fill(ColumnVector[] vectors, int[] kinds, int rows) {
-      if (values.length < d * rows) {
-        values = new double[d * Math.max(rows, 1024)];
-      }
-      ld = rows;
+    int capacity() {
+      return capacity;
+    }
+
+    int rows() {
+      return rows;
+    }
+
+    int room() {
+      return capacity - rows;
+    }
+
+    /** Decodes rows {@code start .. start + count - 1} of the batch's feature vectors after the rows held. */
+    void append(ColumnVector[] vectors, int[] kinds, int start, int count) {
+      base = rows;
       for (int j = 0; j < d; j++) {
-        PartitionPasses.copyColumn(vectors[j], kinds[j], 0, rows, this, j);
+        PartitionPasses.copyColumn(vectors[j], kinds[j], start, count, this, j);
       }
+      rows += count;
     }
 
-    /** Gathers the batch rows {@code rows[from .. from + count - 1]} into {@code sink}, a slice at a time. */
-    void gather(int[] rows, int from, int count, PartitionPasses.SliceSink sink) {
-      int end = from + count;
-      while (from < end) {
-        int t = sink.room(end - from);
-        ColumnBlock block = sink.block();
-        double[] dst = block.block();
-        int base = block.base();
-        int bld = block.ld();
-        double[] origin = block.origin();
+    /**
+     * Hands every row held to its key's block (row r has key code {@code codes[r]}), then empties the scratch.
+     * Rounds: each key with rows left takes what its block has room for, the columns are gathered for all those
+     * keys, each key commits (a full block goes to the aggregator); a key whose block filled goes on next round.
+     */
+    <A extends Serializable> void drain(int[] codes, int[] order, int keys, Router<A> router) {
+      if (rows == 0) {
+        return;
+      }
+      int[] starts = orderByCode(codes, rows, keys, order);
+      int[] next = Arrays.copyOf(starts, keys);
+      int[] from = new int[keys];
+      int[] take = new int[keys];
+      ColumnBlock[] blocks = new ColumnBlock[keys];
+      int[] active = new int[keys];
+      while (true) {
+        int n = 0;
+        for (int c = 0; c < keys; c++) {
+          int left = starts[c + 1] - next[c];
+          if (left == 0) {
+            continue;
+          }
+          BlockFiller<A> f = router.filler(c);
+          if (f == null) {
+            router.skipRows(left);
+            next[c] += left;
+            continue;
+          }
+          take[c] = f.room(left);
+          from[c] = next[c];
+          blocks[c] = f.block();
+          active[n++] = c;
+        }
+        if (n == 0) {
+          break;
+        }
         for (int j = 0; j < d; j++) {
-          double o = origin == null ? 0.0 : origin[j];
-          int src = j * ld;
-          int off = j * bld + base;
-          for (int i = 0; i < t; i++) {
-            double x = values[src + rows[from + i]];
-            dst[off + i] = x - o;
-            if (x != x) {
-              block.markMissing(i, j);
+          int src = j * capacity;
+          for (int a = 0; a < n; a++) {
+            int c = active[a];
+            ColumnBlock block = blocks[c];
+            double[] dst = block.block();
+            double[] origin = block.origin();
+            double o = origin == null ? 0.0 : origin[j];
+            int off = j * block.ld() + block.base();
+            int first = from[c];
+            int t = take[c];
+            for (int i = 0; i < t; i++) {
+              double x = values[src + order[first + i]];
+              dst[off + i] = x - o;
+              if (x != x) {
+                block.markMissing(i, j);
+              }
             }
           }
         }
-        sink.commit(t);
-        from += t;
+        for (int a = 0; a < n; a++) {
+          int c = active[a];
+          router.filler(c).commit(take[c]);
+          next[c] += take[c];
+        }
       }
+      rows = 0;
     }
 
     @Override public double[] block() {
@@ -266,15 +332,15 @@ public final class KeyedPasses {
     }
 
     @Override public int ld() {
-      return ld;
+      return capacity;
     }
 
     @Override public int base() {
-      return 0;
+      return base;
     }
 
     @Override public void markMissing(int i, int j) {
-      values[j * ld + i] = Double.NaN;
+      values[j * capacity + base + i] = Double.NaN;
     }
   }
 

@@ -36,7 +36,12 @@ public final class PartitionPasses {
     }
 
     BlockFiller<A> filler(int capacity) {
-      return new BlockFiller<>(d, capacity, mode, prep, aggregator);
+      return filler(capacity, 0);
+    }
+
+    /** A filler whose block allocates {@code firstRows} rows at first (0: the block's default). */
+    BlockFiller<A> filler(int capacity, int firstRows) {
+      return new BlockFiller<>(d, capacity, firstRows, mode, prep, aggregator);
     }
   }
 

@@ -15,6 +15,16 @@ public final class Linalg {
   private static final BLAS JAVA_BLAS = dev.ludovic.netlib.blas.JavaBLAS.getInstance();
   private static final LAPACK JAVA_LAPACK = dev.ludovic.netlib.lapack.JavaLAPACK.getInstance();
 
+  static {
+    // The pure-Java LAPACK computes its machine constants (dlamch: eps, safe minimum, ...) on its first call into
+    // static fields behind a "first" flag, without a lock. Two Spark tasks making their first LAPACK calls at once
+    // can read eps before it is set (0), and dlarfg's rescaling loop (safe minimum / eps = infinity) then never
+    // ends: seen here as a solve of order 100 that ran for minutes in dsytrd. Computing them here, under the class
+    // initialization lock, publishes them before any caller of this class can run a decomposition.
+    JAVA_LAPACK.dlamch("E");
+    JAVA_LAPACK.dlamch("S");
+  }
+
   /**
    * Largest order for which driver-side decompositions run in the pure-Java LAPACK. Measured here: native LAPACK
    * (OpenBLAS) is not bit-for-bit repeatable between calls on identical input (its level-2 kernels take different

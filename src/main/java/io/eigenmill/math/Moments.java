@@ -1,6 +1,8 @@
 package io.eigenmill.math;
 
 import java.nio.ByteBuffer;
+import java.nio.ByteOrder;
+import java.nio.DoubleBuffer;
 
 /**
  * Mergeable first and second moments of d columns: count, mean and the centred co-moment matrix
@@ -389,14 +391,48 @@ public final class Moments implements BlockSummary<Moments> {
    * bytes of the d x d array, and rebuilt bit for bit by {@link #restore} (the lower triangle is never read).
    */
   private Object writeReplace() {
-    return gram ? new Packed(state()) : this;
+    return gram ? new Packed(packedBytes()) : this;
   }
 
-  /** The serialized form of moments with the Gram. */
-  private record Packed(State state) implements java.io.Serializable {
+  /**
+   * The serialized form of moments with the Gram: one byte array (Java serialization copies it whole, where an
+   * array of doubles goes through the stream value by value, and reading the partials of a keyed pass with many
+   * keys spent as long on that as on the merges): n, then the shift, the mean and the packed upper triangle as in
+   * {@link #state}, little-endian. Read straight into the co-moment matrix, bit for bit.
+   */
+  private record Packed(byte[] bytes) implements java.io.Serializable {
     private Object readResolve() {
-      return restore(state);
+      return fromPackedBytes(bytes);
     }
+  }
+
+  private byte[] packedBytes() {
+    ByteBuffer buf = ByteBuffer.allocate(8 + 8 * (2 * d + d * (d + 1) / 2)).order(ByteOrder.LITTLE_ENDIAN);
+    buf.putLong(n);
+    DoubleBuffer doubles = buf.asDoubleBuffer();
+    doubles.put(shift).put(mean);
+    for (int j = 0; j < d; j++) {
+      doubles.put(m2, j * d, j + 1);
+    }
+    return buf.array();
+  }
+
+  private static Moments fromPackedBytes(byte[] bytes) {
+    // 8 + 8 (2 d + d (d + 1) / 2) bytes: solve d (d + 5) / 2 = doubles for d
+    long doubles = (bytes.length - 8L) / 8;
+    int d = (int) Math.round((Math.sqrt(25.0 + 8.0 * doubles) - 5.0) / 2.0);
+    if (bytes.length % 8 != 0 || (long) d * (d + 5) / 2 != doubles) {
+      throw new IllegalArgumentException("a packed moments form of " + bytes.length + " bytes has no column count");
+    }
+    ByteBuffer buf = ByteBuffer.wrap(bytes).order(ByteOrder.LITTLE_ENDIAN);
+    Moments m = empty(d, true);
+    m.n = buf.getLong();
+    DoubleBuffer in = buf.asDoubleBuffer();
+    in.get(m.shift).get(m.mean);
+    for (int j = 0; j < d; j++) {
+      in.get(m.m2, j * d, j + 1);
+    }
+    return m;
   }
 
   /** The serialized form: d, gram flag, n, shift, mean relative to the shift, m2 (big-endian). */

@@ -71,10 +71,15 @@ final class GroupedFit {
     int kept = counts.size() - small.size();
     int smallRows = (int) Math.max(GroupPlan.MIN_BLOCK_ROWS, Math.min(blockRows,
         plan.taskBudget() / (8L * (d + 1) * Math.max(1, kept))));
-    var routing = new KeyedPasses.Routing(plan.fullKeys(), smallRows, small, true);
-    Solve finish = new Solve(solver, plan.minRows());
     boolean rFactor = solver.method() == Method.TSQR;
     int partitions = input.table().rdd().getNumPartitions();
+    long keptRows = 0;
+    for (Map.Entry<KeyValues, Long> e : counts.entrySet()) {
+      keptRows += small.contains(e.getKey()) ? 0 : e.getValue();
+    }
+    var routing = new KeyedPasses.Routing(plan.fullKeys(), smallRows, small, true,
+        firstRows(keptRows, kept, partitions));
+    Solve finish = new Solve(solver, plan.minRows());
     boolean onDriver = plan.onDriver(kept + 1L, partitions);
     LOG.info("fit: {} groups of {} ({} below reduce.min-group-rows = {}), solved on the {}", counts.size(),
         String.join(", ", plan.by().names()), small.size(), plan.minRows(), onDriver ? "driver" : "executors");
@@ -129,6 +134,17 @@ final class GroupedFit {
     return input.runKeyedOnExecutors("fit/groups", aggregator, mode, prep, plan.by(), blockRows, routing,
         new SolveOnExecutor<S>(finish), reducers(plan.summaryBytes(), kept, partitions,
             input.table().sparkSession().sparkContext().defaultParallelism()));
+  }
+
+  /**
+   * Rows a group's block allocates at first in a task: a quarter more than a group's rows in a task if groups and
+   * rows spread evenly over the partitions ({@code rows / (groups x partitions)}), at least 64 (the blocks' own
+   * start). Blocks still grow where a task has more of a group, and never exceed their capacity; a guess too low
+   * costs a copy, never a different result (a block's rows and sums do not depend on its allocation).
+   */
+  static int firstRows(long rows, int groups, int partitions) {
+    double each = (double) rows / Math.max(1, groups) / Math.max(1, partitions);
+    return (int) Math.max(64, Math.min(1 << 20, Math.ceil(1.25 * each)));
   }
 
   /** Bytes of partials one merge task holds at most (they are held whole while a key's partials are gathered). */

@@ -55,7 +55,7 @@ public record ModelSolver(List<String> features, List<String> featureTypes, Scal
     checkComponents(keep.length);
     double[] scales = scales(variances, keep);
     Spectrum spectrum = rFactor != null ? Spectrum.ofRFactor(rFactor, keep, inverses(scales))
-        : covarianceSpectrum(moments, keep, scales);
+        : covarianceSpectrum(moments, keep, scales, this::componentsOf);
     return finish(n, means, variances, keep, scales, spectrum, dropped);
   }
 
@@ -184,7 +184,8 @@ public record ModelSolver(List<String> features, List<String> featureTypes, Scal
     return f;
   }
 
-  private static Spectrum covarianceSpectrum(Moments moments, int[] keep, double[] scales) {
+  private static Spectrum covarianceSpectrum(Moments moments, int[] keep, double[] scales,
+      java.util.function.ToIntFunction<Spectrum> components) {
     int d = moments.dimension();
     double[] full = moments.covariance();
     int dk = keep.length;
@@ -194,6 +195,6 @@ public record ModelSolver(List<String> features, List<String> featureTypes, Scal
         c[a + b * dk] = full[keep[a] + keep[b] * d] / (scales[a] * scales[b]);
       }
     }
-    return Spectrum.ofCovariance(c, dk);
+    return Spectrum.ofCovarianceKept(c, dk, components);
   }
 }

@@ -91,6 +91,55 @@ class KeyedPassTest extends SparkSuite {
   }
 
   @Test
+  void manyKeysHeldBackOverSeveralDrainsEqualTheRowReaderBitForBit(@TempDir Path tmp) {
+    // one file, one partition: 500 keys mixed row by row, then a run of one key (whole batches of one key arrive
+    // while mixed rows are held back), then mixed rows again; more rows than one scratch holds at d = 3
+    // (KeyedPasses.scratchRows), so the scratch drains several times and blocks of BLOCK rows fill mid-drain
+    int rowsHeld = KeyedPasses.scratchRows(3);
+    Random rnd = new Random(43);
+    StructType schema = new StructType().add("grp", DataTypes.IntegerType).add("x0", DataTypes.DoubleType)
+        .add("x1", DataTypes.DoubleType).add("x2", DataTypes.DoubleType);
+    List<Row> rows = new ArrayList<>();
+    int mixed = rowsHeld + rowsHeld / 3;
+    for (int i = 0; i < mixed + 9000 + rowsHeld; i++) {
+      boolean run = i >= mixed && i < mixed + 9000;
+      int g = run ? 7 : rnd.nextInt(500);
+      Double x1 = rnd.nextInt(200) == 0 ? null : rnd.nextGaussian() * (1 + g % 5);
+      rows.add(RowFactory.create(g, 1e3 * g + rnd.nextGaussian(), x1, rnd.nextGaussian() + g));
+    }
+    String one = tmp.resolve("one").toString();
+    spark.createDataFrame(rows, schema).coalesce(1).write().parquet(one);
+    List<String> features = List.of("x0", "x1", "x2");
+    KeyColumns grp = new KeyColumns(List.of("grp"), List.of("int"), spark.conf().get("spark.sql.session.timeZone"));
+    FeatureInput columnar = new FeatureInput(spark.read().parquet(one), features, BLOCK);
+    assertTrue(columnar.columnar());
+    var held = columnar.runKeyed("test/held", new SummaryAggregator<>(Moments.factory(3, true)), ReadMode.DROP,
+        BlockPrep.identity(), grp, BLOCK);
+    // the row reader (Spark's vectorized Parquet reader off) copies row by row into the same blocks
+    spark.conf().set("spark.sql.parquet.enableVectorizedReader", "false");
+    try {
+      FeatureInput rowInput = new FeatureInput(spark.read().parquet(one), features, BLOCK);
+      assertTrue(!rowInput.columnar());
+      var byRow = rowInput.runKeyed("test/held-rows", new SummaryAggregator<>(Moments.factory(3, true)),
+          ReadMode.DROP, BlockPrep.identity(), grp, BLOCK);
+      assertEquals(500, held.byKey().size());
+      assertEquals(byRow.byKey().keySet(), held.byKey().keySet());
+      for (KeyValues k : held.byKey().keySet()) {
+        assertArrayEquals(byRow.byKey().get(k).value().toBytes(), held.byKey().get(k).value().toBytes(),
+            "group " + k);
+        assertArrayEquals(byRow.byKey().get(k).counts().missingCells(),
+            held.byKey().get(k).counts().missingCells(), "group " + k);
+      }
+    } finally {
+      spark.conf().unset("spark.sql.parquet.enableVectorizedReader");
+    }
+    // and the run's key against an unkeyed pass over its rows alone
+    PartialResult<Moments> alone = new FeatureInput(spark.read().parquet(one).where("grp = 7"), features, BLOCK)
+        .run("test/held-alone", Moments.factory(3, true), ReadMode.DROP, BlockPrep.identity());
+    assertArrayEquals(alone.value().toBytes(), held.byKey().get(new KeyValues(List.of("7"))).value().toBytes());
+  }
+
+  @Test
   void twoKeyColumnsAndThePartitionColumnRowPathAgreesWithColumnarPath() {
     Dataset<Row> t = spark.read().parquet(path);
     List<String> features = List.of("x0", "x1", "x2", "x3");

@@ -53,6 +53,25 @@ public record Spectrum(int d, double[] eigenvalues, double[] loadings, double to
     return -1;
   }
 
+  /**
+   * From a sample covariance (or correlation) matrix: every eigenvalue, and the loadings of the first
+   * {@code components.applyAsInt(eigenvalues)} components only (sign-normalised): the tridiagonal reduction once,
+   * the vectors of the kept components ({@link SymmetricEigen#reduce}).
+   */
+  public static Spectrum ofCovarianceKept(double[] covariance, int d,
+      java.util.function.ToIntFunction<Spectrum> components) {
+    SymmetricEigen.Reduced r = SymmetricEigen.reduce(covariance, d);
+    double trace = 0;
+    for (int j = 0; j < d; j++) {
+      trace += covariance[j + j * d];
+    }
+    double[] values = r.values();
+    int m = Math.max(0, Math.min(d, components.applyAsInt(new Spectrum(d, values, new double[0], trace))));
+    double[] vectors = r.top(m);
+    SignConvention.apply(vectors, d, m);
+    return new Spectrum(d, values, vectors, trace);
+  }
+
   /** From a sample covariance (or correlation) matrix: full eigen-decomposition, sign-normalised. */
   public static Spectrum ofCovariance(double[] covariance, int d) {
     SymmetricEigen.Result e = SymmetricEigen.decompose(covariance, d);

@@ -49,6 +49,52 @@ class SymmetricEigenTest {
   }
 
   /**
+   * The reduction route (dsytrd, dsterf, dstemr, dormtr) against Commons Math on the same kind of matrix, at an order
+   * where the driver uses the pure-Java LAPACK (n = 60) and above it (n = 600, native when installed): every
+   * eigenvalue within 2 SOLVER n ulp lambda_1 (Weyl, both backward stable), the top m vectors within the
+   * Davis-Kahan bound of the gap, the vectors orthonormal to SOLVER n ulp (common practice, no source: the
+   * orthogonality MRRR delivers is O(n eps), Dhillon and Parlett 2004, recalled from memory), and the route
+   * repeats bit for bit where the pure-Java LAPACK runs it.
+   */
+  @Test
+  void reductionGivesEveryEigenvalueAndTheTopVectorsOfCommonsMath() {
+    for (int n : new int[] {60, 600}) {
+      int m = 7;
+      double[] a = psd(n, 3 * n, 43 + n);
+      SymmetricEigen.Reduced r = SymmetricEigen.reduce(a, n);
+      double[] values = r.values();
+      double[] top = r.top(m);
+      EigenDecomposition ref = new EigenDecomposition(commons(a, n));
+      double[] refValues = ref.getRealEigenvalues();
+      double e = SOLVER * n * ULP * refValues[0];
+      for (int i = 0; i < n; i++) {
+        assertEquals(refValues[i], values[i], 2 * e, "n = " + n + ": eigenvalue " + i);
+      }
+      for (int i = 0; i < m; i++) {
+        double gap = Math.min(i > 0 ? refValues[i - 1] - refValues[i] : Double.POSITIVE_INFINITY,
+            refValues[i] - refValues[i + 1]);
+        double[] v = MathFixtures.columns(top, n, i, i + 1);
+        double sin = MathFixtures.sinLargestAngle(v, ref.getEigenvector(i).toArray(), n, 1);
+        assertTrue(sin <= ErrorBudget.subspaceBound(e, e, gap), "n = " + n + ": eigenvector " + i + " at " + sin);
+        for (int c = 0; c <= i; c++) {
+          double dot = 0;
+          for (int j = 0; j < n; j++) {
+            dot += top[j + i * n] * top[j + c * n];
+          }
+          assertEquals(c == i ? 1.0 : 0.0, dot, SOLVER * n * ULP, "n = " + n + ": v" + i + " . v" + c);
+        }
+      }
+      if (n <= Linalg.REPEATABLE_MAX_ORDER) {
+        // the pure-Java LAPACK repeats bit for bit (the native one need not: Linalg.REPEATABLE_MAX_ORDER)
+        org.junit.jupiter.api.Assertions.assertArrayEquals(top, SymmetricEigen.reduce(a, n).top(m), 0.0,
+            "n = " + n + ": repeatable");
+      }
+      assertEquals(0, r.top(0).length);
+      assertThrows(IllegalArgumentException.class, () -> r.top(n + 1));
+    }
+  }
+
+  /**
    * Both solvers are backward stable, each exact for A + E with ||E|| <= SOLVER n ulp ||A|| (ErrorBudget), so each
    * eigenvalue differs by at most twice that (Weyl) and each eigenvector by the Davis-Kahan bound with the gap to the
    * neighbouring eigenvalues.
