@@ -13,6 +13,7 @@ import io.eigenmill.settings.JobSettings;
 import io.eigenmill.testing.JobFiles;
 import io.eigenmill.testing.LoopbackCluster;
 import io.eigenmill.testing.SparkSuite;
+import io.eigenmill.testing.WideTables;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
@@ -23,7 +24,6 @@ import org.apache.spark.sql.Row;
 import org.apache.spark.sql.RowFactory;
 import org.apache.spark.sql.execution.FileSourceScanExec;
 import org.apache.spark.sql.execution.SparkPlan;
-import org.apache.spark.sql.types.DataTypes;
 import org.apache.spark.sql.types.StructType;
 import org.junit.jupiter.api.AfterAll;
 import org.junit.jupiter.api.AfterEach;
@@ -50,11 +50,8 @@ class WideSplitsTest extends SparkSuite {
 
   @BeforeAll
   static void write() throws Exception {
-    StructType schema = new StructType().add("host", DataTypes.StringType);
-    for (int j = 0; j < D; j++) {
-      schema = schema.add("m" + j, DataTypes.DoubleType);
-    }
-    SplittableRandom r = new SplittableRandom(20261204);
+    StructType schema = WideTables.hostAndFeatures(D);
+    SplittableRandom r = new SplittableRandom(20261205);
     List<Row> data = new ArrayList<>();
     for (int i = 0; i < ROWS; i++) {
       Object[] row = new Object[D + 1];
