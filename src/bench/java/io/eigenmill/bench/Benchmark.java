@@ -111,8 +111,9 @@ public final class Benchmark {
       return new Outcome(null, null, null, options.out());
     }
     if (options.wide()) {
-      List<WideResult> wide = WideRun.run(spark, options, WideRun.CASES, options.smoke() ? WideRun.SMOKE_CELLS
-          : WideRun.CELLS);
+      List<WideResult> wide = WideRun.run(spark, options, WideRun.CASES, options.smoke() ? WideRun.SMOKE_DIVISOR
+          : 1);
+      WideRun.print(wide);
       Report.writeSection(options.out(), "wide", WideRun.render(wide, Report.header(machine, options, loadBefore,
           Machine.loadAverage())));
       return new Outcome(null, null, wide, options.out());

@@ -43,7 +43,15 @@ final class Floors {
    * @throws IllegalStateException when the input has no columnar scan (then our fits read Rows too)
    */
   static double[] readFloor(Dataset<Row> table, List<String> features) {
-    FeatureInput input = new FeatureInput(table, features, BLOCK_ROWS);
+    return readFloor(table, features, 0);
+  }
+
+  /**
+   * {@link #readFloor(Dataset, List)} with a Parquet scan cut into splits of {@code splitBytes} (a plan's,
+   * {@code JobPlan.splitBytes()}, as the fit reads it), or Spark's own splits for 0.
+   */
+  static double[] readFloor(Dataset<Row> table, List<String> features, long splitBytes) {
+    FeatureInput input = new FeatureInput(table, features, BLOCK_ROWS, splitBytes);
     JavaRDD<ColumnarBatch> batches = input.columnarBatches();
     if (batches == null) {
       throw new IllegalStateException("the table has no columnar Parquet scan for these " + features.size()

@@ -47,8 +47,7 @@ public final class ColumnarScan {
   static final long BATCH_VALUES = 4L << 20;
   static final long MIN_BATCH_ROWS = 64;
   static final String SPLIT_BYTES_KEY = "spark.sql.files.maxPartitionBytes";
-  /** Bytes of a Parquet split at least, per column read: 256 KiB (see {@link #batches}). */
-  static final long SPLIT_BYTES_PER_COLUMN = 256L << 10;
+  static final String MIN_SPLITS_KEY = "spark.sql.files.minPartitionNum";
 
   private final SparkSession session;
   private final SparkPlan scan;
@@ -128,9 +127,14 @@ public final class ColumnarScan {
     return output.get(ordinal).dataType();
   }
 
+  /** The scan's batches in Spark's own splits ({@link #batches(long)} with 0). */
+  public JavaRDD<ColumnarBatch> batches() {
+    return batches(0);
+  }
+
   /**
-   * The scan's batches, read with two settings adapted to wide scans while the scan builds its reader and its splits
-   * (it takes both then; the session's own settings are restored at once):
+   * The scan's batches, read with settings adapted to wide scans while the scan builds its reader and its splits
+   * (it takes them then; the session's own settings are restored at once, so a caller's session is left as it was):
    *
    * <ul>
    *   <li>Batch rows. Spark's vectorised reader allocates, per task, one vector of
@@ -138,15 +142,16 @@ public final class ColumnarScan {
    *       d = 20,000 that is 655 MB per task, which a 4 GiB executor spends its time collecting (measured: a pass over
    *       10,000 rows took 63 s). For wide scans the batch is cut to at most {@link #BATCH_VALUES} values (never below
    *       {@link #MIN_BATCH_ROWS} rows).
-   *   <li>Split bytes. Every split of a Parquet file decodes the file's whole footer, whose size grows with the
-   *       number of columns: at d = 20,000 about 7 s per split here, 0.35 ms per column, against about 0.8 ms to
-   *       read 256 KiB of a column at the read floor's rate (320 MB/s per core). Splits of Parquet files are therefore made at least {@link #SPLIT_BYTES_PER_COLUMN} bytes per
-   *       column read ({@code spark.sql.files.maxPartitionBytes} raised for the scan), which keeps the footer's share
-   *       of a split at about a quarter or less. Spark still caps a split at the input's bytes per core, so a small
-   *       input keeps one split per core.
+   *   <li>Split bytes. When {@code splitBytes} is positive (the plan's choice for a wide Parquet scan, see
+   *       {@code plan.ScanSplits}), a file scan's splits are at most that size:
+   *       {@code spark.sql.files.maxPartitionBytes} set to it and {@code spark.sql.files.minPartitionNum} to 1, so
+   *       that Spark does not cap it again at the input's bytes per core. Other scans (a cached table, a catalog
+   *       table's reader) make their own splits.
    * </ul>
+   *
+   * @param splitBytes the split size of a file scan, or 0 for Spark's own
    */
-  public JavaRDD<ColumnarBatch> batches() {
+  public JavaRDD<ColumnarBatch> batches(long splitBytes) {
     RuntimeConfig conf = session.conf();
     Map<String, String> wide = new LinkedHashMap<>();
     long askedRows = Long.parseLong(conf.get(BATCH_SIZE_KEY, "4096"));
@@ -154,12 +159,9 @@ public final class ColumnarScan {
     if (fits < askedRows) {
       wide.put(BATCH_SIZE_KEY, Long.toString(fits));
     }
-    if (scan instanceof FileSourceScanExec) {
-      long splitBytes = session.sessionState().conf().filesMaxPartitionBytes();
-      long perColumns = SPLIT_BYTES_PER_COLUMN * output.size();
-      if (perColumns > splitBytes) {
-        wide.put(SPLIT_BYTES_KEY, Long.toString(perColumns));
-      }
+    if (splitBytes > 0 && scan instanceof FileSourceScanExec) {
+      wide.put(SPLIT_BYTES_KEY, Long.toString(splitBytes));
+      wide.put(MIN_SPLITS_KEY, "1");
     }
     Map<String, String> before = new LinkedHashMap<>();
     for (String key : wide.keySet()) {

@@ -30,11 +30,22 @@ public final class FeatureInput {
   private final ColumnarScan columnarScan;
   private final int[] ordinals;
   private final int[] kinds;
+  /** The split size of the columnar file scan ({@link ColumnarScan#batches(long)}); 0: Spark's own. */
+  private final long splitBytes;
   /** The features kept in executor memory by the first pass ({@link KeptBatches}), or null. */
   private JavaRDD<ColumnarBatch> kept;
 
   public FeatureInput(Dataset<Row> table, List<String> features, int blockRows) {
+    this(table, features, blockRows, 0);
+  }
+
+  /**
+   * @param splitBytes the split size of a columnar Parquet scan (the plan's, {@code JobPlan.splitBytes()}), or 0
+   *     for Spark's own splits
+   */
+  public FeatureInput(Dataset<Row> table, List<String> features, int blockRows, long splitBytes) {
     this.table = table;
+    this.splitBytes = splitBytes;
     this.features = List.copyOf(features);
     this.blockRows = blockRows;
     Column[] cols = features.stream().map(functions::col).toArray(Column[]::new);
@@ -55,7 +66,7 @@ public final class FeatureInput {
       throw new IllegalStateException("only a columnar input keeps its batches");
     }
     if (kept == null) {
-      kept = KeptBatches.keep(columnarScan.batches(), ordinals, kinds);
+      kept = KeptBatches.keep(columnarScan.batches(splitBytes), ordinals, kinds);
     }
   }
 
@@ -81,7 +92,7 @@ public final class FeatureInput {
    * has no columnar scan. For the benchmark's read floor.
    */
   public JavaRDD<ColumnarBatch> columnarBatches() {
-    return columnar() ? columnarScan.batches() : null;
+    return columnar() ? columnarScan.batches(splitBytes) : null;
   }
 
   public int[] batchOrdinals() {
@@ -111,7 +122,7 @@ public final class FeatureInput {
       partials = kept.mapPartitions(new PartitionPasses.ColumnarPass<>(spec, KeptBatches.ordinals(d),
           KeptBatches.kinds(d)));
     } else if (columnar()) {
-      JavaRDD<ColumnarBatch> batches = columnarScan.batches();
+      JavaRDD<ColumnarBatch> batches = columnarScan.batches(splitBytes);
       partials = batches.mapPartitions(new PartitionPasses.ColumnarPass<>(spec, ordinals, kinds));
     } else {
       Column[] cast = features.stream().map(f -> functions.col(f).cast("double")).toArray(Column[]::new);
@@ -202,7 +213,7 @@ public final class FeatureInput {
       PartitionPasses.PassSpec<A> spec, KeyColumns keys, ColumnarScan scan, KeyedPasses.Routing routing) {
     if (scan != null) {
       int[] keyOrdinals = scan.ordinals(keys.names());
-      return scan.batches().mapPartitionsWithIndex(
+      return scan.batches(splitBytes).mapPartitionsWithIndex(
           new KeyedPasses.ColumnarKeyed<>(spec, scan.ordinals(features), kinds, keyOrdinals, keys, routing), false);
     }
     List<Column> cols = new ArrayList<>();

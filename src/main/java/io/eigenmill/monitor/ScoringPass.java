@@ -222,6 +222,15 @@ public final class ScoringPass {
    */
   public static Scored apply(Dataset<Row> table, List<String> keys, List<String> partitionColumns, Spec spec,
       Counters counters) {
+    return apply(table, keys, partitionColumns, spec, counters, 0);
+  }
+
+  /**
+   * As above, a columnar Parquet scan cut into splits of {@code splitBytes} (the plan's,
+   * {@code JobPlan.splitBytes()}; 0 for Spark's own splits).
+   */
+  public static Scored apply(Dataset<Row> table, List<String> keys, List<String> partitionColumns, Spec spec,
+      Counters counters, long splitBytes) {
     List<String> passThrough = passThrough(table.schema(), keys, partitionColumns);
     List<Column> raw = new ArrayList<>();
     List<Column> cast = new ArrayList<>();
@@ -278,8 +287,8 @@ public final class ScoringPass {
     boolean columnar = passOrdinals != null && kinds != null && allKnown(kinds);
     JavaRDD<InternalRow> rows;
     if (columnar) {
-      rows = scan.batches().mapPartitions(new ScoreBlocks.ColumnarScoring(spec, layout, counters, passOrdinals,
-          featureOrdinals, kinds));
+      rows = scan.batches(splitBytes).mapPartitions(new ScoreBlocks.ColumnarScoring(spec, layout, counters,
+          passOrdinals, featureOrdinals, kinds));
     } else {
       rows = table.select(cast.toArray(new Column[0])).queryExecution().toRdd().toJavaRDD()
           .mapPartitions(new ScoreBlocks.RowScoring(spec, layout, counters));

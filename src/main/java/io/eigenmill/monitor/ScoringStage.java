@@ -68,7 +68,8 @@ public final class ScoringStage {
     ScoringPass.Limits limits = ScoringPass.Limits.of(model, plan.settings().monitor(), fittedRows);
     ScoringPass.Spec spec = ScoringPass.spec(model, plan.settings(), limits, false);
     ScoringPass.Counters counters = ScoringPass.Counters.register(spark.sparkContext(), "scores", spec, TOP_ROWS);
-    return ScoringPass.apply(table, plan.keys(), plan.partitionColumns(), spec, counters).rows();
+    return ScoringPass.apply(table, plan.keys(), plan.partitionColumns(), spec, counters, plan.splitBytes())
+        .rows();
   }
 
   public Outcome score(Dataset<Row> table, boolean fittedRows) {
@@ -81,7 +82,8 @@ public final class ScoringStage {
     if (!fittedRows) {
       counters = counters.withDrift(spark.sparkContext(), "scores", spec);
     }
-    ScoringPass.Scored scored = ScoringPass.apply(table, plan.keys(), plan.partitionColumns(), spec, counters);
+    ScoringPass.Scored scored = ScoringPass.apply(table, plan.keys(), plan.partitionColumns(), spec, counters,
+        plan.splitBytes());
     LOG.info("score: reading {}", scored.readPath());
     String path = writeScores(scored, counters);
     failOnMissing(counters.dropped().value(), s.prepare().missing());
@@ -130,7 +132,8 @@ public final class ScoringStage {
         keys.add(g);
       }
     }
-    ScoringPass.Scored scored = ScoringPass.apply(table, keys, plan.partitionColumns(), spec, counters);
+    ScoringPass.Scored scored = ScoringPass.apply(table, keys, plan.partitionColumns(), spec, counters,
+        plan.splitBytes());
     LOG.info("score: {} group models, reading {}", models.size(), scored.readPath());
     String path = writeScores(scored, counters);
     failOnMissing(counters.dropped().value(), s.prepare().missing());
@@ -367,7 +370,8 @@ public final class ScoringStage {
     JobSettings s = plan.settings();
     ScoringPass.Spec spec = ScoringPass.spec(model, s, ScoringPass.Limits.none(), true);
     ScoringPass.Counters counters = ScoringPass.Counters.register(spark.sparkContext(), "reconstruction", spec, 1);
-    Dataset<Row> rebuilt = ScoringPass.apply(table, plan.keys(), plan.partitionColumns(), spec, counters).rows();
+    Dataset<Row> rebuilt = ScoringPass.apply(table, plan.keys(), plan.partitionColumns(), spec, counters,
+        plan.splitBytes()).rows();
     try (Progress progress = Progress.start(spark, "reconstruct", counters.scored())) {
       write(rebuilt, out.staged("reconstruction"));
       progress.done(counters.scored().value());

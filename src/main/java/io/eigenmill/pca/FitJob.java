@@ -277,7 +277,7 @@ public final class FitJob {
   }
 
   private FeatureInput open(Dataset<Row> table) {
-    FeatureInput input = new FeatureInput(table, plan.features(), blockRows());
+    FeatureInput input = new FeatureInput(table, plan.features(), blockRows(), plan.splitBytes());
     LOG.info("fit: {} features, method {}, reading {}; {}", plan.d(), plan.method().word(), input.readPath(),
         Linalg.describe());
     return input;

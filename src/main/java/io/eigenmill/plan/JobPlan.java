@@ -17,6 +17,7 @@ import java.util.List;
  * @param selection what {@code input.where} keeps of the input, or null when it is unset (or the input is long)
  * @param longInput the long table and its pivot, or null for a wide input
  * @param tableRead what is read of a catalog table ({@code input.table}), or null for a folder
+ * @param splits how the input's scan is cut into splits and why ({@link ScanSplits}), or null when not planned
  */
 public record JobPlan(
     JobSettings settings,
@@ -37,7 +38,30 @@ public record JobPlan(
     SnapshotPlan snapshots,
     GroupPlan groups,
     LongTable.View longInput,
-    TableRead tableRead) {
+    TableRead tableRead,
+    ScanSplits splits) {
+
+  /** A plan without planned splits (see {@link #withSplits}). */
+  public JobPlan(JobSettings settings, String kind, List<String> features, List<String> featureTypes,
+      List<String> keys, List<String> partitionColumns, long rowEstimate, long inputBytes, Method method,
+      String methodReason, MemoryEstimate memory, List<String> outputs, List<String> notes, List<String> warnings,
+      InputSelection selection, SnapshotPlan snapshots, GroupPlan groups, LongTable.View longInput,
+      TableRead tableRead) {
+    this(settings, kind, features, featureTypes, keys, partitionColumns, rowEstimate, inputBytes, method,
+        methodReason, memory, outputs, notes, warnings, selection, snapshots, groups, longInput, tableRead, null);
+  }
+
+  /** This plan with its input's scan cut as {@code s} says. */
+  public JobPlan withSplits(ScanSplits s) {
+    return new JobPlan(settings, kind, features, featureTypes, keys, partitionColumns, rowEstimate, inputBytes,
+        method, methodReason, memory, outputs, notes, warnings, selection, snapshots, groups, longInput, tableRead,
+        s);
+  }
+
+  /** The split size the engine applies to the input's scan ({@link ScanSplits#applied}); 0: Spark's own. */
+  public long splitBytes() {
+    return splits == null ? 0 : splits.applied();
+  }
 
   /** A plan of a folder input (or a table's before its facts are added, {@link #withTableRead}). */
   public JobPlan(JobSettings settings, String kind, List<String> features, List<String> featureTypes,
@@ -51,7 +75,8 @@ public record JobPlan(
   /** This plan reading the catalog table described by {@code read}. */
   public JobPlan withTableRead(TableRead read) {
     return new JobPlan(settings, kind, features, featureTypes, keys, partitionColumns, rowEstimate, inputBytes,
-        method, methodReason, memory, outputs, notes, warnings, selection, snapshots, groups, longInput, read);
+        method, methodReason, memory, outputs, notes, warnings, selection, snapshots, groups, longInput, read,
+        splits);
   }
 
   /** A plan of a wide input. */
@@ -69,7 +94,7 @@ public record JobPlan(
    */
   public JobPlan withLongInput(LongTable.View view) {
     return new JobPlan(settings, kind, features, featureTypes, keys, view.carried(), rowEstimate, inputBytes,
-        method, methodReason, memory, outputs, notes, warnings, selection, snapshots, groups, view);
+        method, methodReason, memory, outputs, notes, warnings, selection, snapshots, groups, view, null, splits);
   }
 
   /** A plan without groups. */
@@ -147,6 +172,9 @@ public record JobPlan(
       for (String[] l : groups.describe()) {
         line(s, l[0], l[1]);
       }
+    }
+    if (splits != null) {
+      line(s, "splits", splits.line());
     }
     line(s, "features (" + features.size() + ")", describeFeatures());
     line(s, "keys", keys.isEmpty() ? "(none)" : String.join(", ", keys));

@@ -21,6 +21,7 @@ import java.util.regex.Pattern;
 import org.apache.hadoop.conf.Configuration;
 import org.apache.hadoop.fs.Path;
 import org.apache.parquet.hadoop.ParquetFileReader;
+import org.apache.parquet.hadoop.metadata.BlockMetaData;
 import org.apache.parquet.hadoop.util.HadoopInputFile;
 import org.apache.spark.network.util.JavaUtils;
 import org.apache.spark.sql.Dataset;
@@ -113,7 +114,8 @@ public final class Planner {
     }
     return new JobPlan(plan.settings(), plan.kind(), features, types, plan.keys(), plan.partitionColumns(),
         staged.view().pivoted().rows(), plan.inputBytes(), plan.method(), plan.methodReason(), plan.memory(),
-        plan.outputs(), plan.notes(), warnings, plan.selection(), plan.snapshots(), plan.groups(), staged.view());
+        plan.outputs(), plan.notes(), warnings, plan.selection(), plan.snapshots(), plan.groups(), staged.view())
+        .withSplits(plan.splits());
   }
 
   /**
@@ -182,7 +184,7 @@ public final class Planner {
         plan.partitionColumns(), plan.rowEstimate(), plan.inputBytes(), plan.method(), "apply: one saved model per"
             + " value of " + String.join(", ", groups.columns()) + " (" + groups.models().size() + " groups)",
         plan.memory(), plan.outputs(), plan.notes(), plan.warnings(), plan.selection(), null, null,
-        plan.longInput());
+        plan.longInput()).withSplits(plan.splits());
   }
 
   /**
@@ -239,11 +241,12 @@ public final class Planner {
         * (2L * d + model.k()), driverHeap, taskHeap, "block of " + blockRows + " x " + d);
     List<String> partitionColumns = partitionColumns(spark, table, settings);
     InputSelection selection = selection(table, kept, settings, model.features(), partitionColumns);
+    Footers footers = footers(spark, kept, selection, settings);
     return new JobPlan(settings, "apply", model.features(), model.featureTypes(), keys, partitionColumns,
-        rowEstimate(spark, kept, selection, settings), TableLoader.sizeBytes(spark, settings.input().path()),
+        footers == null ? -1 : footers.rows(), TableLoader.sizeBytes(spark, settings.input().path()),
         model.method(), "apply: the saved model (" + model.method().word() + ", k = " + model.k() + ", fitted on "
             + String.format(Locale.ROOT, "%,d", model.rows()) + " rows)", memory, outputs(settings), List.of(),
-        settings.warnings(), selection);
+        settings.warnings(), selection).withSplits(splits(spark, settings, d + keys.size(), footers));
   }
 
   /**
@@ -284,9 +287,10 @@ public final class Planner {
     String kind = settings.apply().appliesModel() ? "apply" : "fit";
     InputSelection selection = selection(table, kept, settings, names, partitionColumns);
     TableRead tableRead = settings.input().fromTable() ? TableRead.of(spark, settings.input(), kept, names) : null;
-    long rows = tableRead == null ? rowEstimate(spark, kept, selection, settings)
-        : tableRead.rows() >= 0 ? (settings.input().filtered() ? -1 : tableRead.rows())
-        : rowEstimate(spark, kept, selection, settings);
+    Footers footers = tableRead != null && tableRead.rows() >= 0 ? null
+        : footers(spark, kept, selection, settings);
+    long rows = tableRead == null || tableRead.rows() < 0 ? (footers == null ? -1 : footers.rows())
+        : settings.input().filtered() ? -1 : tableRead.rows();
     var keep = KeptPasses.of(spark, settings, choice.method(), d, rows,
         settings.input().format() == InputFormat.PARQUET);
     if (keep != null) {
@@ -295,7 +299,7 @@ public final class Planner {
     JobPlan plan = new JobPlan(settings, kind, names, types, keys, partitionColumns,
         rows, TableLoader.sizeBytes(spark, settings.input().path()),
         choice.method(), choice.reason(), choice.memory(), outputs(settings), notes, warnings, selection, snapshots,
-        groups);
+        groups).withSplits(splits(spark, settings, d, footers));
     return tableRead == null ? plan : plan.withTableRead(tableRead);
   }
 
@@ -506,27 +510,82 @@ public final class Planner {
     return TableLoader.partitionColumns(table, settings.input());
   }
 
-  /** Rows in the footers of the files the scan reads (those {@code input.where} keeps), or -1 when not cheap. */
-  private static long rowEstimate(SparkSession spark, Dataset<Row> table, InputSelection selection,
+  /**
+   * What the footers of the files the scan reads (those {@code input.where} keeps) say: their rows, and each file's
+   * length and row groups for the scan's splits ({@link ScanSplits}). Null when not cheap (more than
+   * {@link #FOOTER_LIMIT} files, not Parquet) or when a footer cannot be read. Each footer is opened once.
+   */
+  private static Footers footers(SparkSession spark, Dataset<Row> table, InputSelection selection,
       JobSettings settings) {
     if (settings.input().format() != InputFormat.PARQUET) {
-      return -1;
+      return null;
     }
     String[] files = selection != null ? selection.files().toArray(String[]::new) : table.inputFiles();
     if (files.length > FOOTER_LIMIT
         || files.length == 0 && (settings.input().isLong() || settings.input().fromTable())) {
-      return -1;
+      return null;
     }
     Configuration conf = spark.sparkContext().hadoopConfiguration();
     long rows = 0;
+    List<ScanSplits.FileLayout> layouts = new ArrayList<>();
     for (String file : files) {
-      try (ParquetFileReader reader = ParquetFileReader.open(HadoopInputFile.fromPath(new Path(file), conf))) {
-        rows += reader.getRecordCount();
+      try {
+        HadoopInputFile in = HadoopInputFile.fromPath(new Path(file), conf);
+        try (ParquetFileReader reader = ParquetFileReader.open(in)) {
+          List<BlockMetaData> groups = reader.getFooter().getBlocks();
+          long[] starts = new long[groups.size()];
+          long[] bytes = new long[groups.size()];
+          for (int g = 0; g < starts.length; g++) {
+            starts[g] = groups.get(g).getStartingPos();
+            bytes[g] = groups.get(g).getCompressedSize();
+            rows += groups.get(g).getRowCount();
+          }
+          layouts.add(new ScanSplits.FileLayout(in.getLength(), starts, bytes));
+        }
       } catch (Exception e) {
-        return -1;
+        return null;
       }
     }
-    return rows;
+    return new Footers(rows, layouts);
+  }
+
+  /** The rows of the files a scan reads and their layouts, from their footers. */
+  private record Footers(long rows, List<ScanSplits.FileLayout> files) {}
+
+  /** The splits of the scan of {@code columns} columns over the files {@code footers} describes. */
+  private static ScanSplits splits(SparkSession spark, JobSettings settings, int columns, Footers footers) {
+    if (settings.input().fromTable()) {
+      return ScanSplits.unplanned(columns, "a catalog table's reader makes its own splits");
+    }
+    if (settings.input().isLong()) {
+      return ScanSplits.unplanned(columns, "the pivoted rows are written once and read back as Spark splits them");
+    }
+    if (settings.input().format() != InputFormat.PARQUET) {
+      return ScanSplits.unplanned(columns, "not a Parquet input");
+    }
+    if (footers == null) {
+      return ScanSplits.unplanned(columns, "the footers were not read: more than " + FOOTER_LIMIT
+          + " files, or one could not be read");
+    }
+    return ScanSplits.of(columns, footers.files(), slots(spark), splitConf(spark));
+  }
+
+  /** Tasks that run at once: Spark's default parallelism for a scan ({@code leafNodeDefaultParallelism}). */
+  static int slots(SparkSession spark) {
+    // optional settings: a default of "" would be checked against the setting's type, so getOption
+    scala.Option<String> leaf = spark.conf().getOption("spark.sql.leafNodeDefaultParallelism");
+    return leaf.isEmpty() ? spark.sparkContext().defaultParallelism() : Integer.parseInt(leaf.get().strip());
+  }
+
+  /** Spark's settings for the splits of a file scan, as the session holds them now. */
+  static ScanSplits.SparkSplitConf splitConf(SparkSession spark) {
+    var conf = spark.conf();
+    long maxBytes = JavaUtils.byteStringAsBytes(conf.get("spark.sql.files.maxPartitionBytes", "128m"));
+    long openCost = JavaUtils.byteStringAsBytes(conf.get("spark.sql.files.openCostInBytes", "4m"));
+    scala.Option<String> min = conf.getOption("spark.sql.files.minPartitionNum");
+    scala.Option<String> max = conf.getOption("spark.sql.files.maxPartitionNum");
+    return new ScanSplits.SparkSplitConf(maxBytes, openCost, min.isEmpty() ? slots(spark)
+        : Integer.parseInt(min.get().strip()), max.isEmpty() ? 0 : Integer.parseInt(max.get().strip()));
   }
 
   static List<String> outputs(JobSettings s) {

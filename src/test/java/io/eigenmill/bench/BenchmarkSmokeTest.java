@@ -180,18 +180,22 @@ class BenchmarkSmokeTest extends SparkSuite {
   @Test
   void wideCasesReportHeapAndLargestAllocation() {
     BenchOptions o = options();
-    List<WideResult> wide = WideRun.run(spark, o, List.of(new WideCase(30, "covariance"),
-        new WideCase(60, "randomized")), 30_000);
+    List<WideResult> wide = WideRun.run(spark, o, List.of(new WideCase(30, "covariance", 30_000),
+        new WideCase(60, "randomized", 30_000)), 1);
     assertEquals(2, wide.size());
     for (WideResult w : wide) {
       assertEquals(30_000 / w.which().d(), w.table().rows(), "rows of the wide table");
+      assertTrue(w.floor().min() > 0, "read floor timed");
+      assertEquals(w.timing().repetitions(), w.floor().repetitions(), "fit and floor timed in turn");
       assertTrue(w.timing().min() > 0, "time");
       assertTrue(w.peakHeapBytes() > 0 && w.peakHeapBytes() <= w.maxHeapBytes(), "peak heap " + w.peakHeapBytes());
       assertEquals(8L * w.which().d() * w.which().d(), w.squareBytes());
       assertTrue(w.columnar(), "the fit read columnar batches");
     }
     String md = WideRun.render(wide, List.of());
-    assertEquals(2, md.lines().filter(l -> l.startsWith("| 30 |") || l.startsWith("| 60 |")).count(), md);
+    // each case in the heap table and in the table against the read floor
+    assertEquals(4, md.lines().filter(l -> l.startsWith("| 30 |") || l.startsWith("| 60 |")).count(), md);
+    assertTrue(md.contains("d = 60 randomized: fit / (" + wide.get(1).passes() + " passes x read floor)"), md);
   }
 
   @Test

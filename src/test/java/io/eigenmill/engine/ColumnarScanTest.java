@@ -22,14 +22,16 @@ import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
 
 /**
- * The columnar scan's settings for wide reads: splits of a Parquet file hold at least 256 KiB per column read, so
- * that a wide file is not cut into many splits that each decode its whole footer. Checked against Spark's own split
- * count for the same file (a plain {@code executeColumnar()} of the same plan) and by counting the rows read.
+ * The columnar scan's split size for wide reads: {@code batches(splitBytes)} makes a file scan's splits that size
+ * (the plan's choice, {@code plan.ScanSplits}), also above Spark's cap of the input's bytes per core, and
+ * {@code batches()} keeps Spark's own splits. Checked against Spark's own split count for the same file (a plain
+ * {@code executeColumnar()} of the same plan) and by counting the rows read; the session's settings are restored.
  */
 class ColumnarScanTest extends SparkSuite {
   private static final int ROWS = 20_000;
   private static final int COLUMNS = 60;
   private static final String SPLIT = ColumnarScan.SPLIT_BYTES_KEY;
+  private static final String MIN_SPLITS = ColumnarScan.MIN_SPLITS_KEY;
   private static Path dir;
 
   @BeforeAll
@@ -50,26 +52,24 @@ class ColumnarScanTest extends SparkSuite {
   }
 
   @Test
-  void wideScansReadFewerLargerSplitsAndEveryRow() {
+  void aGivenSplitSizeHoldsAndSparksOwnSplitsStayTheDefault() {
     spark.conf().set(SPLIT, "1m");
     try {
       // a scan builds its splits once: Spark's count from one plan, ours from another plan of the same read
       int plain = splitsOf(spark.read().parquet(dir.resolve("t").toString()));
-      Dataset<Row> wide = spark.read().parquet(dir.resolve("t").toString());
       assertTrue(plain >= 5, "1 MB splits cut the file into several: " + plain);
-      ColumnarScan scan = ColumnarScan.of(wide);
+      ColumnarScan scan = ColumnarScan.of(spark.read().parquet(dir.resolve("t").toString()));
       assertNotNull(scan);
-      JavaRDD<ColumnarBatch> batches = scan.batches();
-      // 60 columns x 256 KiB = 15 MB per split at least; Spark caps it at the bytes per core (2 cores here)
-      assertTrue(batches.getNumPartitions() <= 2, "splits of the wide scan: " + batches.getNumPartitions());
+      // 16 MiB holds the 9.6 MB file; Spark alone would cap a split at (9.6 MB + 4 MiB open cost) / 2 cores
+      JavaRDD<ColumnarBatch> batches = scan.batches(16L << 20);
+      assertEquals(1, batches.getNumPartitions(), "one split of the given size");
       assertEquals(ROWS, rows(batches), "every row read once");
       assertEquals("1m", spark.conf().get(SPLIT), "the session's setting is restored");
+      assertFalse(spark.conf().contains(MIN_SPLITS), "the session's unset setting stays unset");
 
-      int narrowPlain = splitsOf(spark.read().parquet(dir.resolve("t").toString()).select("c0", "c1"));
-      Dataset<Row> narrow = spark.read().parquet(dir.resolve("t").toString()).select("c0", "c1");
-      JavaRDD<ColumnarBatch> narrowBatches = ColumnarScan.of(narrow).batches();
-      assertEquals(narrowPlain, narrowBatches.getNumPartitions(), "2 x 256 KiB is below 1 MB: Spark's own splits");
-      assertEquals(ROWS, rows(narrowBatches));
+      JavaRDD<ColumnarBatch> own = ColumnarScan.of(spark.read().parquet(dir.resolve("t").toString())).batches();
+      assertEquals(plain, own.getNumPartitions(), "no size given: Spark's own splits");
+      assertEquals(ROWS, rows(own));
     } finally {
       spark.conf().unset(SPLIT);
     }

@@ -8,6 +8,7 @@ import io.eigenmill.record.RunResult;
 import io.eigenmill.run.JobRunner;
 import io.eigenmill.testing.JobFiles;
 import io.eigenmill.testing.SparkSuite;
+import io.eigenmill.testing.WideTables;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
@@ -16,7 +17,6 @@ import java.util.SplittableRandom;
 import org.apache.commons.math3.stat.descriptive.moment.Variance;
 import org.apache.spark.sql.Row;
 import org.apache.spark.sql.RowFactory;
-import org.apache.spark.sql.types.DataTypes;
 import org.apache.spark.sql.types.StructType;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
@@ -34,10 +34,7 @@ class WideBlockTest extends SparkSuite {
 
   @BeforeAll
   static void write() throws Exception {
-    StructType schema = new StructType().add("host", DataTypes.StringType);
-    for (int j = 0; j < D; j++) {
-      schema = schema.add("m" + j, DataTypes.DoubleType);
-    }
+    StructType schema = WideTables.hostAndFeatures(D);
     SplittableRandom r = new SplittableRandom(20261204);
     columns = new double[D][ROWS];
     List<Row> data = new ArrayList<>();
