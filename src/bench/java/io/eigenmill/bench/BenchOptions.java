@@ -26,10 +26,12 @@ import java.util.Set;
  * @param command the command as typed, for the results file
  * @param tables only the table-input case: the covariance fit from an Iceberg copy of the main table against the
  *     fit from its Parquet folder ({@link TableRun})
+ * @param groupsInTurn with {@code groups}: only the cases timed in turn (one model, 10 and 1,000 groups), without
+ *     the separate filtered fits and the 10,000 groups, which run once each and take most of the run's time
  */
 public record BenchOptions(long rows, int features, int cores, int reps, Path data, List<BenchCase> cases,
     boolean casesGiven, boolean scaling, boolean wide, boolean windows, boolean groups, boolean longInput,
-    boolean smoke, Path out, String command, boolean tables) {
+    boolean smoke, Path out, String command, boolean tables, boolean groupsInTurn) {
 
   public static final long DEFAULT_ROWS = 2_000_000L;
   public static final int DEFAULT_FEATURES = 100;
@@ -58,6 +60,7 @@ public record BenchOptions(long rows, int features, int cores, int reps, Path da
       "  --groups      only the groups cases on the main table copied with group columns g10, g1000, g10000: one",
       "                model against reduce.group-by with 10 and 1,000 groups, 10 separate filtered fits (input.where),",
       "                and 10,000 groups once with its peak heap; fit step and whole job",
+      "  --groups-in-turn  the groups cases timed in turn only (one model, 10 and 1,000 groups)",
       "  --long        only the long-input case: the main table at 500000 rows (unless --rows) written long, one",
       "                row per (host, ts, metric, value), 50 million rows at d = 100; our long fit (input.layout =",
       "                long, 5-minute buckets, mean) against Spark's groupBy(host, bucket).pivot(metric, names)",
@@ -90,6 +93,7 @@ public record BenchOptions(long rows, int features, int cores, int reps, Path da
     boolean wide = false;
     boolean windows = false;
     boolean groups = false;
+    boolean groupsInTurn = false;
     boolean longInput = false;
     boolean smoke = false;
     boolean tables = false;
@@ -110,6 +114,10 @@ public record BenchOptions(long rows, int features, int cores, int reps, Path da
         case "--wide" -> wide = true;
         case "--windows" -> windows = true;
         case "--groups" -> groups = true;
+        case "--groups-in-turn" -> {
+          groups = true;
+          groupsInTurn = true;
+        }
         case "--long" -> longInput = true;
         case "--smoke" -> smoke = true;
         case "--tables" -> tables = true;
@@ -136,7 +144,7 @@ public record BenchOptions(long rows, int features, int cores, int reps, Path da
       throw new IllegalArgumentException("--features " + d + ": at least 11 (the fits keep k = 10 components)");
     }
     return new BenchOptions(n, d, cores, reps, data, new ArrayList<>(cases), casesGiven, scaling, wide, windows,
-        groups, longInput, smoke, out, command(args), tables);
+        groups, longInput, smoke, out, command(args), tables, groupsInTurn);
   }
 
   private static Set<BenchCase> casesOf(String list) {

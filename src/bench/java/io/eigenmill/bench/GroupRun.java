@@ -120,9 +120,11 @@ final class GroupRun {
     try (StageLog log = StageLog.start(spark.sparkContext())) {
       FitResult grouped10 = inTurn(spark, options, table, work, log, out);
       String rowCheck = checkRows(spark, table, grouped10);
-      separate(spark, table, work, log, out, grouped10);
-      tenThousand(spark, table, work, log, out, () -> checkpoint.accept(new GroupResult(table.path(), spec,
-          generated, base, partitions, new EnumMap<>(out), rowCheck, ratios(out))));
+      if (!options.groupsInTurn()) {
+        separate(spark, table, work, log, out, grouped10);
+        tenThousand(spark, table, work, log, out, () -> checkpoint.accept(new GroupResult(table.path(), spec,
+            generated, base, partitions, new EnumMap<>(out), rowCheck, ratios(out))));
+      }
       GroupResult done = new GroupResult(table.path(), spec, generated, base, partitions, out, rowCheck,
           ratios(out));
       checkpoint.accept(done);
@@ -319,11 +321,15 @@ final class GroupRun {
       out.add(ratio(cases, Case.SEPARATE, Case.G10, m, tag, Ratio.Target.atLeast(5)));
       out.add(ratio(cases, Case.G10000, Case.SINGLE, m, tag, null));
     }
+    out.removeIf(java.util.Objects::isNull);
     return out;
   }
 
   private static Ratio ratio(Map<Case, CaseResult> cases, Case top, Case bottom, Measure m, String tag,
       Ratio.Target target) {
+    if (!cases.containsKey(top) || !cases.containsKey(bottom)) {
+      return null;
+    }
     return new Ratio(top.word + " / " + bottom.word + tag, cases.get(top).median(m) / cases.get(bottom).median(m),
         target);
   }
