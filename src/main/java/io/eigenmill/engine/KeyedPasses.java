@@ -173,10 +173,12 @@ public final class KeyedPasses {
         int rows = batch.numRows();
         int at = 0;
         while (at < rows) {
-          if (scratch.room() == 0) {
+          // rows held back at most: about 32 a key met so far (at least a batch), within the scratch
+          int limit = Math.min(scratch.capacity(), Math.max(4096, 32 * coder.count()));
+          if (scratch.rows() >= limit) {
             scratch.drain(codes, order, coder.count(), router);
           }
-          int t = Math.min(rows - at, scratch.room());
+          int t = Math.min(rows - at, limit - scratch.rows());
           int base = scratch.rows();
           boolean uniform = true;
           for (int r = 0; r < t; r++) {
@@ -203,14 +205,16 @@ public final class KeyedPasses {
   }
 
   /** Bytes of decoded rows a task holds back before ordering them by key (see {@link BatchScratch}). */
-  static final long SCRATCH_BYTES = 16L << 20;
+  public static final long SCRATCH_BYTES = 16L << 20;
 
   /**
    * Rows of a task's scratch at d features: {@link #SCRATCH_BYTES} of doubles, at least one batch of the Parquet
    * reader (4,096 rows) and at most 32,768 rows. With g keys mixed in every batch each key gets about rows / g rows
    * a drain: 20,971 rows at d = 100 give a key of 1,000 about 21 contiguous values per column, where a batch gave 4.
+   * A task holds back about 32 rows per key it has met (at least 4,096): few keys drain every batch, as before, from a
+   * scratch that stays in cache.
    */
-  static int scratchRows(int d) {
+  public static int scratchRows(int d) {
     return (int) Math.max(4096, Math.min(32_768, SCRATCH_BYTES / (8L * Math.max(1, d))));
   }
 
@@ -247,10 +251,6 @@ public final class KeyedPasses {
 
     int rows() {
       return rows;
-    }
-
-    int room() {
-      return capacity - rows;
     }
 
     /** Decodes rows {@code start .. start + count - 1} of the batch's feature vectors after the rows held. */
@@ -307,15 +307,7 @@ public final class KeyedPasses {
             double[] origin = block.origin();
             double o = origin == null ? 0.0 : origin[j];
             int off = j * block.ld() + block.base();
-            int first = from[c];
-            int t = take[c];
-            for (int i = 0; i < t; i++) {
-              double x = values[src + order[first + i]];
-              dst[off + i] = x - o;
-              if (x != x) {
-                block.markMissing(i, j);
-              }
-            }
+            gatherColumn(values, src, order, from[c], take[c], dst, off, o, block, j);
           }
         }
         for (int a = 0; a < n; a++) {
@@ -325,6 +317,22 @@ public final class KeyedPasses {
         }
       }
       rows = 0;
+    }
+
+    /**
+     * Rows {@code order[first .. first + t - 1]} of the scratch column at {@code src} into {@code dst} from
+     * {@code off}, minus {@code o}; a missing cell (NaN) marked in {@code block} at (i, j). A method of its own, called
+     * once per key and column, so that the JIT compiles its loop as a whole method.
+     */
+    private static void gatherColumn(double[] values, int src, int[] order, int first, int t, double[] dst, int off,
+        double o, ColumnBlock block, int j) {
+      for (int i = 0; i < t; i++) {
+        double x = values[src + order[first + i]];
+        dst[off + i] = x - o;
+        if (x != x) {
+          block.markMissing(i, j);
+        }
+      }
     }
 
     @Override public double[] block() {

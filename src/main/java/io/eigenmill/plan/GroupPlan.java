@@ -1,6 +1,7 @@
 package io.eigenmill.plan;
 
 import io.eigenmill.engine.KeyColumns;
+import io.eigenmill.engine.KeyedPasses;
 import java.util.List;
 import java.util.Locale;
 
@@ -35,13 +36,15 @@ public record GroupPlan(KeyColumns by, long minRows, long summaryBytes, long blo
     return (double) groups * Math.max(1, partitions) * summaryBytes <= driverBudget;
   }
 
-  List<String[]> describe() {
+  List<String[]> describe(int d) {
     long perDriver = driverBudget / Math.max(1, summaryBytes);
     return List.<String[]>of(new String[] {"groups", String.format(Locale.ROOT, "one model per value of %s (groups"
         + " with fewer than %,d usable rows get none); a group's summary takes %s: merged and solved on the driver"
         + " while partitions x groups <= %,d (%s), on the executors beyond; a task gives full blocks (%s each) to"
-        + " the first %,d groups it meets, smaller ones to the rest", String.join(", ", by.names()), minRows,
+        + " the first %,d groups it meets, smaller ones to the rest, and holds up to %,d decoded rows of mixed"
+        + " groups (%s) before handing each group its rows", String.join(", ", by.names()), minRows,
         MemoryEstimate.human(summaryBytes), perDriver, MemoryEstimate.human(driverBudget),
-        MemoryEstimate.human(blockBytes), fullKeys())});
+        MemoryEstimate.human(blockBytes), fullKeys(), KeyedPasses.scratchRows(d),
+        MemoryEstimate.human(8L * d * KeyedPasses.scratchRows(d)))});
   }
 }

@@ -169,7 +169,7 @@ public record JobPlan(
       }
     }
     if (groups != null) {
-      for (String[] l : groups.describe()) {
+      for (String[] l : groups.describe(d())) {
         line(s, l[0], l[1]);
       }
     }
