@@ -234,7 +234,8 @@ public final class KeyedPasses {
   static final class BatchScratch implements BlockSink {
     private final int d;
     private final int capacity;
-    private final double[] values;
+    /** Allocated when rows are first held back (a pass whose batches each have one key never needs it). */
+    private double[] values;
     private int rows;
     /** Row of the scratch where the slice being appended starts. */
     private int base;
@@ -242,7 +243,6 @@ public final class KeyedPasses {
     BatchScratch(int d, int capacity) {
       this.d = d;
       this.capacity = capacity;
-      this.values = new double[d * capacity];
     }
 
     int capacity() {
@@ -255,6 +255,9 @@ public final class KeyedPasses {
 
     /** Decodes rows {@code start .. start + count - 1} of the batch's feature vectors after the rows held. */
     void append(ColumnVector[] vectors, int[] kinds, int start, int count) {
+      if (values == null) {
+        values = new double[d * capacity];
+      }
       base = rows;
       for (int j = 0; j < d; j++) {
         PartitionPasses.copyColumn(vectors[j], kinds[j], start, count, this, j);
