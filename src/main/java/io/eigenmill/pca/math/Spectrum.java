@@ -72,15 +72,12 @@ public record Spectrum(int d, double[] eigenvalues, double[] loadings, double to
     return new Spectrum(d, values, vectors, trace);
   }
 
-  /** From a sample covariance (or correlation) matrix: full eigen-decomposition, sign-normalised. */
+  /**
+   * From a sample covariance (or correlation) matrix: every eigenvalue and every component's loadings,
+   * sign-normalised; the same route as {@link #ofCovarianceKept} with all d components kept.
+   */
   public static Spectrum ofCovariance(double[] covariance, int d) {
-    SymmetricEigen.Result e = SymmetricEigen.decompose(covariance, d);
-    double trace = 0;
-    for (int j = 0; j < d; j++) {
-      trace += covariance[j + j * d];
-    }
-    SignConvention.apply(e.vectors(), d, d);
-    return new Spectrum(d, e.values(), e.vectors(), trace);
+    return ofCovarianceKept(covariance, d, s -> d);
   }
 
   /**
