@@ -5,6 +5,7 @@ import java.util.HashMap;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
+import java.util.function.Supplier;
 import org.apache.spark.api.java.JavaRDD;
 import org.apache.spark.sql.Dataset;
 import org.apache.spark.sql.Row;
@@ -12,6 +13,7 @@ import org.apache.spark.sql.RuntimeConfig;
 import org.apache.spark.sql.SparkSession;
 import org.apache.spark.sql.catalyst.expressions.Attribute;
 import org.apache.spark.sql.catalyst.expressions.NamedExpression;
+import org.apache.spark.sql.catalyst.plans.logical.LogicalPlan;
 import org.apache.spark.sql.execution.ColumnarToRowExec;
 import org.apache.spark.sql.execution.FileSourceScanExec;
 import org.apache.spark.sql.execution.InputAdapter;
@@ -48,6 +50,11 @@ public final class ColumnarScan {
   static final long MIN_BATCH_ROWS = 64;
   static final String SPLIT_BYTES_KEY = "spark.sql.files.maxPartitionBytes";
   static final String MIN_SPLITS_KEY = "spark.sql.files.minPartitionNum";
+  /**
+   * Spark's vectorised Parquet reader serves batches only to a scan of at most this many fields (data and partition
+   * columns; Spark's default 100), a limit meant for whole-stage code generation over rows.
+   */
+  static final String MAX_FIELDS_KEY = "spark.sql.codegen.maxFields";
 
   private final SparkSession session;
   private final SparkPlan scan;
@@ -65,9 +72,18 @@ public final class ColumnarScan {
     }
   }
 
-  /** The columnar scan under {@code selection}, or null when its executed plan is anything else. */
+  /**
+   * The columnar scan under {@code selection}, or null when its executed plan is anything else.
+   *
+   * <p>Spark serves a Parquet scan as batches only when it reads at most {@code spark.sql.codegen.maxFields} fields
+   * (default 100: a table of 100 metrics and a few keys is over it). That limit guards the code generated over rows,
+   * which a columnar reader here never runs, so the selection is planned with the limit raised to the fields its
+   * relations hold ({@link #planWithFields}; the session's own setting is restored at once) and {@link #batches}
+   * raises it again while the scan builds its reader. {@code selection} should be a fresh selection: a plan Spark
+   * has already made is kept as it was made.
+   */
   public static ColumnarScan of(Dataset<Row> selection) {
-    SparkPlan node = selection.queryExecution().executedPlan();
+    SparkPlan node = planWithFields(selection);
     while (true) {
       if (node instanceof AdaptiveSparkPlanExec) {
         // adaptive execution wraps plans over cached tables; without an exchange below (none of the nodes that
@@ -85,6 +101,50 @@ public final class ColumnarScan {
         return null;
       }
       node = node.children().head();
+    }
+  }
+
+  /**
+   * The executed plan of {@code selection}, made with {@code spark.sql.codegen.maxFields} at least the number of
+   * columns its relations output (an upper bound of the fields its scan reads, partition columns included).
+   */
+  private static SparkPlan planWithFields(Dataset<Row> selection) {
+    long fields = 0;
+    scala.collection.Iterator<LogicalPlan> leaves = selection.queryExecution().analyzed().collectLeaves().iterator();
+    while (leaves.hasNext()) {
+      fields += leaves.next().output().size();
+    }
+    return withSettings(selection.sparkSession().conf(), raisedFields(selection.sparkSession().conf(), fields),
+        () -> selection.queryExecution().executedPlan());
+  }
+
+  /** {@link #MAX_FIELDS_KEY} raised to {@code fields} when the session's value is lower; else nothing. */
+  private static Map<String, String> raisedFields(RuntimeConfig conf, long fields) {
+    Map<String, String> raised = new LinkedHashMap<>();
+    String current = conf.get(MAX_FIELDS_KEY, "100");
+    if (fields > Long.parseLong(current.strip())) {
+      raised.put(MAX_FIELDS_KEY, Long.toString(fields));
+    }
+    return raised;
+  }
+
+  /** Runs {@code body} with {@code settings} set in the session, then restores the session's own values. */
+  private static <T> T withSettings(RuntimeConfig conf, Map<String, String> settings, Supplier<T> body) {
+    Map<String, String> before = new LinkedHashMap<>();
+    for (String key : settings.keySet()) {
+      before.put(key, conf.contains(key) ? conf.get(key) : null);
+      conf.set(key, settings.get(key));
+    }
+    try {
+      return body.get();
+    } finally {
+      before.forEach((key, value) -> {
+        if (value != null) {
+          conf.set(key, value);
+        } else {
+          conf.unset(key);
+        }
+      });
     }
   }
 
@@ -147,6 +207,7 @@ public final class ColumnarScan {
    *       {@code spark.sql.files.maxPartitionBytes} set to it and {@code spark.sql.files.minPartitionNum} to 1, so
    *       that Spark does not cap it again at the input's bytes per core. Other scans (a cached table, a catalog
    *       table's reader) make their own splits.
+   *   <li>Fields. {@code spark.sql.codegen.maxFields} at least the scan's columns (see {@link #of}).
    * </ul>
    *
    * @param splitBytes the split size of a file scan, or 0 for Spark's own
@@ -163,21 +224,8 @@ public final class ColumnarScan {
       wide.put(SPLIT_BYTES_KEY, Long.toString(splitBytes));
       wide.put(MIN_SPLITS_KEY, "1");
     }
-    Map<String, String> before = new LinkedHashMap<>();
-    for (String key : wide.keySet()) {
-      before.put(key, conf.contains(key) ? conf.get(key) : null);
-      conf.set(key, wide.get(key));
-    }
-    try {
-      return scan.executeColumnar().toJavaRDD();
-    } finally {
-      before.forEach((key, value) -> {
-        if (value != null) {
-          conf.set(key, value);
-        } else {
-          conf.unset(key);
-        }
-      });
-    }
+    // the reader checks again that it may serve batches for this many fields (see of)
+    wide.putAll(raisedFields(conf, output.size()));
+    return withSettings(conf, wide, () -> scan.executeColumnar().toJavaRDD());
   }
 }

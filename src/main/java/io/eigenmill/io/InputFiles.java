@@ -19,8 +19,6 @@ import org.apache.hadoop.fs.FileSystem;
 import org.apache.hadoop.fs.LocatedFileStatus;
 import org.apache.hadoop.fs.Path;
 import org.apache.hadoop.fs.RemoteIterator;
-import org.apache.parquet.hadoop.ParquetFileReader;
-import org.apache.parquet.hadoop.util.HadoopInputFile;
 import org.apache.spark.sql.SparkSession;
 
 /**
@@ -105,7 +103,7 @@ public final class InputFiles {
 
   /** Lists the Parquet files under {@code path} and reads every footer; never throws for an unreadable file. */
   public static Check scan(Configuration conf, String path) {
-    List<Path> files = list(conf, path);
+    List<FileStatus> files = statuses(conf, path);
     List<String> readable = new ArrayList<>();
     List<Unreadable> unreadable = new ArrayList<>();
     ExecutorService pool = Executors.newFixedThreadPool(Math.max(1, Math.min(THREADS, files.size())), r -> {
@@ -115,15 +113,15 @@ public final class InputFiles {
     });
     try {
       List<Future<String>> reasons = new ArrayList<>();
-      for (Path file : files) {
+      for (FileStatus file : files) {
         reasons.add(pool.submit(() -> footerProblem(conf, file)));
       }
       for (int i = 0; i < files.size(); i++) {
         String reason = reasons.get(i).get();
         if (reason == null) {
-          readable.add(files.get(i).toString());
+          readable.add(files.get(i).getPath().toString());
         } else {
-          unreadable.add(new Unreadable(files.get(i).toString(), reason));
+          unreadable.add(new Unreadable(files.get(i).getPath().toString(), reason));
         }
       }
     } catch (InterruptedException e) {
@@ -137,13 +135,13 @@ public final class InputFiles {
     return new Check(path, readable, unreadable);
   }
 
-  /** Null when the footer reads; otherwise why not. */
-  static String footerProblem(Configuration conf, Path file) {
-    try (ParquetFileReader reader = ParquetFileReader.open(HadoopInputFile.fromPath(file, conf))) {
-      reader.getFooter();
+  /** Null when the footer reads (its layout is then kept, {@link FooterLayouts}); otherwise why not. */
+  static String footerProblem(Configuration conf, FileStatus file) {
+    try {
+      FooterLayouts.read(conf, file);
       return null;
     } catch (IOException | RuntimeException e) {
-      return reason(file, e);
+      return reason(file.getPath(), e);
     }
   }
 
@@ -163,13 +161,22 @@ public final class InputFiles {
 
   /** Data files under {@code path} in listing order, skipping hidden and bookkeeping names as Spark does. */
   static List<Path> list(Configuration conf, String path) {
+    List<Path> out = new ArrayList<>();
+    for (FileStatus f : statuses(conf, path)) {
+      out.add(f.getPath());
+    }
+    return out;
+  }
+
+  /** {@link #list}, with each file's status. */
+  static List<FileStatus> statuses(Configuration conf, String path) {
     try {
       Path root = new Path(path);
       FileSystem fs = root.getFileSystem(conf);
       FileStatus status = fs.getFileStatus(root);
-      List<Path> out = new ArrayList<>();
+      List<FileStatus> out = new ArrayList<>();
       if (!status.isDirectory()) {
-        out.add(fs.makeQualified(root));
+        out.add(fs.getFileStatus(fs.makeQualified(root)));
         return out;
       }
       RemoteIterator<LocatedFileStatus> it = fs.listFiles(root, true);
@@ -177,10 +184,10 @@ public final class InputFiles {
       while (it.hasNext()) {
         LocatedFileStatus f = it.next();
         if (f.isFile() && !hiddenBelow(rootPath, f.getPath())) {
-          out.add(f.getPath());
+          out.add(f);
         }
       }
-      out.sort(null);
+      out.sort(java.util.Comparator.comparing(FileStatus::getPath));
       return out;
     } catch (IOException e) {
       throw new UncheckedIOException("cannot list input.path = " + path, e);

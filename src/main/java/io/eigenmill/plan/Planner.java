@@ -1,5 +1,6 @@
 package io.eigenmill.plan;
 
+import io.eigenmill.io.FooterLayouts;
 import io.eigenmill.io.GroupModels;
 import io.eigenmill.io.InputFilter;
 import io.eigenmill.io.ModelStore;
@@ -20,9 +21,6 @@ import java.util.Set;
 import java.util.regex.Pattern;
 import org.apache.hadoop.conf.Configuration;
 import org.apache.hadoop.fs.Path;
-import org.apache.parquet.hadoop.ParquetFileReader;
-import org.apache.parquet.hadoop.metadata.BlockMetaData;
-import org.apache.parquet.hadoop.util.HadoopInputFile;
 import org.apache.spark.network.util.JavaUtils;
 import org.apache.spark.sql.Dataset;
 import org.apache.spark.sql.Row;
@@ -513,7 +511,8 @@ public final class Planner {
   /**
    * What the footers of the files the scan reads (those {@code input.where} keeps) say: their rows, and each file's
    * length and row groups for the scan's splits ({@link ScanSplits}). Null when not cheap (more than
-   * {@link #FOOTER_LIMIT} files, not Parquet) or when a footer cannot be read. Each footer is opened once.
+   * {@link #FOOTER_LIMIT} files, not Parquet) or when a footer cannot be read. Each footer is decoded once per run
+   * (the input check's, kept by {@link FooterLayouts}).
    */
   private static Footers footers(SparkSession spark, Dataset<Row> table, InputSelection selection,
       JobSettings settings) {
@@ -530,18 +529,10 @@ public final class Planner {
     List<ScanSplits.FileLayout> layouts = new ArrayList<>();
     for (String file : files) {
       try {
-        HadoopInputFile in = HadoopInputFile.fromPath(new Path(file), conf);
-        try (ParquetFileReader reader = ParquetFileReader.open(in)) {
-          List<BlockMetaData> groups = reader.getFooter().getBlocks();
-          long[] starts = new long[groups.size()];
-          long[] bytes = new long[groups.size()];
-          for (int g = 0; g < starts.length; g++) {
-            starts[g] = groups.get(g).getStartingPos();
-            bytes[g] = groups.get(g).getCompressedSize();
-            rows += groups.get(g).getRowCount();
-          }
-          layouts.add(new ScanSplits.FileLayout(in.getLength(), starts, bytes));
-        }
+        // decoded once per run: the input check has read every footer (FooterLayouts keeps what they say)
+        FooterLayouts.Layout layout = FooterLayouts.read(conf, new Path(file));
+        rows += layout.rows();
+        layouts.add(new ScanSplits.FileLayout(layout.length(), layout.rowGroupStarts(), layout.rowGroupBytes()));
       } catch (Exception e) {
         return null;
       }

@@ -56,7 +56,11 @@ public record LoadingsModel(
       rows.add(row(model, j, kc));
     }
     rows.sort(Comparator.comparingDouble((Row r) -> -strongest(r)));
-    List<Row> shown = new ArrayList<>(rows.subList(0, Math.min(rows.size(), MAX_FEATURES)));
+    // only the shown rows are written out (formatting every loading of a wide model took seconds)
+    List<Row> shown = new ArrayList<>();
+    for (Row r : rows.subList(0, Math.min(rows.size(), MAX_FEATURES))) {
+      shown.add(withTexts(r));
+    }
     shown.sort(Comparator.comparingInt(Row::group).thenComparingDouble(r -> -r.values()[r.group()]));
     double maxAbs = 0;
     for (Row r : shown) {
@@ -69,18 +73,25 @@ public record LoadingsModel(
     return new LoadingsModel(labels, shares, shown, maxAbs, model.d(), model.k(), top);
   }
 
+  /** A feature's row without its texts ({@link #withTexts} adds them to the rows shown). */
   private static Row row(PcaModel model, int j, int kc) {
     double[] v = new double[kc];
-    List<String> texts = new ArrayList<>(kc);
     int group = 0;
     for (int c = 0; c < kc; c++) {
       v[c] = model.loading(j, c);
-      texts.add(Fmt.fixed(v[c], 2));
       if (Math.abs(v[c]) > Math.abs(v[group])) {
         group = c;
       }
     }
-    return new Row(model.features().get(j), group, v, texts);
+    return new Row(model.features().get(j), group, v, List.of());
+  }
+
+  private static Row withTexts(Row r) {
+    List<String> texts = new ArrayList<>(r.values().length);
+    for (double v : r.values()) {
+      texts.add(Fmt.fixed(v, 2));
+    }
+    return new Row(r.feature(), r.group(), r.values(), texts);
   }
 
   private static double strongest(Row r) {
@@ -90,11 +101,14 @@ public record LoadingsModel(
   private static TopList topList(PcaModel model, int c, String share) {
     List<Bar> bars = new ArrayList<>();
     for (int j = 0; j < model.d(); j++) {
-      double v = model.loading(j, c);
-      bars.add(new Bar(model.features().get(j), v, Fmt.fixed(v, 3)));
+      bars.add(new Bar(model.features().get(j), model.loading(j, c), ""));
     }
     bars.sort(Comparator.comparingDouble((Bar b) -> -Math.abs(b.value())));
-    return new TopList("PC" + (c + 1), share, List.copyOf(bars.subList(0, Math.min(TOP_BARS, bars.size()))));
+    List<Bar> top = new ArrayList<>();
+    for (Bar b : bars.subList(0, Math.min(TOP_BARS, bars.size()))) {
+      top.add(new Bar(b.feature(), b.value(), Fmt.fixed(b.value(), 3)));
+    }
+    return new TopList("PC" + (c + 1), share, List.copyOf(top));
   }
 
   /** How many features the model has beyond those shown. */

@@ -76,6 +76,44 @@ class ColumnarScanTest extends SparkSuite {
     assertFalse(spark.conf().contains(SPLIT));
   }
 
+  /**
+   * A scan of more fields than {@code spark.sql.codegen.maxFields} (here a partitioned table: 60 data columns and the
+   * partition column against a limit of 60) is one Spark's own plan serves as rows; the columnar scan plans it with
+   * the limit raised and reads every row as batches, and the session keeps its setting. The premise is checked
+   * first (Spark's plan of the same selection is not columnar at this limit), so the test fails if the limit stops
+   * mattering or the raise stops counting the partition column.
+   */
+  @Test
+  void moreFieldsThanTheCodegenLimitStillReadAsBatches() {
+    String table = dir.resolve("parted").toString();
+    spark.read().parquet(dir.resolve("t").toString()).withColumn("day", functions.lit("2026-11-02"))
+        .write().partitionBy("day").parquet(table);
+    String before = spark.conf().get(ColumnarScan.MAX_FIELDS_KEY);
+    spark.conf().set(ColumnarScan.MAX_FIELDS_KEY, Integer.toString(COLUMNS));
+    try {
+      Column[] features = new Column[COLUMNS];
+      for (int j = 0; j < COLUMNS; j++) {
+        features[j] = functions.col("c" + j);
+      }
+      org.apache.spark.sql.execution.SparkPlan own = spark.read().parquet(table).select(features).queryExecution()
+          .executedPlan();
+      while (!(own instanceof org.apache.spark.sql.execution.FileSourceScanExec)) {
+        own = own.children().head();
+      }
+      assertFalse(own.supportsColumnar(), "Spark serves rows for 61 fields at a limit of 60");
+      ColumnarScan scan = ColumnarScan.of(spark.read().parquet(table).select(features));
+      assertNotNull(scan, "the columnar scan reads batches above the limit");
+      assertEquals(ROWS, rows(scan.batches()), "every row read once as batches");
+      assertEquals(ROWS, rows(scan.batches(16L << 20)), "also in the plan's splits");
+      assertEquals(Integer.toString(COLUMNS), spark.conf().get(ColumnarScan.MAX_FIELDS_KEY),
+          "the session's setting is restored");
+      assertTrue(new FeatureInput(spark.read().parquet(table), List.of("c0", "c1"), 64).columnar(),
+          "the passes' input is columnar too");
+    } finally {
+      spark.conf().set(ColumnarScan.MAX_FIELDS_KEY, before);
+    }
+  }
+
   /** Spark's own split count for the plan of {@code frame}. */
   private static int splitsOf(Dataset<Row> frame) {
     org.apache.spark.sql.execution.SparkPlan node = frame.queryExecution().executedPlan();
