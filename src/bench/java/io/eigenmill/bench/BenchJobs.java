@@ -22,14 +22,24 @@ final class BenchJobs {
    * key (the planner resolves them); otherwise the explicit feature list.
    */
   static JobSettings fit(BenchTable table, List<String> columns, String method, String outputPath) {
-    return read("bench-fit-" + method, String.join("\n",
+    return read(fitName(method), fitHocon(table, columns, method, outputPath));
+  }
+
+  /** The name of {@link #fit}'s job. */
+  static String fitName(String method) {
+    return "bench-fit-" + method;
+  }
+
+  /** The settings of {@link #fit} as HOCON, without the job's name (a job file adds it). */
+  static String fitHocon(BenchTable table, List<String> columns, String method, String outputPath) {
+    return String.join("\n",
         "input.path = " + quote(table.path()),
         "features.columns = " + list(columns),
         "features.keys = " + list(table.keys()),
         "prepare.scaling = standardize",
         "reduce.method = " + method,
         "reduce.components = " + COMPONENTS,
-        "output.path = " + quote(outputPath)));
+        "output.path = " + quote(outputPath));
   }
 
   /** An apply run of the model at {@code modelPath}: scores written under {@code outputPath} (overwritten). */

@@ -28,10 +28,12 @@ import java.util.Set;
  *     fit from its Parquet folder ({@link TableRun})
  * @param groupsInTurn with {@code groups}: only the cases timed in turn (one model, 10 and 1,000 groups), without
  *     the separate filtered fits and the 10,000 groups, which run once each and take most of the run's time
+ * @param process only the whole-process cases on the main table: child JVMs started, timed in turn and compared
+ *     net of a JVM that only starts and stops Spark ({@link ProcessRun})
  */
 public record BenchOptions(long rows, int features, int cores, int reps, Path data, List<BenchCase> cases,
     boolean casesGiven, boolean scaling, boolean wide, boolean windows, boolean groups, boolean longInput,
-    boolean smoke, Path out, String command, boolean tables, boolean groupsInTurn) {
+    boolean smoke, Path out, String command, boolean tables, boolean groupsInTurn, boolean process) {
 
   public static final long DEFAULT_ROWS = 2_000_000L;
   public static final int DEFAULT_FEATURES = 100;
@@ -42,7 +44,7 @@ public record BenchOptions(long rows, int features, int cores, int reps, Path da
 
   public static final String USAGE = String.join("\n",
       "usage: local-demo/bench [--rows N] [--features D] [--cores C] [--reps R] [--data DIR] [--cases LIST]",
-      "                        [--scaling] [--wide] [--windows] [--groups] [--long] [--smoke]",
+      "                        [--scaling] [--wide] [--windows] [--groups] [--long] [--process] [--smoke]",
       "                        [--out FILE]",
       "  --rows N      rows of the main table (default 2000000)",
       "  --features D  numeric features (default 100)",
@@ -67,6 +69,12 @@ public record BenchOptions(long rows, int features, int cores, int reps, Path da
       "                .agg(avg(value)) followed by our wide fit, and a plain read of the long table",
       "  --tables      only the table-input case: the main table copied once into an Iceberg table (Hadoop",
       "                catalog under --data), the covariance fit from the table against the fit from the folder",
+      "  --process     only whole processes on the main table, each a child JVM with the command line's heap",
+      "                (EIGENMILL_DRIVER_MEMORY, default 4g), timed in turn (no warm-up: every process starts",
+      "                cold): start-only (the command line's Spark session opened and stopped), read-only (the",
+      "                read floor), fit (the command line's run of a covariance job), builtin-pca on the table and",
+      "                on a copy without missing values and with the features only; times net of start-only, the",
+      "                fit's fixed cost (net time less its passes) and its stage timings from summary.json",
       "  --smoke       tiny table (20000 x 20 unless given), 1 repetition, no warm-up",
       "  --out FILE    results as markdown (default local-demo/BENCHMARKS.md); only this run's sections are replaced");
 
@@ -97,6 +105,7 @@ public record BenchOptions(long rows, int features, int cores, int reps, Path da
     boolean longInput = false;
     boolean smoke = false;
     boolean tables = false;
+    boolean process = false;
     for (int i = 0; i < args.length; i++) {
       String a = args[i];
       switch (a) {
@@ -121,8 +130,13 @@ public record BenchOptions(long rows, int features, int cores, int reps, Path da
         case "--long" -> longInput = true;
         case "--smoke" -> smoke = true;
         case "--tables" -> tables = true;
+        case "--process" -> process = true;
         default -> throw new IllegalArgumentException("unknown argument '" + a + "'");
       }
+    }
+    if (process && (groups || windows || wide || longInput || tables || scaling || casesGiven)) {
+      throw new IllegalArgumentException("--process runs only its own cases: drop --groups, --windows, --wide, "
+          + "--long, --tables, --scaling and --cases");
     }
     if (wide && scaling) {
       throw new IllegalArgumentException("--wide runs on its own (it needs its own 4 GiB JVM): drop --scaling");
@@ -144,7 +158,7 @@ public record BenchOptions(long rows, int features, int cores, int reps, Path da
       throw new IllegalArgumentException("--features " + d + ": at least 11 (the fits keep k = 10 components)");
     }
     return new BenchOptions(n, d, cores, reps, data, new ArrayList<>(cases), casesGiven, scaling, wide, windows,
-        groups, longInput, smoke, out, command(args), tables, groupsInTurn);
+        groups, longInput, smoke, out, command(args), tables, groupsInTurn, process);
   }
 
   private static Set<BenchCase> casesOf(String list) {

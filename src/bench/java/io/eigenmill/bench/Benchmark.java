@@ -14,7 +14,8 @@ import org.apache.spark.sql.SparkSession;
  * beside speed, in one run; optionally scaling in rows, or (in a run of its own) wide tables with their peak heap, or a window refit
  * from moment snapshots against the data fit ({@code --windows}), or one model per group against one model and
  * against separate filtered fits ({@code --groups}), or the long-input fit against Spark's pivot followed by our
- * wide fit ({@code --long}).
+ * wide fit ({@code --long}), or whole processes (the command line's fit, a read, the engine's PCA) each in a JVM
+ * of its own, net of starting and stopping Spark ({@code --process}).
  * Results go to a markdown file ({@code --out}) and the console. Run it with {@code local-demo/bench}; flags in
  * {@link BenchOptions#USAGE}.
  *
@@ -75,6 +76,13 @@ public final class Benchmark {
     String loadBefore = Machine.loadAverage();
     System.out.printf(Locale.ROOT, "bench: %s; %s; heap %s%n", machine.describeHardware(), machine.blas(),
         Report.bytes(machine.maxHeapBytes()));
+    if (options.process()) {
+      ProcessRun.ProcessResult processes = ProcessRun.run(spark, options);
+      ProcessRun.print(processes);
+      Report.writeSection(options.out(), "process", ProcessRun.render(processes, Report.header(machine, options,
+          loadBefore, Machine.loadAverage())));
+      return new Outcome(null, null, null, options.out());
+    }
     if (options.windows()) {
       WindowRun.WindowResult windows = WindowRun.run(spark, options);
       String body = WindowRun.render(windows, Report.header(machine, options, loadBefore, Machine.loadAverage()));

@@ -17,13 +17,14 @@ import java.util.regex.Matcher;
 import java.util.regex.Pattern;
 
 /**
- * The results file: markdown with one section per kind of run (main, scaling, wide, windows, groups, long) between marker comments. A run
- * replaces its own sections and keeps the others, so that the main run, the scaling run and the wide run (which
- * needs its own JVM) can all land in one file; text after the last section (notes on the figures) is kept too. Also the shared formatting helpers.
+ * The results file: markdown with one section per kind of run (main, scaling, wide, windows, groups, long, tables,
+ * process) between marker comments. A run replaces its own sections and keeps the others, so that the main run, the
+ * scaling run and the wide run (which needs its own JVM) can all land in one file; text after the last section
+ * (notes on the figures) is kept too. Also the shared formatting helpers.
  */
 final class Report {
   static final List<String> SECTIONS = List.of("main", "scaling", "wide", "windows", "groups", "long",
-      "tables");
+      "tables", "process");
   private static final Pattern SECTION = Pattern.compile(
       "<!-- bench:([a-z]+) -->\\n(.*?)<!-- /bench:\\1 -->", Pattern.DOTALL);
   private static final String TITLE = String.join("\n",

@@ -8,14 +8,16 @@ import org.apache.spark.sql.SparkSession;
 /**
  * Opens the Spark session for a job. Under spark-submit (a master already given through system properties) or
  * inside a JVM that already has a SparkContext (tests), that context is reused and not stopped afterwards; otherwise
- * an embedded local session is started from {@code spark.master} and stopped at the end.
+ * an embedded local session is started from {@code spark.master} and stopped at the end. Public so that the
+ * benchmark's whole-process cases open their sessions exactly as the command line does.
  */
-final class Sessions {
+public final class Sessions {
   private static final ThreadLocal<Boolean> OWNED = ThreadLocal.withInitial(() -> Boolean.FALSE);
 
   private Sessions() {}
 
-  static SparkSession open(JobSettings settings) {
+  /** The session for a job with {@code settings} (its {@code spark} section), as the command line opens it. */
+  public static SparkSession open(JobSettings settings) {
     boolean existing = SparkSession.getDefaultSession().isDefined() || SparkSession.getActiveSession().isDefined();
     boolean submitted = System.getProperty("spark.master") != null;
     SparkSession.Builder builder = SparkSession.builder().appName("eigenmill: " + settings.name());
@@ -38,7 +40,8 @@ final class Sessions {
     return spark;
   }
 
-  static void closeIfOwned(SparkSession spark) {
+  /** Stops {@code spark} when {@link #open} started it on this thread; a reused session is left running. */
+  public static void closeIfOwned(SparkSession spark) {
     if (spark != null && OWNED.get()) {
       spark.stop();
     }

@@ -1,7 +1,9 @@
 package io.eigenmill.bench;
 
+import static org.junit.jupiter.api.Assertions.assertArrayEquals;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertFalse;
+import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import io.eigenmill.bench.MainResult.CaseResult;
@@ -13,6 +15,7 @@ import java.io.IOException;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.List;
+import java.util.Map;
 import org.apache.spark.sql.Column;
 import org.apache.spark.sql.Dataset;
 import org.apache.spark.sql.Row;
@@ -124,6 +127,76 @@ class BenchmarkSmokeTest extends SparkSuite {
       n += r.getLong(j);
     }
     return n;
+  }
+
+  @Test
+  void processOptionsRunOnTheirOwnAndChildrenGetThisJvmsFlagsWithTheRunnersHeap() {
+    BenchOptions o = BenchOptions.parse(new String[] {"--process", "--smoke"}, BASE);
+    assertTrue(o.process() && o.smoke());
+    assertEquals(1, o.repetitions());
+    assertEquals(BenchOptions.SMOKE_ROWS, o.rows(), "the main table (the smoke one here)");
+    assertEquals(2, BenchOptions.parse(new String[] {"--process", "--reps", "2"}, BASE).repetitions());
+    for (String other : List.of("--groups", "--windows", "--wide", "--long", "--tables", "--scaling")) {
+      IllegalArgumentException e = assertThrows(IllegalArgumentException.class,
+          () -> BenchOptions.parse(new String[] {"--process", other}, BASE));
+      assertTrue(e.getMessage().startsWith("--process runs only its own cases"), other + ": " + e.getMessage());
+    }
+    assertThrows(IllegalArgumentException.class,
+        () -> BenchOptions.parse(new String[] {"--process", "--cases", "fit-covariance"}, BASE));
+    assertTrue(BenchOptions.USAGE.contains("--process"));
+    // the heap is the runner's, every other flag this JVM's, a debugger agent left out (its port is taken)
+    assertEquals(List.of("-Xmx4g", "--add-opens=java.base/java.lang=ALL-UNNAMED", "-Dx=y"), ProcessRun.flags(List.of(
+        "-Xmx8g", "--add-opens=java.base/java.lang=ALL-UNNAMED", "-Xms1g",
+        "-agentlib:jdwp=transport=dt_socket,server=y,address=5005", "-Dx=y"), "4g"));
+    assertEquals(1, ProcessRun.slots("local"));
+    assertEquals(3, ProcessRun.slots("local[3]"));
+    assertEquals(Runtime.getRuntime().availableProcessors(), ProcessRun.slots("local[*]"));
+    assertTrue(ProcessRun.localProfile().endsWith(Path.of("conf", "local.conf")));
+  }
+
+  @Test
+  void processTimesAreNetOfTheStartOnlyProcessOfTheSameRound() throws IOException {
+    Map<ProcessRun.Case, Timing> wall = new java.util.EnumMap<>(ProcessRun.Case.class);
+    wall.put(ProcessRun.Case.START_ONLY, new Timing(new double[] {5, 6, 5}));
+    wall.put(ProcessRun.Case.READ_ONLY, new Timing(new double[] {8, 10, 7}));
+    wall.put(ProcessRun.Case.FIT, new Timing(new double[] {9, 11, 8}));
+    wall.put(ProcessRun.Case.BUILTIN_PCA, new Timing(new double[] {20, 21, 19}));
+    wall.put(ProcessRun.Case.BUILTIN_PCA_COMPLETE, new Timing(new double[] {10, 12, 10}));
+    List<Map<String, Double>> stages = List.of(
+        Map.of("settings", 1.0, "moments", 2.0, "covariance", 0.4, "model", 0.1),
+        Map.of("settings", 1.2, "moments", 2.5, "covariance", 0.4, "model", 0.1),
+        Map.of("settings", 0.8, "moments", 2.0, "covariance", 0.3, "model", 0.1, "report", 0.2));
+    ProcessRun.ProcessResult r = new ProcessRun.ProcessResult(new BenchTable("/t", 1000, List.of("a", "b"),
+        List.of("host"), "spec", 0), new ProcessRun.Complete("/t-complete", 900, 0), new ProcessRun.Children(
+        "java", List.of("-Xmx4g", "--add-modules=jdk.incubator.vector"), "cp", Path.of("conf/local.conf"),
+        "local[*]", 2), wall, stages, 1000, null);
+
+    assertArrayEquals(new double[] {4, 5, 3}, r.net(ProcessRun.Case.FIT));
+    Ratio fit = r.ratios().get(0);
+    assertEquals("fit process / read-only process (net of start-up)", fit.name());
+    assertEquals(4.0 / 3, fit.value(), 1e-12, "median net fit over median net read");
+    assertArrayEquals(new double[] {4.0 / 3, 5.0 / 4, 3.0 / 2}, fit.inTurn(), 1e-12);
+    assertEquals(Ratio.Target.atMost(1.5), fit.target());
+    // fixed cost: net less moments + covariance + model of the same repetition; median of 1.5, 2.0, 0.6
+    assertArrayEquals(new double[] {1.5, 2.0, 0.6}, r.fixedCosts(), 1e-12);
+    assertEquals(1.5, r.fixedCost(), 1e-12);
+    assertFalse(r.fixedCostMet());
+    assertEquals(0.2, r.medianStages().get("report"), 1e-12, "a stage of one repetition: its one value");
+
+    String md = ProcessRun.render(r, List.of("- repetitions: replaced"));
+    assertTrue(md.contains("| fit | 3 | 9.000 | 8.000 - 11.000 | 4.000 | 3.000 - 5.000 |"), md);
+    assertTrue(md.contains("| fit process / read-only process (net of start-up) | 1.33 | <= 1.50 | met |"), md);
+    assertTrue(md.contains("fit fixed cost (net process - pass stages): 1.50 s, by repetition 1.50, 2.00, 0.600; "
+        + "target < 1.00 s: missed by 0.500 s (met by 1 of 3)"), md);
+    assertFalse(md.contains("replaced"), "the repetitions line says how processes are timed");
+
+    Path summary = BASE.resolve("out/process-summary.json");
+    Files.createDirectories(summary.getParent());
+    Files.writeString(summary, "{\"name\": \"x\", \"timings_seconds\": {\"settings\": 0.5, \"moments\": 2.25, "
+        + "\"summary\": 0.01}}");
+    Map<String, Double> timings = ProcessRun.timings(summary);
+    assertEquals(List.of("settings", "moments", "summary"), List.copyOf(timings.keySet()), "summary.json's order");
+    assertEquals(2.25, timings.get("moments"));
   }
 
   @Test
