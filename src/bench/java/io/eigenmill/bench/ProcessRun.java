@@ -76,7 +76,9 @@ final class ProcessRun {
         + "written and committed"),
     BUILTIN_PCA("builtin-pca", "as start-only, plus the engine's `VectorAssembler` (handleInvalid skip) + "
         + "`ml.feature.PCA(k = 10).fit` on the table, as the main builtin-pca case"),
-    BUILTIN_PCA_COMPLETE("builtin-pca-complete", "as builtin-pca, on the complete copy of the table");
+    BUILTIN_PCA_COMPLETE("builtin-pca-complete", "as builtin-pca, on the complete copy of the table"),
+    BUILTIN_PCA_NO_CODEGEN("builtin-pca-no-codegen", "as builtin-pca, with Spark's whole-stage code generation "
+        + "turned off for the session (`spark.sql.codegen.wholeStage = false`): the engine's best setting found here");
 
     final String word;
     final String what;
@@ -202,7 +204,9 @@ final class ProcessRun {
     /** The ratios, net of start-up, each with its repetition pairs. */
     List<Ratio> ratios() {
       return List.of(ratio(Case.FIT, Case.READ_ONLY, Ratio.Target.atMost(1.5)),
-          ratio(Case.BUILTIN_PCA, Case.FIT, null), ratio(Case.BUILTIN_PCA, Case.BUILTIN_PCA_COMPLETE, null));
+          ratio(Case.BUILTIN_PCA, Case.FIT, null), ratio(Case.BUILTIN_PCA_NO_CODEGEN, Case.FIT, null),
+          ratio(Case.BUILTIN_PCA, Case.BUILTIN_PCA_COMPLETE, null),
+          ratio(Case.BUILTIN_PCA, Case.BUILTIN_PCA_NO_CODEGEN, null));
     }
 
     private Ratio ratio(Case top, Case bottom, Ratio.Target target) {
@@ -284,9 +288,10 @@ final class ProcessRun {
             table.path(), Long.toString(plan.splitBytes())));
         args.addAll(plan.features());
       }
-      case BUILTIN_PCA, BUILTIN_PCA_COMPLETE -> {
-        args.addAll(List.of(ProcessCases.class.getName(), ProcessCases.BUILTIN_PCA, job.toString(), profile,
-            c == Case.BUILTIN_PCA ? table.path() : complete.path(), "0"));
+      case BUILTIN_PCA, BUILTIN_PCA_COMPLETE, BUILTIN_PCA_NO_CODEGEN -> {
+        args.addAll(List.of(ProcessCases.class.getName(), c == Case.BUILTIN_PCA_NO_CODEGEN
+            ? ProcessCases.BUILTIN_PCA_NO_CODEGEN : ProcessCases.BUILTIN_PCA, job.toString(), profile,
+            c == Case.BUILTIN_PCA_COMPLETE ? complete.path() : table.path(), "0"));
         args.addAll(table.features());
       }
     }

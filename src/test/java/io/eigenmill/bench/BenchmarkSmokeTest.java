@@ -162,6 +162,7 @@ class BenchmarkSmokeTest extends SparkSuite {
     wall.put(ProcessRun.Case.FIT, new Timing(new double[] {9, 11, 8}));
     wall.put(ProcessRun.Case.BUILTIN_PCA, new Timing(new double[] {20, 21, 19}));
     wall.put(ProcessRun.Case.BUILTIN_PCA_COMPLETE, new Timing(new double[] {10, 12, 10}));
+    wall.put(ProcessRun.Case.BUILTIN_PCA_NO_CODEGEN, new Timing(new double[] {15, 16, 14}));
     List<Map<String, Double>> stages = List.of(
         Map.of("settings", 1.0, "moments", 2.0, "covariance", 0.4, "model", 0.1),
         Map.of("settings", 1.2, "moments", 2.5, "covariance", 0.4, "model", 0.1),
@@ -177,6 +178,9 @@ class BenchmarkSmokeTest extends SparkSuite {
     assertEquals(4.0 / 3, fit.value(), 1e-12, "median net fit over median net read");
     assertArrayEquals(new double[] {4.0 / 3, 5.0 / 4, 3.0 / 2}, fit.inTurn(), 1e-12);
     assertEquals(Ratio.Target.atMost(1.5), fit.target());
+    Ratio engineBest = r.ratios().get(2);
+    assertEquals("builtin-pca-no-codegen process / fit process (net of start-up)", engineBest.name());
+    assertEquals(10.0 / 4, engineBest.value(), 1e-12, "median net 10 over median net 4");
     // fixed cost: net less moments + covariance + model of the same repetition; median of 1.5, 2.0, 0.6
     assertArrayEquals(new double[] {1.5, 2.0, 0.6}, r.fixedCosts(), 1e-12);
     assertEquals(1.5, r.fixedCost(), 1e-12);
