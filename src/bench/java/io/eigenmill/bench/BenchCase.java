@@ -18,7 +18,8 @@ public enum BenchCase {
   FIT_TSQR("fit-tsqr", "`FitJob.execute`, method tsqr, otherwise as fit-covariance"),
   FIT_RANDOMIZED("fit-randomized", "`FitJob.execute`, method randomized (2 power iterations, oversample 10), "
       + "otherwise as fit-covariance"),
-  BUILTIN_PCA("builtin-pca", "the engine's `VectorAssembler` + `ml.feature.PCA(k = 10).fit` on the same features"),
+  BUILTIN_PCA("builtin-pca", "the engine's `VectorAssembler` + `ml.feature.PCA(k = 10).fit` on the same features, "
+      + "with whole-stage code generation off (the engine's faster setting on this table)"),
   WRITE_FLOOR("write-floor", "a plain Parquet write of the keys and k + 4 generated columns (rows and columns of the "
       + "scores, partitioned like them); reads the key columns it writes"),
   APPLY_PASS("apply-pass", "the scoring pass alone (`ScoringPass`, k = 10) and the scores Parquet write"),
