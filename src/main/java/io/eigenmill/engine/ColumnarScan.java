@@ -76,11 +76,11 @@ public final class ColumnarScan {
    * The columnar scan under {@code selection}, or null when its executed plan is anything else.
    *
    * <p>Spark serves a Parquet scan as batches only when it reads at most {@code spark.sql.codegen.maxFields} fields
-   * (default 100: a table of 100 metrics and a few keys is over it). That limit guards the code generated over rows,
-   * which a columnar reader here never runs, so the selection is planned with the limit raised to the fields its
-   * relations hold ({@link #planWithFields}; the session's own setting is restored at once) and {@link #batches}
-   * raises it again while the scan builds its reader. {@code selection} should be a fresh selection: a plan Spark
-   * has already made is kept as it was made.
+   * (default 100: 100 metrics read from a table partitioned by day are 101). That limit guards the code generated
+   * over rows, which a columnar reader here never runs, so the selection is planned with the limit raised to the
+   * fields its relations hold ({@link #planWithFields}; the session's own setting is restored at once) and
+   * {@link #batches} raises it again while the scan builds its reader. {@code selection} should be a fresh
+   * selection: a plan Spark has already made is kept as it was made.
    */
   public static ColumnarScan of(Dataset<Row> selection) {
     SparkPlan node = planWithFields(selection);
