@@ -3,6 +3,7 @@ package io.eigenmill.bench;
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import io.eigenmill.Version;
+import io.eigenmill.engine.SessionSettings;
 import io.eigenmill.plan.JobPlan;
 import io.eigenmill.plan.Planner;
 import io.eigenmill.plan.ScanSplits;
@@ -362,17 +363,8 @@ final class ProcessRun {
    * once, so the plan is made with that many here.
    */
   private static JobPlan planAsChildren(SparkSession spark, JobSettings settings, int slots) {
-    scala.Option<String> before = spark.conf().getOption(LEAF_SLOTS);
-    spark.conf().set(LEAF_SLOTS, Integer.toString(slots));
-    try {
-      return Planner.plan(spark, settings);
-    } finally {
-      if (before.isDefined()) {
-        spark.conf().set(LEAF_SLOTS, before.get());
-      } else {
-        spark.conf().unset(LEAF_SLOTS);
-      }
-    }
+    return SessionSettings.with(spark.conf(), Map.of(LEAF_SLOTS, Integer.toString(slots)),
+        () -> Planner.plan(spark, settings));
   }
 
   /**

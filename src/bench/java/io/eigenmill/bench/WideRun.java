@@ -1,5 +1,6 @@
 package io.eigenmill.bench;
 
+import io.eigenmill.engine.SessionSettings;
 import io.eigenmill.io.TableLoader;
 import io.eigenmill.pca.FitJob;
 import io.eigenmill.pca.FitResult;
@@ -110,14 +111,10 @@ final class WideRun {
     List<WideResult> out = new ArrayList<>();
     for (WideCase c : cases) {
       long rows = Math.min(options.rows(), Math.max(MIN_ROWS, c.cells() / divisor / c.d()));
-      String before = spark.conf().get(MAX_FIELDS);
+      String fields = Integer.toString(Math.max(Integer.parseInt(spark.conf().get(MAX_FIELDS)), c.d() + 64));
       // the columnar Parquet reader serves batches only up to this many columns
-      spark.conf().set(MAX_FIELDS, Integer.toString(Math.max(Integer.parseInt(before), c.d() + 64)));
-      try {
-        out.add(one(spark, options, c, BenchTables.prepare(spark, options.data(), rows, c.d())));
-      } finally {
-        spark.conf().set(MAX_FIELDS, before);
-      }
+      out.add(SessionSettings.with(spark.conf(), Map.of(MAX_FIELDS, fields),
+          () -> one(spark, options, c, BenchTables.prepare(spark, options.data(), rows, c.d()))));
     }
     return out;
   }

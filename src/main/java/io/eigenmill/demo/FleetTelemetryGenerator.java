@@ -1,5 +1,6 @@
 package io.eigenmill.demo;
 
+import io.eigenmill.engine.SessionSettings;
 import io.eigenmill.engine.SparkLine;
 import io.eigenmill.io.WriterSession;
 import java.io.PrintStream;
@@ -353,26 +354,20 @@ public final class FleetTelemetryGenerator {
     RuntimeConfig conf = spark.conf();
     boolean longLayout = layout == Layout.LONG;
     boolean wide = !longLayout && spec.columns() > WIDE_COLUMNS;
-    String factoryMode = conf.contains(CODEGEN_FACTORY_MODE) ? conf.get(CODEGEN_FACTORY_MODE) : null;
     sc.setJobDescription("eigenmill demo: " + spec.rows() + " fleet telemetry rows x " + spec.columns()
         + " columns" + (longLayout ? ", melted to long," : "") + " to " + path);
-    if (wide) {
-      conf.set(CODEGEN_FACTORY_MODE, "NO_CODEGEN");
-    }
     try {
-      Dataset<Row> table = longLayout ? generateLong(spark, spec) : generate(spark, spec);
-      DataFrameWriter<Row> writer = table.write().mode(SaveMode.Overwrite).partitionBy("date")
-          .option("parquet.enable.dictionary", "false");
-      for (String key : longLayout ? LONG_DICTIONARY_COLUMNS : DICTIONARY_COLUMNS) {
-        writer = writer.option("parquet.enable.dictionary#" + key, "true");
-      }
-      writer.parquet(path);
+      SessionSettings.with(conf, wide ? Map.of(CODEGEN_FACTORY_MODE, "NO_CODEGEN") : Map.of(), () -> {
+        Dataset<Row> table = longLayout ? generateLong(spark, spec) : generate(spark, spec);
+        DataFrameWriter<Row> writer = table.write().mode(SaveMode.Overwrite).partitionBy("date")
+            .option("parquet.enable.dictionary", "false");
+        for (String key : longLayout ? LONG_DICTIONARY_COLUMNS : DICTIONARY_COLUMNS) {
+          writer = writer.option("parquet.enable.dictionary#" + key, "true");
+        }
+        writer.parquet(path);
+        return null;
+      });
     } finally {
-      if (wide && factoryMode == null) {
-        conf.unset(CODEGEN_FACTORY_MODE);
-      } else if (wide) {
-        conf.set(CODEGEN_FACTORY_MODE, factoryMode);
-      }
       sc.setJobDescription(description);
     }
   }

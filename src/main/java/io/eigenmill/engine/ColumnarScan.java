@@ -5,7 +5,6 @@ import java.util.HashMap;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
-import java.util.function.Supplier;
 import org.apache.spark.api.java.JavaRDD;
 import org.apache.spark.sql.Dataset;
 import org.apache.spark.sql.Row;
@@ -114,8 +113,8 @@ public final class ColumnarScan {
     while (leaves.hasNext()) {
       fields += leaves.next().output().size();
     }
-    return withSettings(selection.sparkSession().conf(), raisedFields(selection.sparkSession().conf(), fields),
-        () -> selection.queryExecution().executedPlan());
+    RuntimeConfig conf = selection.sparkSession().conf();
+    return SessionSettings.with(conf, raisedFields(conf, fields), () -> selection.queryExecution().executedPlan());
   }
 
   /** {@link #MAX_FIELDS_KEY} raised to {@code fields} when the session's value is lower; else nothing. */
@@ -126,26 +125,6 @@ public final class ColumnarScan {
       raised.put(MAX_FIELDS_KEY, Long.toString(fields));
     }
     return raised;
-  }
-
-  /** Runs {@code body} with {@code settings} set in the session, then restores the session's own values. */
-  private static <T> T withSettings(RuntimeConfig conf, Map<String, String> settings, Supplier<T> body) {
-    Map<String, String> before = new LinkedHashMap<>();
-    for (String key : settings.keySet()) {
-      before.put(key, conf.contains(key) ? conf.get(key) : null);
-      conf.set(key, settings.get(key));
-    }
-    try {
-      return body.get();
-    } finally {
-      before.forEach((key, value) -> {
-        if (value != null) {
-          conf.set(key, value);
-        } else {
-          conf.unset(key);
-        }
-      });
-    }
   }
 
   private static boolean plainAttributes(ProjectExec project) {
@@ -226,6 +205,6 @@ public final class ColumnarScan {
     }
     // the reader checks again that it may serve batches for this many fields (see of)
     wide.putAll(raisedFields(conf, output.size()));
-    return withSettings(conf, wide, () -> scan.executeColumnar().toJavaRDD());
+    return SessionSettings.with(conf, wide, () -> scan.executeColumnar().toJavaRDD());
   }
 }

@@ -159,16 +159,10 @@ public final class InputFiles {
     return message.isEmpty() ? e.getClass().getSimpleName() : message;
   }
 
-  /** Data files under {@code path} in listing order, skipping hidden and bookkeeping names as Spark does. */
-  static List<Path> list(Configuration conf, String path) {
-    List<Path> out = new ArrayList<>();
-    for (FileStatus f : statuses(conf, path)) {
-      out.add(f.getPath());
-    }
-    return out;
-  }
-
-  /** {@link #list}, with each file's status. */
+  /**
+   * The data files under {@code path} (their statuses) in path order, skipping hidden and bookkeeping names as Spark
+   * does.
+   */
   static List<FileStatus> statuses(Configuration conf, String path) {
     try {
       Path root = new Path(path);
