@@ -78,6 +78,8 @@ public record KeyColumns(List<String> names, List<String> types, String zone) im
     private final Map<CodeTuple, Integer> byCodes = new HashMap<>();
     private final List<KeyValues> keys = new ArrayList<>();
     private final int[] lastCodes;
+    /** One key column: the key code of each of the column's codes, -1 where not met yet. */
+    private int[] byColumnCode = new int[0];
     private int lastKey = -1;
     private List<String> lastTexts;
 
@@ -100,6 +102,9 @@ public record KeyColumns(List<String> names, List<String> types, String zone) im
 
     /** The key code of row r of a columnar batch, {@code vectors[c]} holding key column c. */
     public int code(ColumnVector[] vectors, int r) {
+      if (columns.length == 1) {
+        return single(columns[0].code(vectors[0], r));
+      }
       boolean same = lastKey >= 0;
       int[] codes = lastCodes;
       for (int c = 0; c < columns.length; c++) {
@@ -112,17 +117,35 @@ public record KeyColumns(List<String> names, List<String> types, String zone) im
       if (same) {
         return lastKey;
       }
-      CodeTuple tuple = new CodeTuple(codes.clone());
-      Integer known = byCodes.get(tuple);
+      // the lookup wraps the codes as they are; only a new key keeps a copy
+      Integer known = byCodes.get(new CodeTuple(codes));
       if (known == null) {
         List<String> texts = new ArrayList<>(columns.length);
         for (int c = 0; c < columns.length; c++) {
           texts.add(columns[c].text(codes[c]));
         }
         known = intern(new KeyValues(texts));
-        byCodes.put(tuple, known);
+        byCodes.put(new CodeTuple(codes.clone()), known);
       }
       lastKey = known;
+      return known;
+    }
+
+    /**
+     * The key code of a one-column key whose column code is {@code v}: an array lookup, since the column's codes are
+     * 0, 1, 2, ... in the order its values appear in the task (no tuple, no hash per row).
+     */
+    private int single(int v) {
+      if (v >= byColumnCode.length) {
+        int old = byColumnCode.length;
+        byColumnCode = Arrays.copyOf(byColumnCode, Math.max(v + 1, 2 * old));
+        Arrays.fill(byColumnCode, old, byColumnCode.length, -1);
+      }
+      int known = byColumnCode[v];
+      if (known < 0) {
+        known = intern(new KeyValues(java.util.Collections.singletonList(columns[0].text(v))));
+        byColumnCode[v] = known;
+      }
       return known;
     }
 
@@ -173,6 +196,64 @@ public record KeyColumns(List<String> names, List<String> types, String zone) im
     }
   }
 
+  /**
+   * Codes of long values (integers, dates, timestamps, booleans): an open-addressing table of primitives, so that a
+   * row's lookup neither boxes its value nor allocates. Linear probing over a power-of-two table at most half full.
+   */
+  static final class LongCodes {
+    private long[] keys = new long[16];
+    private int[] codes = filled(16);
+    private int size;
+
+    private static int[] filled(int n) {
+      int[] a = new int[n];
+      Arrays.fill(a, -1);
+      return a;
+    }
+
+    private static int slot(long x, int mask) {
+      long h = x * 0x9E3779B97F4A7C15L;
+      return (int) (h ^ (h >>> 32)) & mask;
+    }
+
+    /** The code of {@code x}, or -1 when it has none. */
+    int get(long x) {
+      int mask = keys.length - 1;
+      for (int i = slot(x, mask); ; i = (i + 1) & mask) {
+        if (codes[i] < 0) {
+          return -1;
+        }
+        if (keys[i] == x) {
+          return codes[i];
+        }
+      }
+    }
+
+    /** Gives {@code x} (not in the table) the code {@code code} (at least 0). */
+    void put(long x, int code) {
+      if (2 * (size + 1) > keys.length) {
+        long[] oldKeys = keys;
+        int[] oldCodes = codes;
+        keys = new long[2 * oldKeys.length];
+        codes = filled(keys.length);
+        size = 0;
+        for (int i = 0; i < oldKeys.length; i++) {
+          if (oldCodes[i] >= 0) {
+            put(oldKeys[i], oldCodes[i]);
+          }
+        }
+      }
+      int mask = keys.length - 1;
+      int i = slot(x, mask);
+      while (codes[i] >= 0) {
+        i = (i + 1) & mask;
+      }
+      keys[i] = x;
+      codes[i] = code;
+      size++;
+    }
+  }
+
   /** Codes the values of one key column in a task: distinct values get 0, 1, ...; null gets its own code. */
   private static final class ColumnCoder {
     private static final int STRING = 0;
@@ -184,7 +265,7 @@ public record KeyColumns(List<String> names, List<String> types, String zone) im
     private final ZoneId zone;
     private final int family;
     private final Map<UTF8String, Integer> strings = new HashMap<>();
-    private final Map<Long, Integer> longs = new HashMap<>();
+    private final LongCodes longs = new LongCodes();
     private final Map<String, Integer> others = new HashMap<>();
     private final List<String> texts = new ArrayList<>();
     private int nullCode = -1;
@@ -234,8 +315,8 @@ public record KeyColumns(List<String> names, List<String> types, String zone) im
           if (last >= 0 && x == lastLong) {
             return last;
           }
-          Integer c = longs.get(x);
-          if (c == null) {
+          int c = longs.get(x);
+          if (c < 0) {
             c = add(longText(x));
             longs.put(x, c);
           }
