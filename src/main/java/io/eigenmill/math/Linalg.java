@@ -57,6 +57,11 @@ public final class Linalg {
     return n <= REPEATABLE_MAX_ORDER ? JAVA_LAPACK : LAPACK_INSTANCE;
   }
 
+  /** Whether BLAS calls go to a native library (loaded by now: this class loads it). */
+  public static boolean isNative() {
+    return BLAS_INSTANCE.getClass().getSimpleName().startsWith("JNI");
+  }
+
   /** A line such as "BLAS JNIBLAS (native), LAPACK JNILAPACK (native)" for logs, summary and report. */
   public static String describe() {
     return "BLAS " + name(BLAS_INSTANCE) + ", LAPACK " + name(LAPACK_INSTANCE);

@@ -1,5 +1,6 @@
 package io.eigenmill.run;
 
+import io.eigenmill.engine.BlasThreads;
 import io.eigenmill.engine.Stopwatch;
 import io.eigenmill.engine.KeyColumns;
 import io.eigenmill.io.GroupModels;
@@ -259,6 +260,11 @@ public final class JobRunner {
       }
       if (!skipped.isEmpty()) {
         warnings.add(skipped);
+      }
+      String blas = BlasThreads.warning(spark);
+      if (blas != null) {
+        LOG.warn("{}", blas);
+        warnings.add(blas);
       }
     }
 
