@@ -42,6 +42,28 @@ public final class ModelStore {
       .add("schema_fingerprint", DataTypes.StringType, false)
       .add("sds", DataTypes.createArrayType(DataTypes.DoubleType), false);
 
+  /** The columns of {@code components/}: a loading per feature and component. */
+  public static final StructType COMPONENTS = new StructType().add("feature", DataTypes.StringType, false)
+      .add("component", DataTypes.IntegerType, false).add("loading", DataTypes.DoubleType, false);
+
+  /** The columns of {@code spectrum/}: an eigenvalue per component, its shares, and whether it is kept. */
+  public static final StructType SPECTRUM = new StructType().add("component", DataTypes.IntegerType, false)
+      .add("eigenvalue", DataTypes.DoubleType, false).add("variance_share", DataTypes.DoubleType, false)
+      .add("cumulative_variance_share", DataTypes.DoubleType, false).add("kept", DataTypes.BooleanType, false);
+
+  /**
+   * The names of the columns of {@code model/}, {@code components/} and {@code spectrum/}, which a fit with groups
+   * writes after the group columns: a group column cannot have one of them (Spark's names match without regard to
+   * case).
+   */
+  public static java.util.Set<String> groupTableColumns() {
+    java.util.Set<String> names = new java.util.TreeSet<>();
+    for (StructType t : List.of(SCHEMA, COMPONENTS, SPECTRUM)) {
+      names.addAll(List.of(t.fieldNames()));
+    }
+    return names;
+  }
+
   public static void write(SparkSession spark, PcaModel m, String path) {
     DriverTables.write(spark, SCHEMA, List.of(RowFactory.create(fields(m))), path);
   }

@@ -99,19 +99,14 @@ public final class FitTables {
         loadings.add(RowFactory.create(features.get(j), c + 1, s.loading(j, c)));
       }
     }
-    StructType componentSchema = new StructType().add("feature", DataTypes.StringType, false)
-        .add("component", DataTypes.IntegerType, false).add("loading", DataTypes.DoubleType, false);
-    DriverTables.write(spark, componentSchema, loadings, out.staged("components"));
+    DriverTables.write(spark, ModelStore.COMPONENTS, loadings, out.staged("components"));
     double[] shares = s.varianceShares();
     double[] cumulative = s.cumulativeVarianceShares();
     List<Row> spectrum = new ArrayList<>();
     for (int c = 0; c < s.available(); c++) {
       spectrum.add(RowFactory.create(c + 1, s.eigenvalues()[c], shares[c], cumulative[c], c < fit.model().k()));
     }
-    StructType spectrumSchema = new StructType().add("component", DataTypes.IntegerType, false)
-        .add("eigenvalue", DataTypes.DoubleType, false).add("variance_share", DataTypes.DoubleType, false)
-        .add("cumulative_variance_share", DataTypes.DoubleType, false).add("kept", DataTypes.BooleanType, false);
-    DriverTables.write(spark, spectrumSchema, spectrum, out.staged("spectrum"));
+    DriverTables.write(spark, ModelStore.SPECTRUM, spectrum, out.staged("spectrum"));
     ModelStore.write(spark, fit.model(), out.staged("model"));
   }
 }

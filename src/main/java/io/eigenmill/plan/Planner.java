@@ -313,6 +313,12 @@ public final class Planner {
     String named = "reduce.group-by = " + r.groupBy();
     List<String> types = keyColumnTypes(schema, r.groupBy(), features, named, "within a group it is constant, so"
         + " it cannot be both: exclude it with features.exclude", problems);
+    java.util.Set<String> taken = ModelStore.groupTableColumns();
+    for (String c : r.groupBy()) {
+      taken.stream().filter(t -> t.equalsIgnoreCase(c)).findFirst().ifPresent(t -> problems.add(named
+          + ": column " + c + " has the name of a column that model/, components/ and spectrum/ write beside the"
+          + " group columns (" + String.join(", ", taken) + "); group by a copy of it under another name"));
+    }
     if (choice != null && choice.method() == io.eigenmill.settings.Choices.Method.RANDOMIZED) {
       problems.add(named + " with " + (r.method() == io.eigenmill.settings.Choices.Method.AUTO
           ? "reduce.method = auto, which chose randomized (" + choice.reason() + ")" : "reduce.method = randomized")

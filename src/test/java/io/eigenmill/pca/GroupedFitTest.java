@@ -257,6 +257,43 @@ class GroupedFitTest extends SparkSuite {
     assertNull(tiny.solved());
   }
 
+  /**
+   * The rows counted per group before the pass (Spark's aggregation over the group columns, then their text) name
+   * the same groups as the pass's own key texts, for group columns of every kind: a run whose texts differed would
+   * stop ("counted but not read"). Reference: Spark's own {@code groupBy(column).count()} of the same table, whose
+   * counts each group's rows read must equal. A group column with the name of a column of the group tables (here
+   * Rows, as model/'s rows) is refused before any work: the tables could not hold both.
+   */
+  @Test
+  void groupsOfEveryColumnKindAreCountedUnderThePassesOwnTexts() {
+    Path typed = dir.resolve("typed");
+    spark.read().parquet(fleet.toString()).selectExpr("*",
+        "cast(id % 3 as int) as slot", "id % 2 as Rows",
+        "case id % 5 when 0 then cast(-0.0 as double) when 1 then 0.0D when 2 then 1.5D when 3 then cast('NaN' as"
+            + " double) else null end as temp",
+        "date_add(date '2026-11-30', id % 4) as day",
+        "timestamp_seconds(1796000000 + (id % 3) * 1800) + make_interval(0, 0, 0, 0, 0, 0, (id % 2) * 0.25) as at",
+        "cast((id % 4) * 1.25 as decimal(10, 2)) as price").write().parquet(typed.toString());
+    Dataset<Row> table = spark.read().parquet(typed.toString());
+    String common = "input.path = \"" + typed + "\"\nfeatures.columns = " + JobFiles.quoted(List.of(FEATURES))
+        + "\nreduce.min-group-rows = 10\nreduce.components = 2\n";
+    for (List<String> by : List.of(List.of("slot"), List.of("temp"), List.of("day"), List.of("at"),
+        List.of("price"), List.of("slot", "temp"))) {
+      RunResult r = run(common + "reduce.group-by = " + JobFiles.quoted(by) + "\noutput.path = \""
+          + dir.resolve("typed-" + String.join("-", by)) + "\"\n");
+      List<Row> spark = table.groupBy(by.stream().map(org.apache.spark.sql.functions::col)
+          .toArray(org.apache.spark.sql.Column[]::new)).count().collectAsList();
+      assertEquals(spark.size(), r.fit().groups().groups().size(), by + ": one group per Spark group");
+      long[] ours = r.fit().groups().groups().stream().mapToLong(GroupFit::rowsRead).sorted().toArray();
+      long[] theirs = spark.stream().mapToLong(row -> row.getLong(by.size())).sorted().toArray();
+      assertArrayEquals(theirs, ours, by + ": rows per group");
+    }
+    InvalidJobException clash = assertThrows(InvalidJobException.class, () -> run(common
+        + "reduce.group-by = [Rows]\noutput.path = \"" + dir.resolve("typed-clash") + "\"\n"));
+    assertTrue(clash.getMessage().contains("reduce.group-by = [Rows]: column Rows has the name of a column that"
+        + " model/, components/ and spectrum/ write"), clash.getMessage());
+  }
+
   @Test
   void groupsSolvedOnTheExecutorsEqualThoseSolvedOnTheDriverAndSmallBlocksChangeOnlyRounding() {
     Dataset<Row> table = spark.read().parquet(fleet.toString());
