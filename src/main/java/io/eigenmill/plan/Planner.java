@@ -228,6 +228,8 @@ public final class Planner {
           + String.join(", ", retyped));
     }
     ClusterColumns.check(settings, schema, keys, model.features(), problems);
+    List<String> partitionColumns = partitionColumns(spark, table, settings);
+    ScoreColumns.check(settings, keys, partitionColumns, problems);
     if (!problems.isEmpty()) {
       throw new InvalidJobException(problems);
     }
@@ -237,7 +239,6 @@ public final class Planner {
     int blockRows = BlockBudget.rows(settings.reduce().blockRows(), d + 1);
     MemoryEstimate memory = new MemoryEstimate(8L * d * (model.k() + 2), 8L * blockRows
         * (2L * d + model.k()), driverHeap, taskHeap, "block of " + blockRows + " x " + d);
-    List<String> partitionColumns = partitionColumns(spark, table, settings);
     InputSelection selection = selection(table, kept, settings, model.features(), partitionColumns);
     Footers footers = footers(spark, kept, selection, settings);
     return new JobPlan(settings, "apply", model.features(), model.featureTypes(), keys, partitionColumns,
@@ -273,6 +274,7 @@ public final class Planner {
     });
     List<String> names = features.stream().map(StructField::name).toList();
     ClusterColumns.check(settings, schema, keys, names, problems);
+    ScoreColumns.check(settings, keys, partitionColumns, problems);
     MethodChoice.Choice choice = d == 0 ? null : choose(spark, settings, d, problems);
     SnapshotPlan snapshots = !settings.output().writesSnapshots() || d == 0 ? null
         : SnapshotPlanner.planWrite(spark, settings, schema, partitionColumns, names, choice, problems);

@@ -81,6 +81,43 @@ class PlannerTest extends SparkSuite {
             + "output.snapshots = \"/tmp/store\"\n"));
   }
 
+  /**
+   * scores/ carries the keys, group columns and partition columns, then writes pc_1.., t2, q, flag_t2, flag_q: a
+   * carried column of one of those names (any case) is refused before any work, only when scores/ is written. (It
+   * failed when the scores were written, after the fit's pass: Spark refuses two columns of one name.)
+   */
+  @Test
+  void columnsThatScoresCarryCannotHaveTheNamesOfScoreColumns() throws Exception {
+    Path t = Files.createTempDirectory("eigenmill-score-names").resolve("t");
+    StructType schema = new StructType().add("T2", DataTypes.StringType).add("pc_3", DataTypes.IntegerType)
+        .add("pc_x", DataTypes.StringType).add("cpu", DataTypes.DoubleType).add("mem", DataTypes.DoubleType)
+        .add("q", DataTypes.IntegerType);
+    List<Row> rows = new ArrayList<>();
+    for (int i = 0; i < 8; i++) {
+      rows.add(RowFactory.create("h" + i, i, "x" + i, i * 1.5, 40.0 + i * i, i % 2));
+    }
+    spark.createDataFrame(rows, schema).write().partitionBy("q").parquet(t.toString());
+    String body = "input.path = \"" + t + "\"\noutput.path = \"/tmp/never\"\nfeatures.keys = [T2, pc_3, pc_x]\n"
+        + "features.columns = [cpu, mem]\n";
+    JobSettings scoring = new SettingsReader().readString(body + "output.scores = true\n", List.of(), "p.conf");
+    List<String> problems = assertThrows(InvalidJobException.class, () -> Planner.plan(spark, scoring)).problems();
+    String rule = "has the name of a column that scores/ writes pc_1, pc_2, ... (one per component), t2, q, flag_t2"
+        + " and flag_q after the columns it carries";
+    assertEquals(List.of("features.keys: column T2 " + rule + "; leave it out of features.keys or rename it in the"
+            + " input", "features.keys: column pc_3 " + rule + "; leave it out of features.keys or rename it in the"
+            + " input", "input.path: partition column q " + rule + " (the input's partition columns among them);"
+            + " rename the partition column"), problems);
+    JobSettings grouped = new SettingsReader().readString("input.path = \"" + t + "\"\noutput.path = \"/tmp/never\"\n"
+        + "features.columns = [cpu, mem]\nreduce.group-by = [T2]\noutput.scores = true\n", List.of(), "p.conf");
+    assertEquals(List.of("reduce.group-by = [T2]: column T2 " + rule + "; group by a copy of it under another name",
+        "input.path: partition column q " + rule + " (the input's partition columns among them); rename the"
+            + " partition column"), assertThrows(InvalidJobException.class, () -> Planner.plan(spark, grouped))
+        .problems());
+    // without scores/ the same columns are fine
+    JobSettings fitOnly = new SettingsReader().readString(body, List.of(), "p.conf");
+    assertEquals(List.of("cpu", "mem"), Planner.plan(spark, fitOnly).features());
+  }
+
   @Test
   void aGroupedPlanStatesWhereGroupsAreSolvedAndTheSnapshotSize() {
     JobSettings s = new SettingsReader().readString("input.path = \"" + table + "\"\noutput.path = \"/tmp/n\"\n"
