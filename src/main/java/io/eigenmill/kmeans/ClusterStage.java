@@ -6,6 +6,7 @@ import io.eigenmill.io.PcaModel;
 import io.eigenmill.monitor.ScoreSample;
 import io.eigenmill.monitor.ScoringStage;
 import io.eigenmill.plan.JobPlan;
+import io.eigenmill.plan.ScoreColumns;
 import io.eigenmill.settings.Choices.ClusterSpace;
 import io.eigenmill.settings.InvalidJobException;
 import java.util.ArrayList;
@@ -42,7 +43,7 @@ public final class ClusterStage {
     List<String> dims = new ArrayList<>();
     if (settings.space() == ClusterSpace.SCORES) {
       for (int c = 1; c <= model.k(); c++) {
-        dims.add("pc_" + c);
+        dims.add(ScoreColumns.component(c));
       }
     } else {
       dims.addAll(model.features());

@@ -6,6 +6,7 @@ import io.eigenmill.io.PcaModel;
 import io.eigenmill.math.BlockBudget;
 import io.eigenmill.monitor.math.ControlLimits;
 import io.eigenmill.monitor.math.Scorer;
+import io.eigenmill.plan.ScoreColumns;
 import io.eigenmill.settings.Choices.MissingPolicy;
 import io.eigenmill.settings.JobSettings;
 import java.io.Serializable;
@@ -310,10 +311,12 @@ public final class ScoringPass {
     // has null scores
     boolean nullable = spec.groups() != null;
     for (int c = 1; c <= spec.outputK(); c++) {
-      out = out.add("pc_" + c, DataTypes.DoubleType, nullable);
+      out = out.add(ScoreColumns.component(c), DataTypes.DoubleType, nullable);
     }
-    return out.add("t2", DataTypes.DoubleType, nullable).add("q", DataTypes.DoubleType, nullable)
-        .add("flag_t2", DataTypes.BooleanType, false).add("flag_q", DataTypes.BooleanType, false);
+    return out.add(ScoreColumns.T2, DataTypes.DoubleType, nullable)
+        .add(ScoreColumns.Q, DataTypes.DoubleType, nullable)
+        .add(ScoreColumns.FLAG_T2, DataTypes.BooleanType, false)
+        .add(ScoreColumns.FLAG_Q, DataTypes.BooleanType, false);
   }
 
   private static boolean allKnown(int[] kinds) {

@@ -173,11 +173,8 @@ final class GroupedFit {
       raw.add(functions.col(c));
       cols.add(functions.col(c).cast("string"));
     }
-    // the count's own name, none of the group columns'
+    // the count's own name: no group column has it (model/ has a column rows, so the planner refuses the name)
     String rows = "rows";
-    while (clashes(plan.by().names(), rows)) {
-      rows = "_" + rows;
-    }
     cols.add(functions.col(rows));
     Map<KeyValues, Long> counts = new java.util.LinkedHashMap<>();
     for (Row r : table.groupBy(raw.toArray(Column[]::new)).agg(functions.count(functions.lit(1)).as(rows))
@@ -190,11 +187,6 @@ final class GroupedFit {
       counts.merge(new KeyValues(texts), r.getLong(cols.size() - 1), Long::sum);
     }
     return counts;
-  }
-
-  /** Whether {@code name} is one of {@code names} (Spark's column names match without regard to case). */
-  private static boolean clashes(List<String> names, String name) {
-    return names.stream().anyMatch(n -> n.equalsIgnoreCase(name));
   }
 
   /** A group's merged summary to its model (or the reason it has none). */

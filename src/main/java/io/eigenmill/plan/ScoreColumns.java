@@ -11,10 +11,21 @@ import java.util.Locale;
  * of one name (Spark refuses that when the scores are written, after the fit's pass), so the planner refuses it first.
  * Spark's column names match without regard to case.
  */
-final class ScoreColumns {
+public final class ScoreColumns {
   private ScoreColumns() {}
 
-  static final List<String> FIXED = List.of("t2", "q", "flag_t2", "flag_q");
+  public static final String T2 = "t2";
+  public static final String Q = "q";
+  public static final String FLAG_T2 = "flag_t2";
+  public static final String FLAG_Q = "flag_q";
+
+  /** The columns after the carried ones and the components, in the order scores/ writes them. */
+  static final List<String> FIXED = List.of(T2, Q, FLAG_T2, FLAG_Q);
+
+  /** The name of component {@code c} (from 1) in scores/. */
+  public static String component(int c) {
+    return "pc_" + c;
+  }
 
   /** Whether scores/ writes a column named {@code name}. */
   static boolean taken(String name) {
