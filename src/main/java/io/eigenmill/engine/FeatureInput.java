@@ -223,6 +223,33 @@ public final class FeatureInput {
         .mapPartitionsWithIndex(new KeyedPasses.RowKeyed<>(spec, keys, routing), false);
   }
 
+  /**
+   * Rows per value of the {@code keys} columns, counted by a task per partition over columnar batches of the key
+   * columns alone, with the keyed pass's own coder ({@link KeyedPasses.CountKeys}), and summed on the driver: one
+   * scan of the key columns, no aggregation of Spark's (whose generated code and shuffle cost a cold process
+   * seconds before the pass). Keys in the order they first appear, partition by partition. Null when the key
+   * columns have no columnar scan (then the caller counts otherwise).
+   */
+  public Map<KeyValues, Long> countKeys(KeyColumns keys) {
+    if (!columnar()) {
+      return null;
+    }
+    ColumnarScan scan = ColumnarScan.of(table.select(keys.names().stream().map(functions::col)
+        .toArray(Column[]::new)));
+    int[] keyOrdinals = scan == null ? null : scan.ordinals(keys.names());
+    if (keyOrdinals == null) {
+      return null;
+    }
+    Map<KeyValues, Long> counts = new LinkedHashMap<>();
+    for (KeyedPasses.KeyCounts part : scan.batches(splitBytes).mapPartitions(
+        new KeyedPasses.CountKeys(keyOrdinals, keys)).collect()) {
+      for (int i = 0; i < part.keys().size(); i++) {
+        counts.merge(part.keys().get(i), part.rows()[i], Long::sum);
+      }
+    }
+    return counts;
+  }
+
   /** The columnar scan of the features and the key columns, or null (then keyed passes read rows). */
   private ColumnarScan keyedColumnar(KeyColumns keys) {
     if (!columnar()) {

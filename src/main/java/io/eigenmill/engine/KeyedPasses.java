@@ -204,6 +204,51 @@ public final class KeyedPasses {
     }
   }
 
+  /** Rows per key of one partition: {@code rows[i]} rows have key {@code keys.get(i)}. */
+  public record KeyCounts(List<KeyValues> keys, long[] rows) implements Serializable {}
+
+  /**
+   * Counts a partition's rows per key from columnar batches of the key columns ({@code keyOrdinals}), with the
+   * coder the keyed pass uses: the counted keys are the keys the pass meets, text for text.
+   */
+  static final class CountKeys implements org.apache.spark.api.java.function.FlatMapFunction<Iterator<ColumnarBatch>,
+      KeyCounts> {
+    private static final long serialVersionUID = 1L;
+    private final int[] keyOrdinals;
+    private final KeyColumns keys;
+
+    CountKeys(int[] keyOrdinals, KeyColumns keys) {
+      this.keyOrdinals = keyOrdinals;
+      this.keys = keys;
+    }
+
+    @Override
+    public Iterator<KeyCounts> call(Iterator<ColumnarBatch> batches) {
+      KeyColumns.Coder coder = keys.coder();
+      ColumnVector[] keyVectors = new ColumnVector[keyOrdinals.length];
+      long[] rows = new long[16];
+      while (batches.hasNext()) {
+        ColumnarBatch batch = batches.next();
+        for (int c = 0; c < keyOrdinals.length; c++) {
+          keyVectors[c] = batch.column(keyOrdinals[c]);
+        }
+        int n = batch.numRows();
+        for (int r = 0; r < n; r++) {
+          int code = coder.code(keyVectors, r);
+          if (code >= rows.length) {
+            rows = Arrays.copyOf(rows, Math.max(code + 1, 2 * rows.length));
+          }
+          rows[code]++;
+        }
+      }
+      List<KeyValues> met = new ArrayList<>(coder.count());
+      for (int c = 0; c < coder.count(); c++) {
+        met.add(coder.key(c));
+      }
+      return List.of(new KeyCounts(met, Arrays.copyOf(rows, coder.count()))).iterator();
+    }
+  }
+
   /** Bytes of decoded rows a task holds back before ordering them by key (see {@link BatchScratch}). */
   public static final long SCRATCH_BYTES = 16L << 20;
 

@@ -57,7 +57,10 @@ final class GroupedFit {
   static Outcome run(FeatureInput input, GroupPlan plan, ModelSolver solver, ReadMode mode, BlockPrep prep,
       int blockRows) {
     int d = solver.features().size();
-    Map<KeyValues, Long> counts = countRows(input.table(), plan);
+    Map<KeyValues, Long> counts = input.countKeys(plan.by());
+    if (counts == null) {
+      counts = countRows(input.table(), plan);
+    }
     if (counts.size() > GroupPlan.MAX_GROUPS) {
       throw new InvalidJobException("reduce.group-by = " + plan.by().names() + ": the input has " + counts.size()
           + " groups, more than " + GroupPlan.MAX_GROUPS + " (one model each); group by fewer or coarser columns");
@@ -162,7 +165,8 @@ final class GroupedFit {
   }
 
   /**
-   * Rows per group, from a Spark aggregation over the group columns, each group's values then cast to text (the keys'
+   * Rows per group where the group columns have no columnar scan ({@link FeatureInput#countKeys} otherwise), from a
+   * Spark aggregation over the group columns, each group's values then cast to text (the keys'
    * text). Grouping the columns as they are, not their text, spares a cast and a string hash per row; Spark's
    * grouping treats -0.0 and 0.0 as one value, as the keyed pass does.
    */

@@ -140,6 +140,60 @@ class KeyedPassTest extends SparkSuite {
   }
 
   @Test
+  void fewKeysInWholeBatchesEqualTheRowReaderAndFilteredPassesBitForBit(@TempDir Path tmp) {
+    // one file, one partition, 5 keys mixed row by row over more than three reader batches (4,096 rows): with few
+    // keys a whole batch fills the scratch and is handed out before the next batch; NaN and infinities in x0, nulls
+    // in x1, an int column x2; then a short last batch
+    Random rnd = new Random(47);
+    StructType schema = new StructType().add("grp", DataTypes.StringType).add("x0", DataTypes.DoubleType)
+        .add("x1", DataTypes.DoubleType).add("x2", DataTypes.IntegerType);
+    List<Row> rows = new ArrayList<>();
+    double[] odd = {Double.NaN, Double.POSITIVE_INFINITY, Double.NEGATIVE_INFINITY};
+    for (int i = 0; i < 3 * 4096 + 1500; i++) {
+      int g = rnd.nextInt(5);
+      double x0 = rnd.nextInt(150) == 0 ? odd[rnd.nextInt(3)] : 1e4 * g + rnd.nextGaussian();
+      Double x1 = rnd.nextInt(120) == 0 ? null : rnd.nextGaussian() * (1 + g);
+      rows.add(RowFactory.create("k" + g, x0, x1, rnd.nextInt(1000) - 500 * g));
+    }
+    String one = tmp.resolve("few").toString();
+    spark.createDataFrame(rows, schema).coalesce(1).write().parquet(one);
+    List<String> features = List.of("x0", "x1", "x2");
+    KeyColumns grp = new KeyColumns(List.of("grp"), List.of("string"), spark.conf().get("spark.sql.session.timeZone"));
+    FeatureInput columnar = new FeatureInput(spark.read().parquet(one), features, BLOCK);
+    assertTrue(columnar.columnar());
+    var direct = columnar.runKeyed("test/few", new SummaryAggregator<>(Moments.factory(3, true)), ReadMode.DROP,
+        BlockPrep.identity(), grp, BLOCK);
+    assertEquals(5, direct.byKey().size());
+    spark.conf().set("spark.sql.parquet.enableVectorizedReader", "false");
+    try {
+      FeatureInput rowInput = new FeatureInput(spark.read().parquet(one), features, BLOCK);
+      assertTrue(!rowInput.columnar());
+      var byRow = rowInput.runKeyed("test/few-rows", new SummaryAggregator<>(Moments.factory(3, true)),
+          ReadMode.DROP, BlockPrep.identity(), grp, BLOCK);
+      assertEquals(byRow.byKey().keySet(), direct.byKey().keySet());
+      for (KeyValues k : direct.byKey().keySet()) {
+        assertArrayEquals(byRow.byKey().get(k).value().toBytes(), direct.byKey().get(k).value().toBytes(),
+            "group " + k);
+        assertArrayEquals(byRow.byKey().get(k).counts().missingCells(),
+            direct.byKey().get(k).counts().missingCells(), "group " + k);
+        assertEquals(byRow.byKey().get(k).counts().rowsDropped(), direct.byKey().get(k).counts().rowsDropped());
+      }
+    } finally {
+      spark.conf().unset("spark.sql.parquet.enableVectorizedReader");
+    }
+    long missing = 0;
+    for (int g = 0; g < 5; g++) {
+      PartialResult<Moments> alone = new FeatureInput(spark.read().parquet(one).where("grp = 'k" + g + "'"),
+          features, BLOCK).run("test/few-alone", Moments.factory(3, true), ReadMode.DROP, BlockPrep.identity());
+      PartialResult<Moments> keyed = direct.byKey().get(new KeyValues(List.of("k" + g)));
+      assertArrayEquals(alone.value().toBytes(), keyed.value().toBytes(), "group k" + g);
+      assertArrayEquals(alone.counts().missingCells(), keyed.counts().missingCells(), "group k" + g);
+      missing += keyed.counts().missingCells()[0];
+    }
+    assertTrue(missing > 0, "x0 has NaN and infinite cells");
+  }
+
+  @Test
   void twoKeyColumnsAndThePartitionColumnRowPathAgreesWithColumnarPath() {
     Dataset<Row> t = spark.read().parquet(path);
     List<String> features = List.of("x0", "x1", "x2", "x3");
@@ -222,5 +276,38 @@ class KeyedPassTest extends SparkSuite {
         new SummaryAggregator<>(Moments.factory(1, true)), ReadMode.DROP, BlockPrep.identity(), keys("grp"), BLOCK);
     assertTrue(result.byKey().isEmpty());
     assertEquals(0, result.total().rowsRead());
+  }
+
+  @Test
+  void theKeyCountsAreSparksGroupCountsAndTheKeysThePassMeets() {
+    // outside reference: Spark's own groupBy(...).count(), the key texts through CAST(x AS STRING); the partition
+    // column alone (a scan with no data column) and with a data column
+    Dataset<Row> t = spark.read().parquet(path);
+    FeatureInput input = new FeatureInput(t, List.of("x0", "x1", "x2", "x3"), BLOCK);
+    for (String[] names : List.of(new String[] {"grp"}, new String[] {"day"}, new String[] {"day", "grp"},
+        new String[] {"x3"})) {
+      KeyColumns k = keys(names);
+      Map<KeyValues, Long> counts = input.countKeys(k);
+      assertTrue(counts != null, "columnar key count for " + List.of(names));
+      Map<KeyValues, Long> expected = new java.util.HashMap<>();
+      org.apache.spark.sql.Column[] cols = new org.apache.spark.sql.Column[names.length];
+      for (int c = 0; c < names.length; c++) {
+        cols[c] = functions.col(names[c]).cast("string");
+      }
+      for (Row r : t.groupBy(cols).count().collectAsList()) {
+        List<String> texts = new ArrayList<>();
+        for (int c = 0; c < names.length; c++) {
+          texts.add(r.isNullAt(c) ? null : r.getString(c));
+        }
+        expected.put(new KeyValues(texts), r.getLong(names.length));
+      }
+      assertEquals(expected, new java.util.HashMap<>(counts), "counts per key of " + List.of(names));
+      if (names.length == 2) {
+        var pass = input.runKeyed("test/keyed", new SummaryAggregator<>(Moments.factory(D, true)), ReadMode.DROP,
+            BlockPrep.identity(), k, BLOCK);
+        assertEquals(counts.keySet(), pass.byKey().keySet(), "the keys the pass meets");
+        pass.byKey().forEach((key, p) -> assertEquals(counts.get(key), p.counts().rowsRead(), "rows of " + key));
+      }
+    }
   }
 }
