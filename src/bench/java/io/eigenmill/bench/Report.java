@@ -75,6 +75,40 @@ final class Report {
     }
   }
 
+  /**
+   * How this JVM's heap is paged, for the header (timings with and without huge pages differ by 2-3x here): the
+   * kernel's transparent-huge-page mode ({@code kernel}: always, madvise, never, or null when unknown) and whether the
+   * JVM asked for them ({@code -XX:+UseTransparentHugePages}, the last such flag winning, as the JVM reads them).
+   */
+  static String heapPages(List<String> jvmArguments, String kernel) {
+    boolean asked = false;
+    for (String a : jvmArguments) {
+      if (a.equals("-XX:+UseTransparentHugePages")) {
+        asked = true;
+      } else if (a.equals("-XX:-UseTransparentHugePages")) {
+        asked = false;
+      }
+    }
+    if (kernel == null) {
+      return asked ? "-XX:+UseTransparentHugePages, kernel mode unknown" : "default";
+    }
+    boolean huge = kernel.equals("always") || (kernel.equals("madvise") && asked);
+    return (huge ? "transparent huge pages" : "4 KiB pages") + " (kernel mode " + kernel
+        + (asked ? ", -XX:+UseTransparentHugePages" : "") + ")";
+  }
+
+  /** The bracketed mode of /sys/kernel/mm/transparent_hugepage/enabled, or null. */
+  static String kernelHugePages() {
+    try {
+      String s = Files.readString(Path.of("/sys/kernel/mm/transparent_hugepage/enabled"));
+      int a = s.indexOf('[');
+      int b = s.indexOf(']', a + 1);
+      return a >= 0 && b > a ? s.substring(a + 1, b) : null;
+    } catch (IOException | RuntimeException e) {
+      return null;
+    }
+  }
+
   /** The header lines every section starts with. */
   static List<String> header(Machine machine, BenchOptions options, String loadBefore, String loadAfter) {
     List<String> lines = new ArrayList<>();
@@ -82,8 +116,9 @@ final class Report {
         "yyyy-MM-dd HH:mm 'UTC'", Locale.ROOT)));
     lines.add("- machine: " + machine.describeHardware());
     lines.add("- Java: " + machine.java() + "; JVM heap (-Xmx) " + bytes(machine.maxHeapBytes())
-        + "; Spark " + io.eigenmill.Version.spark() + " (Scala " + io.eigenmill.Version.scala() + ") local["
-        + options.cores() + "]");
+        + "; heap pages: " + heapPages(java.lang.management.ManagementFactory.getRuntimeMXBean()
+        .getInputArguments(), kernelHugePages()) + "; Spark " + io.eigenmill.Version.spark() + " (Scala "
+        + io.eigenmill.Version.scala() + ") local[" + options.cores() + "]");
     lines.add("- BLAS/LAPACK: " + machine.blas());
     lines.add("- load average (1, 5, 15 min) at start: " + loadBefore + "; at end: " + loadAfter);
     lines.add("- command: `" + options.command() + "`");
