@@ -1,6 +1,7 @@
 package io.eigenmill.kmeans;
 
 import io.eigenmill.kmeans.math.NearestSearch;
+import io.eigenmill.plan.ClusterColumns;
 import java.util.ArrayList;
 import java.util.Arrays;
 import java.util.Iterator;
@@ -40,7 +41,7 @@ public final class NearestCentroid {
    */
   public static Dataset<Row> label(Dataset<Row> points, List<String> pointColumns, double[][] centroids) {
     List<String> names = Arrays.asList(points.columns());
-    for (String taken : List.of("cluster", "distance")) {
+    for (String taken : List.of(ClusterColumns.CLUSTER, ClusterColumns.DISTANCE)) {
       if (names.contains(taken)) {
         throw new IllegalArgumentException("the rows to label already have a column named " + taken
             + "; rename or drop it first");
@@ -95,10 +96,10 @@ public final class NearestCentroid {
     for (int l = 0; l < p; l++) {
       cols.add(functions.col(quoted(pointColumns.get(l))).cast("double").as("__eigenmill_point_" + l));
     }
-    fields.add(DataTypes.createStructField("cluster", DataTypes.IntegerType, true));
-    fields.add(DataTypes.createStructField("distance", DataTypes.DoubleType, true));
+    fields.add(DataTypes.createStructField(ClusterColumns.CLUSTER, DataTypes.IntegerType, true));
+    fields.add(DataTypes.createStructField(ClusterColumns.DISTANCE, DataTypes.DoubleType, true));
     if (second) {
-      fields.add(DataTypes.createStructField("second_distance", DataTypes.DoubleType, true));
+      fields.add(DataTypes.createStructField(ClusterColumns.SECOND_DISTANCE, DataTypes.DoubleType, true));
     }
     StructType out = DataTypes.createStructType(fields);
     return source.select(cols.toArray(new Column[0]))

@@ -3,6 +3,7 @@ package io.eigenmill.plan;
 import io.eigenmill.settings.Choices.ClusterSpace;
 import io.eigenmill.settings.JobSettings;
 import java.util.List;
+import java.util.Locale;
 import org.apache.spark.sql.types.ArrayType;
 import org.apache.spark.sql.types.DataType;
 import org.apache.spark.sql.types.MapType;
@@ -12,10 +13,20 @@ import org.apache.spark.sql.types.StructType;
  * The checks of {@code cluster.entity} against the input, made by the planner before any data is read: the column
  * exists, holds one value per row (not an array, map or struct), is among {@code features.keys} (the points of a
  * run carry the keys beside the scores or features) and is not itself clustered ({@code cluster.space = features}
- * with the entity among the features). Cost: a look at the schema.
+ * with the entity among the features); and no column the clustering carries has a name it writes after them
+ * ({@link #check}). Cost: a look at the schema.
  */
-final class ClusterColumns {
+public final class ClusterColumns {
   private ClusterColumns() {}
+
+  /** The nearest centroid's number, in clusters/assignments, labels/ and row-labels/. */
+  public static final String CLUSTER = "cluster";
+  /** The distance to the nearest centroid. */
+  public static final String DISTANCE = "distance";
+  /** The distance to the second nearest centroid (clusters/assignments). */
+  public static final String SECOND_DISTANCE = "second_distance";
+
+  private static final List<String> WRITTEN = List.of(CLUSTER, DISTANCE, SECOND_DISTANCE);
 
   /**
    * Adds one problem per broken rule to {@code problems}.
@@ -25,6 +36,7 @@ final class ClusterColumns {
    */
   static void check(JobSettings settings, StructType schema, List<String> keys, List<String> features,
       List<String> problems) {
+    checkCarried(settings, keys, problems);
     JobSettings.Cluster c = settings.cluster();
     String entity = c.entity();
     if (!c.enabled() || entity.isEmpty()) {
@@ -48,6 +60,42 @@ final class ClusterColumns {
     if (c.space() == ClusterSpace.FEATURES && features.contains(entity)) {
       problems.add(named + "is one of the clustered columns (cluster.space = features and " + entity + " is a"
           + " feature); remove it from features.columns or cluster another column");
+    }
+  }
+
+  /**
+   * The columns the clustering carries must not have a name it writes after them ({@link #CLUSTER},
+   * {@link #DISTANCE}, {@link #SECOND_DISTANCE}, in any case: Spark's names match without regard to case), or the
+   * table would hold two columns of one name and its write would fail after the fit's pass and the k-means runs.
+   * A fit's clusters/assignments carry the keys, or the entity alone ({@code cluster.entity}); labels/ and
+   * row-labels/ of {@code apply.centroids} carry the keys (with entity centroids labels/ carries the entity, but
+   * which entity is known only when the centroids are read, so every key is checked).
+   */
+  static void checkCarried(JobSettings settings, List<String> keys, List<String> problems) {
+    String rule = " writes " + String.join(", ", WRITTEN) + " after the columns it carries (names match in any case)";
+    JobSettings.Cluster c = settings.cluster();
+    if (c.enabled()) {
+      if (!c.entity().isEmpty()) {
+        if (WRITTEN.contains(c.entity().toLowerCase(Locale.ROOT))) {
+          problems.add("cluster.entity = " + c.entity() + ": the entity column has the name of a column that"
+              + " clusters/assignments" + rule + "; cluster a copy of it under another name");
+        }
+      } else {
+        for (String k : keys) {
+          if (WRITTEN.contains(k.toLowerCase(Locale.ROOT))) {
+            problems.add("features.keys: column " + k + " has the name of a column that clusters/assignments" + rule
+                + "; leave it out of features.keys or rename it in the input");
+          }
+        }
+      }
+    }
+    if (!settings.apply().centroids().isEmpty()) {
+      for (String k : keys) {
+        if (WRITTEN.contains(k.toLowerCase(Locale.ROOT))) {
+          problems.add("features.keys: column " + k + " has the name of a column that labels/ (apply.centroids)"
+              + rule + "; leave it out of features.keys or rename it in the input");
+        }
+      }
     }
   }
 }

@@ -118,6 +118,49 @@ class PlannerTest extends SparkSuite {
     assertEquals(List.of("cpu", "mem"), Planner.plan(spark, fitOnly).features());
   }
 
+  /**
+   * clusters/assignments carry the keys (or the entity alone) and labels/ the keys, then write cluster, distance and
+   * second_distance: a carried column of one of those names (any case) is refused before any work. (A key named
+   * distance failed after the fit's pass and the k-means runs: "fields should have distinct names", exit 1.)
+   */
+  @Test
+  void columnsThatTheClusteringCarriesCannotHaveTheNamesItWrites() throws Exception {
+    Path t = Files.createTempDirectory("eigenmill-cluster-names").resolve("t");
+    StructType schema = new StructType().add("Distance", DataTypes.StringType).add("host", DataTypes.StringType)
+        .add("cluster_of", DataTypes.StringType).add("cpu", DataTypes.DoubleType).add("mem", DataTypes.DoubleType);
+    List<Row> rows = new ArrayList<>();
+    for (int i = 0; i < 8; i++) {
+      rows.add(RowFactory.create("d" + i, "h" + (i % 3), "c" + i, i * 1.5, 40.0 + i * i));
+    }
+    spark.createDataFrame(rows, schema).write().parquet(t.toString());
+    String body = "input.path = \"" + t + "\"\noutput.path = \"/tmp/never\"\nfeatures.keys = [Distance, host, cluster_of]\n"
+        + "features.columns = [cpu, mem]\n";
+    String rule = "writes cluster, distance, second_distance after the columns it carries (names match in any case)";
+    JobSettings clustering = new SettingsReader().readString(body + "cluster.enabled = true\n", List.of(), "p.conf");
+    assertEquals(List.of("features.keys: column Distance has the name of a column that clusters/assignments " + rule
+        + "; leave it out of features.keys or rename it in the input"),
+        assertThrows(InvalidJobException.class, () -> Planner.plan(spark, clustering)).problems());
+    // by entity the assignments carry the entity alone: the other keys may have any name
+    JobSettings byHost = new SettingsReader().readString(body + "cluster.enabled = true\ncluster.entity = host\n",
+        List.of(), "p.conf");
+    assertEquals(List.of("cpu", "mem"), Planner.plan(spark, byHost).features());
+    JobSettings byDistance = new SettingsReader().readString(body
+        + "cluster.enabled = true\ncluster.entity = Distance\n", List.of(), "p.conf");
+    assertEquals(List.of("cluster.entity = Distance: the entity column has the name of a column that"
+        + " clusters/assignments " + rule + "; cluster a copy of it under another name"),
+        assertThrows(InvalidJobException.class, () -> Planner.plan(spark, byDistance)).problems());
+    // labels/ of apply.centroids carry the keys (the rule alone: an apply needs a stored model to plan)
+    JobSettings labelling = new SettingsReader().readString(body + "apply.model = \"/tmp/m\"\n"
+        + "apply.centroids = \"/tmp/c\"\n", List.of(), "p.conf");
+    List<String> problems = new ArrayList<>();
+    ClusterColumns.checkCarried(labelling, List.of("host", "SECOND_DISTANCE"), problems);
+    assertEquals(List.of("features.keys: column SECOND_DISTANCE has the name of a column that labels/"
+        + " (apply.centroids) " + rule + "; leave it out of features.keys or rename it in the input"), problems);
+    // without clustering the same columns are fine
+    assertEquals(List.of("cpu", "mem"), Planner.plan(spark, new SettingsReader().readString(body, List.of(),
+        "p.conf")).features());
+  }
+
   @Test
   void aGroupedPlanStatesWhereGroupsAreSolvedAndTheSnapshotSize() {
     JobSettings s = new SettingsReader().readString("input.path = \"" + table + "\"\noutput.path = \"/tmp/n\"\n"
