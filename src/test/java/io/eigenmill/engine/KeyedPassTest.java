@@ -111,32 +111,45 @@ class KeyedPassTest extends SparkSuite {
     spark.createDataFrame(rows, schema).coalesce(1).write().parquet(one);
     List<String> features = List.of("x0", "x1", "x2");
     KeyColumns grp = new KeyColumns(List.of("grp"), List.of("int"), spark.conf().get("spark.sql.session.timeZone"));
-    FeatureInput columnar = new FeatureInput(spark.read().parquet(one), features, BLOCK);
-    assertTrue(columnar.columnar());
-    var held = columnar.runKeyed("test/held", new SummaryAggregator<>(Moments.factory(3, true)), ReadMode.DROP,
-        BlockPrep.identity(), grp, BLOCK);
-    // the row reader (Spark's vectorized Parquet reader off) copies row by row into the same blocks
-    spark.conf().set("spark.sql.parquet.enableVectorizedReader", "false");
-    try {
-      FeatureInput rowInput = new FeatureInput(spark.read().parquet(one), features, BLOCK);
-      assertTrue(!rowInput.columnar());
-      var byRow = rowInput.runKeyed("test/held-rows", new SummaryAggregator<>(Moments.factory(3, true)),
-          ReadMode.DROP, BlockPrep.identity(), grp, BLOCK);
-      assertEquals(500, held.byKey().size());
-      assertEquals(byRow.byKey().keySet(), held.byKey().keySet());
-      for (KeyValues k : held.byKey().keySet()) {
-        assertArrayEquals(byRow.byKey().get(k).value().toBytes(), held.byKey().get(k).value().toBytes(),
-            "group " + k);
-        assertArrayEquals(byRow.byKey().get(k).counts().missingCells(),
-            held.byKey().get(k).counts().missingCells(), "group " + k);
-      }
-    } finally {
-      spark.conf().unset("spark.sql.parquet.enableVectorizedReader");
-    }
+    var held = columnarEqualsRowReader(one, features, grp, 500);
     // and the run's key against an unkeyed pass over its rows alone
     PartialResult<Moments> alone = new FeatureInput(spark.read().parquet(one).where("grp = 7"), features, BLOCK)
         .run("test/held-alone", Moments.factory(3, true), ReadMode.DROP, BlockPrep.identity());
     assertArrayEquals(alone.value().toBytes(), held.byKey().get(new KeyValues(List.of("7"))).value().toBytes());
+  }
+
+  /**
+   * The keyed pass over the columnar batches of the table at {@code path} against the row reader (Spark's vectorized
+   * Parquet reader off: rows copied one by one into the same blocks): the same keys ({@code keys} of them), and per
+   * key the same summary bit for bit, the same missing cells and dropped rows. Returns the columnar result.
+   */
+  private static FeatureInput.KeyedResult<Moments> columnarEqualsRowReader(String path, List<String> features,
+      KeyColumns grp, int keys) {
+    int d = features.size();
+    FeatureInput columnar = new FeatureInput(spark.read().parquet(path), features, BLOCK);
+    assertTrue(columnar.columnar());
+    var byBatch = columnar.runKeyed("test/batches", new SummaryAggregator<>(Moments.factory(d, true)),
+        ReadMode.DROP, BlockPrep.identity(), grp, BLOCK);
+    assertEquals(keys, byBatch.byKey().size());
+    spark.conf().set("spark.sql.parquet.enableVectorizedReader", "false");
+    try {
+      FeatureInput rowInput = new FeatureInput(spark.read().parquet(path), features, BLOCK);
+      assertTrue(!rowInput.columnar());
+      var byRow = rowInput.runKeyed("test/rows", new SummaryAggregator<>(Moments.factory(d, true)),
+          ReadMode.DROP, BlockPrep.identity(), grp, BLOCK);
+      assertEquals(byRow.byKey().keySet(), byBatch.byKey().keySet());
+      for (KeyValues k : byBatch.byKey().keySet()) {
+        assertArrayEquals(byRow.byKey().get(k).value().toBytes(), byBatch.byKey().get(k).value().toBytes(),
+            "group " + k);
+        assertArrayEquals(byRow.byKey().get(k).counts().missingCells(),
+            byBatch.byKey().get(k).counts().missingCells(), "group " + k);
+        assertEquals(byRow.byKey().get(k).counts().rowsDropped(), byBatch.byKey().get(k).counts().rowsDropped(),
+            "group " + k);
+      }
+    } finally {
+      spark.conf().unset("spark.sql.parquet.enableVectorizedReader");
+    }
+    return byBatch;
   }
 
   @Test
@@ -158,37 +171,17 @@ class KeyedPassTest extends SparkSuite {
     String one = tmp.resolve("few").toString();
     spark.createDataFrame(rows, schema).coalesce(1).write().parquet(one);
     List<String> features = List.of("x0", "x1", "x2");
-    KeyColumns grp = new KeyColumns(List.of("grp"), List.of("string"), spark.conf().get("spark.sql.session.timeZone"));
-    FeatureInput columnar = new FeatureInput(spark.read().parquet(one), features, BLOCK);
-    assertTrue(columnar.columnar());
-    var direct = columnar.runKeyed("test/few", new SummaryAggregator<>(Moments.factory(3, true)), ReadMode.DROP,
-        BlockPrep.identity(), grp, BLOCK);
-    assertEquals(5, direct.byKey().size());
-    spark.conf().set("spark.sql.parquet.enableVectorizedReader", "false");
-    try {
-      FeatureInput rowInput = new FeatureInput(spark.read().parquet(one), features, BLOCK);
-      assertTrue(!rowInput.columnar());
-      var byRow = rowInput.runKeyed("test/few-rows", new SummaryAggregator<>(Moments.factory(3, true)),
-          ReadMode.DROP, BlockPrep.identity(), grp, BLOCK);
-      assertEquals(byRow.byKey().keySet(), direct.byKey().keySet());
-      for (KeyValues k : direct.byKey().keySet()) {
-        assertArrayEquals(byRow.byKey().get(k).value().toBytes(), direct.byKey().get(k).value().toBytes(),
-            "group " + k);
-        assertArrayEquals(byRow.byKey().get(k).counts().missingCells(),
-            direct.byKey().get(k).counts().missingCells(), "group " + k);
-        assertEquals(byRow.byKey().get(k).counts().rowsDropped(), direct.byKey().get(k).counts().rowsDropped());
-      }
-    } finally {
-      spark.conf().unset("spark.sql.parquet.enableVectorizedReader");
-    }
+    KeyColumns grp = new KeyColumns(List.of("grp"), List.of("string"),
+        spark.conf().get("spark.sql.session.timeZone"));
+    var keyed = columnarEqualsRowReader(one, features, grp, 5);
     long missing = 0;
     for (int g = 0; g < 5; g++) {
       PartialResult<Moments> alone = new FeatureInput(spark.read().parquet(one).where("grp = 'k" + g + "'"),
           features, BLOCK).run("test/few-alone", Moments.factory(3, true), ReadMode.DROP, BlockPrep.identity());
-      PartialResult<Moments> keyed = direct.byKey().get(new KeyValues(List.of("k" + g)));
-      assertArrayEquals(alone.value().toBytes(), keyed.value().toBytes(), "group k" + g);
-      assertArrayEquals(alone.counts().missingCells(), keyed.counts().missingCells(), "group k" + g);
-      missing += keyed.counts().missingCells()[0];
+      PartialResult<Moments> part = keyed.byKey().get(new KeyValues(List.of("k" + g)));
+      assertArrayEquals(alone.value().toBytes(), part.value().toBytes(), "group k" + g);
+      assertArrayEquals(alone.counts().missingCells(), part.counts().missingCells(), "group k" + g);
+      missing += part.counts().missingCells()[0];
     }
     assertTrue(missing > 0, "x0 has NaN and infinite cells");
   }

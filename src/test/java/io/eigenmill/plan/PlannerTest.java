@@ -133,8 +133,8 @@ class PlannerTest extends SparkSuite {
       rows.add(RowFactory.create("d" + i, "h" + (i % 3), "c" + i, i * 1.5, 40.0 + i * i));
     }
     spark.createDataFrame(rows, schema).write().parquet(t.toString());
-    String body = "input.path = \"" + t + "\"\noutput.path = \"/tmp/never\"\nfeatures.keys = [Distance, host, cluster_of]\n"
-        + "features.columns = [cpu, mem]\n";
+    String body = "input.path = \"" + t + "\"\noutput.path = \"/tmp/never\"\n"
+        + "features.keys = [Distance, host, cluster_of]\nfeatures.columns = [cpu, mem]\n";
     String rule = "writes cluster, distance, second_distance after the columns it carries (names match in any case)";
     JobSettings clustering = new SettingsReader().readString(body + "cluster.enabled = true\n", List.of(), "p.conf");
     assertEquals(List.of("features.keys: column Distance has the name of a column that clusters/assignments " + rule
