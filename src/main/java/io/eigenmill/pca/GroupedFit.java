@@ -166,9 +166,9 @@ final class GroupedFit {
 
   /**
    * Rows per group where the group columns have no columnar scan ({@link FeatureInput#countKeys} otherwise), from a
-   * Spark aggregation over the group columns, each group's values then cast to text (the keys'
-   * text). Grouping the columns as they are, not their text, spares a cast and a string hash per row; Spark's
-   * grouping treats -0.0 and 0.0 as one value, as the keyed pass does.
+   * Spark aggregation over the group columns, each group's values then cast to text (the keys' text). Grouping the
+   * columns as they are, not their text, spares a cast and a string hash per row; Spark's grouping treats -0.0 and
+   * 0.0 as one value, as the keyed pass does.
    */
   private static Map<KeyValues, Long> countRows(Dataset<Row> table, GroupPlan plan) {
     List<Column> raw = new ArrayList<>();

@@ -14,7 +14,7 @@ import org.apache.spark.sql.types.StructType;
  * exists, holds one value per row (not an array, map or struct), is among {@code features.keys} (the points of a
  * run carry the keys beside the scores or features) and is not itself clustered ({@code cluster.space = features}
  * with the entity among the features); and no column the clustering carries has a name it writes after them
- * ({@link #check}). Cost: a look at the schema.
+ * ({@link #checkCarried}). Cost: a look at the schema.
  */
 public final class ClusterColumns {
   private ClusterColumns() {}
