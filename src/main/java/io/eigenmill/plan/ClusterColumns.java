@@ -74,28 +74,19 @@ public final class ClusterColumns {
   static void checkCarried(JobSettings settings, List<String> keys, List<String> problems) {
     String rule = " writes " + String.join(", ", WRITTEN) + " after the columns it carries (names match in any case)";
     JobSettings.Cluster c = settings.cluster();
-    if (c.enabled()) {
-      if (!c.entity().isEmpty()) {
-        if (WRITTEN.contains(c.entity().toLowerCase(Locale.ROOT))) {
-          problems.add("cluster.entity = " + c.entity() + ": the entity column has the name of a column that"
-              + " clusters/assignments" + rule + "; cluster a copy of it under another name");
-        }
-      } else {
-        for (String k : keys) {
-          if (WRITTEN.contains(k.toLowerCase(Locale.ROOT))) {
-            problems.add("features.keys: column " + k + " has the name of a column that clusters/assignments" + rule
-                + "; leave it out of features.keys or rename it in the input");
-          }
-        }
-      }
+    if (c.enabled() && !c.entity().isEmpty() && written(c.entity())) {
+      problems.add("cluster.entity = " + c.entity() + ": the entity column has the name of a column that"
+          + " clusters/assignments" + rule + "; cluster a copy of it under another name");
+    } else if (c.enabled() && c.entity().isEmpty()) {
+      ScoreColumns.refuseKeys(keys, ClusterColumns::written, "clusters/assignments" + rule, problems);
     }
     if (!settings.apply().centroids().isEmpty()) {
-      for (String k : keys) {
-        if (WRITTEN.contains(k.toLowerCase(Locale.ROOT))) {
-          problems.add("features.keys: column " + k + " has the name of a column that labels/ (apply.centroids)"
-              + rule + "; leave it out of features.keys or rename it in the input");
-        }
-      }
+      ScoreColumns.refuseKeys(keys, ClusterColumns::written, "labels/ (apply.centroids)" + rule, problems);
     }
+  }
+
+  /** Whether the clustering writes a column named {@code name} (any case). */
+  private static boolean written(String name) {
+    return WRITTEN.contains(name.toLowerCase(Locale.ROOT));
   }
 }

@@ -45,12 +45,7 @@ public final class ScoreColumns {
     }
     String rule = "scores/ writes pc_1, pc_2, ... (one per component), t2, q, flag_t2 and flag_q after the columns it"
         + " carries";
-    for (String k : keys) {
-      if (taken(k)) {
-        problems.add("features.keys: column " + k + " has the name of a column that " + rule
-            + "; leave it out of features.keys or rename it in the input");
-      }
-    }
+    refuseKeys(keys, ScoreColumns::taken, rule, problems);
     if (settings.reduce().grouped()) {
       for (String g : settings.reduce().groupBy()) {
         if (taken(g)) {
@@ -63,6 +58,21 @@ public final class ScoreColumns {
       if (taken(p) && !keys.contains(p)) {
         problems.add("input.path: partition column " + p + " has the name of a column that " + rule
             + " (the input's partition columns among them); rename the partition column");
+      }
+    }
+  }
+
+  /**
+   * Adds a problem for each key that {@code taken} says a table writes after the columns it carries, the table and
+   * its names told by {@code rule} ("scores/ writes ..."); shared by the scores' check and the clustering's
+   * ({@link ClusterColumns#checkCarried}).
+   */
+  static void refuseKeys(List<String> keys, java.util.function.Predicate<String> taken, String rule,
+      List<String> problems) {
+    for (String k : keys) {
+      if (taken.test(k)) {
+        problems.add("features.keys: column " + k + " has the name of a column that " + rule
+            + "; leave it out of features.keys or rename it in the input");
       }
     }
   }
