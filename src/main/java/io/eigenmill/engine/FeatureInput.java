@@ -48,8 +48,7 @@ public final class FeatureInput {
     this.splitBytes = splitBytes;
     this.features = List.copyOf(features);
     this.blockRows = blockRows;
-    Column[] cols = features.stream().map(functions::col).toArray(Column[]::new);
-    ColumnarScan scan = ColumnarScan.of(table.select(cols));
+    ColumnarScan scan = ColumnarScan.select(table, features);
     int[] ord = scan == null ? null : scan.ordinals(features);
     this.columnarScan = ord == null ? null : scan;
     this.ordinals = ord;
@@ -234,8 +233,7 @@ public final class FeatureInput {
     if (!columnar()) {
       return null;
     }
-    ColumnarScan scan = ColumnarScan.of(table.select(keys.names().stream().map(functions::col)
-        .toArray(Column[]::new)));
+    ColumnarScan scan = ColumnarScan.select(table, keys.names());
     int[] keyOrdinals = scan == null ? null : scan.ordinals(keys.names());
     if (keyOrdinals == null) {
       return null;
@@ -255,10 +253,9 @@ public final class FeatureInput {
     if (!columnar()) {
       return null;
     }
-    List<Column> cols = new ArrayList<>();
-    features.forEach(f -> cols.add(functions.col(f)));
-    keys.names().forEach(k -> cols.add(functions.col(k)));
-    ColumnarScan scan = ColumnarScan.of(table.select(cols.toArray(Column[]::new)));
+    List<String> cols = new ArrayList<>(features);
+    cols.addAll(keys.names());
+    ColumnarScan scan = ColumnarScan.select(table, cols);
     return scan != null && scan.ordinals(features) != null && scan.ordinals(keys.names()) != null ? scan : null;
   }
 

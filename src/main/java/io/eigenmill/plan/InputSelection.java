@@ -7,7 +7,6 @@ import java.util.LinkedHashSet;
 import java.util.List;
 import java.util.Set;
 import org.apache.hadoop.fs.Path;
-import org.apache.spark.sql.Column;
 import org.apache.spark.sql.Dataset;
 import org.apache.spark.sql.Row;
 import org.apache.spark.sql.catalyst.expressions.Attribute;
@@ -86,9 +85,8 @@ public record InputSelection(
         dataColumns.add(a.name());
       }
     }
-    Column[] cols = features.stream().map(functions::col).toArray(Column[]::new);
-    boolean columnar = cols.length > 0 && ColumnarScan.of(filtered.select(cols)) != null;
-    boolean columnarUnfiltered = cols.length > 0 && ColumnarScan.of(table.select(cols)) != null;
+    boolean columnar = !features.isEmpty() && ColumnarScan.select(filtered, features) != null;
+    boolean columnarUnfiltered = !features.isEmpty() && ColumnarScan.select(table, features) != null;
     return new InputSelection(where, List.copyOf(partitions), totalPartitions, List.copyOf(files), totalFiles,
         List.copyOf(dataColumns), columnar, columnarUnfiltered);
   }

@@ -48,10 +48,9 @@ public record TableRead(String table, String asOf, String provider, long snapsho
         rows = snapshot.isNullAt(2) ? -1 : parseOr(snapshot.getString(2));
       }
     }
-    Column[] cols = features.stream().map(functions::col).toArray(Column[]::new);
-    Dataset<Row> selection = kept.select(cols);
-    boolean columnar = cols.length > 0 && ColumnarScan.of(selection) != null;
-    String reason = columnar ? "" : cols.length == 0 ? "no feature column" : rowsReason(selection, input);
+    boolean columnar = !features.isEmpty() && ColumnarScan.select(kept, features) != null;
+    String reason = columnar ? "" : features.isEmpty() ? "no feature column" : rowsReason(kept.select(
+        features.stream().map(functions::col).toArray(Column[]::new)), input);
     return new TableRead(name, input.asOf().strip(), provider, id, time, rows,
         CatalogTable.partitioning(spark, name), columnar, reason);
   }

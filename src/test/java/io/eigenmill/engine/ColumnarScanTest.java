@@ -3,6 +3,7 @@ package io.eigenmill.engine;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertNotNull;
+import static org.junit.jupiter.api.Assertions.assertNull;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import io.eigenmill.testing.LoopbackCluster;
@@ -10,6 +11,7 @@ import io.eigenmill.testing.SparkSuite;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
+import java.util.Arrays;
 import java.util.List;
 import org.apache.spark.api.java.JavaRDD;
 import org.apache.spark.sql.Column;
@@ -112,6 +114,59 @@ class ColumnarScanTest extends SparkSuite {
     } finally {
       spark.conf().set(ColumnarScan.MAX_FIELDS_KEY, before);
     }
+  }
+
+  /**
+   * {@code select} plans a selection without making it a Dataset: it must find the scan {@code of(table.select)}
+   * finds, with the same columns at the same positions and the same values read, for columns in another order than
+   * the table's; fall back to Spark's resolution for a name spelled in another case (Spark resolves names without
+   * case by default, spark.sql.caseSensitive = false); and find no columnar scan where Spark's selection has none (a
+   * computed column, a filter on a data column).
+   */
+  @Test
+  void aSelectionPlannedWithoutADatasetFindsTheSameScan() {
+    Dataset<Row> table = spark.read().parquet(dir.resolve("t").toString());
+    List<String> cols = List.of("c5", "c0", "c3");
+    ColumnarScan direct = ColumnarScan.select(table, cols);
+    ColumnarScan viaDataset = ColumnarScan.of(table.select(cols.stream().map(functions::col).toArray(Column[]::new)));
+    assertNotNull(direct);
+    assertNotNull(viaDataset);
+    int[] at = direct.ordinals(cols);
+    int[] atDataset = viaDataset.ordinals(cols);
+    assertNotNull(at);
+    assertEquals(Arrays.toString(at), Arrays.toString(atDataset));
+    assertEquals(Arrays.toString(sums(direct, at)), Arrays.toString(sums(viaDataset, atDataset)),
+        "the same values, summed in the same order");
+
+    ColumnarScan otherCase = ColumnarScan.select(table, List.of("C5", "c0"));
+    assertNotNull(otherCase, "a name in another case takes Spark's resolution");
+    assertNotNull(otherCase.ordinals(List.of("c5", "c0")), "the scan carries the table's spelling");
+
+    Dataset<Row> computed = table.withColumn("twice", functions.col("c1").multiply(2));
+    assertNull(ColumnarScan.select(computed, List.of("twice", "c0")));
+    assertNull(ColumnarScan.of(computed.select("twice", "c0")));
+    Dataset<Row> filtered = table.where("c2 > 0.5");
+    assertNull(ColumnarScan.select(filtered, List.of("c0")));
+    assertNull(ColumnarScan.of(filtered.select("c0")));
+  }
+
+  /** The sum of each column at {@code at}, over every batch of the scan in its order. */
+  private static double[] sums(ColumnarScan scan, int[] at) {
+    return scan.batches().map(b -> {
+      double[] s = new double[at.length];
+      for (int j = 0; j < at.length; j++) {
+        for (int r = 0; r < b.numRows(); r++) {
+          s[j] += b.column(at[j]).getDouble(r);
+        }
+      }
+      return s;
+    }).collect().stream().reduce(new double[at.length], (x, y) -> {
+      double[] z = x.clone();
+      for (int j = 0; j < z.length; j++) {
+        z[j] += y[j];
+      }
+      return z;
+    });
   }
 
   /** Spark's own split count for the plan of {@code frame}. */

@@ -9,8 +9,11 @@ import org.apache.spark.sql.Dataset;
 import org.apache.spark.sql.Row;
 import org.apache.spark.sql.SparkSession;
 import org.apache.spark.sql.catalyst.InternalRow;
+import org.apache.spark.sql.catalyst.plans.logical.LogicalPlan;
+import org.apache.spark.sql.execution.CommandExecutionMode;
 import org.apache.spark.sql.execution.FileSourceScanExec;
 import org.apache.spark.sql.execution.ListingPartition;
+import org.apache.spark.sql.execution.QueryExecution;
 import org.apache.spark.sql.execution.datasources.FileStatusWithMetadata;
 import org.apache.spark.sql.types.StructType;
 import scala.collection.JavaConverters;
@@ -67,5 +70,13 @@ public final class SparkLine {
       out.add(files);
     }
     return out;
+  }
+
+  /**
+   * The query execution of a logical plan the caller built ({@code sessionState().executePlan}, private[sql] in Scala,
+   * hence public in the bytecode), without the Dataset that would wrap it: no row encoder is built.
+   */
+  public static QueryExecution executePlan(SparkSession session, LogicalPlan plan) {
+    return classic(session).sessionState().executePlan(plan, CommandExecutionMode.ALL());
   }
 }
