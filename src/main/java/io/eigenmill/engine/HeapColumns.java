@@ -11,7 +11,7 @@ import org.apache.spark.sql.vectorized.ColumnVector;
  * keeps the array in a private field of {@code OnHeapColumnVector} ({@code doubleData}, read through a
  * {@link VarHandle}); when the field is not there (another Spark version), the vector is of another kind (off-heap,
  * a cached table's), or it holds dictionary codes instead of values, {@link #doubles} returns null and readers take
- * the values one by one as before.
+ * the values one by one as before. The kept batches of a multi-pass fit ({@link KeptColumn}) expose their array too.
  */
 final class HeapColumns {
   private static final VarHandle DOUBLES = find();
@@ -33,14 +33,22 @@ final class HeapColumns {
   }
 
   /**
-   * The values of {@code v}, row r at index r, when it is an on-heap vector of doubles without a dictionary; null
-   * otherwise.
+   * The values of {@code v}, row r at index {@link #start}(v) + r, when it is an on-heap vector of doubles without a
+   * dictionary or a kept column ({@link KeptColumn}); null otherwise.
    */
   static double[] doubles(ColumnVector v) {
+    if (v.getClass() == KeptColumn.class) {
+      return ((KeptColumn) v).values();
+    }
     if (DOUBLES == null || v.getClass() != OnHeapColumnVector.class) {
       return null;
     }
     OnHeapColumnVector heap = (OnHeapColumnVector) v;
     return heap.hasDictionary() ? null : (double[]) DOUBLES.get(heap);
+  }
+
+  /** The index of row 0 in the array {@link #doubles} returns: 0 but for a kept column. */
+  static int start(ColumnVector v) {
+    return v.getClass() == KeptColumn.class ? ((KeptColumn) v).start() : 0;
   }
 }

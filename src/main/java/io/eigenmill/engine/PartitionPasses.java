@@ -124,6 +124,7 @@ public final class PartitionPasses {
     double[] origin = sink.origin();
     double o = origin == null ? 0.0 : origin[j];
     double[] heap = kind == DOUBLE ? HeapColumns.doubles(v) : null;
+    int s0 = heap == null ? 0 : HeapColumns.start(v);
     boolean nulls = v.hasNull();
     for (int i = 0; i < t; i++) {
       int r = rows[from + i];
@@ -131,7 +132,7 @@ public final class PartitionPasses {
         sink.markMissing(i, j);
         continue;
       }
-      double x = heap != null ? heap[r] : kind == DOUBLE ? v.getDouble(r) : kind == FLOAT ? v.getFloat(r)
+      double x = heap != null ? heap[s0 + r] : kind == DOUBLE ? v.getDouble(r) : kind == FLOAT ? v.getFloat(r)
           : exactValue(v, kind, r);
       dst[off + i] = x - o;
       if (x - x != 0.0) {
@@ -220,7 +221,7 @@ public final class PartitionPasses {
   private static boolean copyFloating(ColumnVector v, int kind, int start, int t, double[] dst, int off, double o) {
     double[] values = kind == DOUBLE ? HeapColumns.doubles(v) : null;
     if (values != null) {
-      return COPY.copy(values, start, dst, off, t, o);
+      return COPY.copy(values, HeapColumns.start(v) + start, dst, off, t, o);
     }
     boolean nulls = v.hasNull();
     for (int i = 0; i < t; i++) {

@@ -8,7 +8,7 @@ import org.apache.spark.sql.SparkSession;
 
 /**
  * Whether a multi-pass fit keeps its features in executor memory after the first pass ({@link KeptBatches}): kept
- * when the estimate, {@value KeptBatches#BYTES_PER_CELL} bytes per cell (the double and its null flag), is at most
+ * when the estimate, {@value KeptBatches#BYTES_PER_CELL} bytes per cell (a double; a null is kept as NaN), is at most
  * {@value #SHARE_PERCENT}% of the storage memory the executors have free; otherwise the passes stream, and the plan's
  * note and the fit's log say why. The planner and the fit ask the same question, each at its own time.
  */

@@ -3,6 +3,8 @@ package io.eigenmill.engine;
 import static org.junit.jupiter.api.Assertions.assertArrayEquals;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertFalse;
+import static org.junit.jupiter.api.Assertions.assertNotSame;
+import static org.junit.jupiter.api.Assertions.assertSame;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import io.eigenmill.math.BlockPrep;
@@ -18,8 +20,11 @@ import java.util.SplittableRandom;
 import java.util.stream.Stream;
 import org.apache.spark.sql.Row;
 import org.apache.spark.sql.RowFactory;
+import org.apache.spark.sql.execution.vectorized.OnHeapColumnVector;
 import org.apache.spark.sql.types.DataTypes;
 import org.apache.spark.sql.types.StructType;
+import org.apache.spark.sql.vectorized.ColumnVector;
+import org.apache.spark.sql.vectorized.ColumnarBatch;
 import org.junit.jupiter.api.Test;
 
 /**
@@ -79,5 +84,56 @@ class KeptBatchesTest extends SparkSuite {
     }
     assertEquals(dropped, fromMemory.counts().rowsDropped());
     input.release();
+  }
+
+  /**
+   * The kept copy of one batch, cell by cell, with two columns per shared array (five columns: three arrays): a null
+   * cell is NaN and no kept column reports a null, a double is the same bits, a float, an int and a long are widened
+   * exactly (Java's widening conversions, JLS 5.1.2), and the batch's columns after the kept ones are not copied.
+   */
+  @Test
+  void aKeptBatchSharesArraysAndKeepsNullsAsNaN() {
+    int n = 7;
+    OnHeapColumnVector a = new OnHeapColumnVector(n, DataTypes.DoubleType);
+    OnHeapColumnVector b = new OnHeapColumnVector(n, DataTypes.FloatType);
+    OnHeapColumnVector c = new OnHeapColumnVector(n, DataTypes.IntegerType);
+    OnHeapColumnVector e = new OnHeapColumnVector(n, DataTypes.LongType);
+    OnHeapColumnVector f = new OnHeapColumnVector(n, DataTypes.DoubleType);
+    OnHeapColumnVector unused = new OnHeapColumnVector(n, DataTypes.DoubleType);
+    for (int r = 0; r < n; r++) {
+      if (r == 2) {
+        a.putNull(r);
+        c.putNull(r);
+      } else {
+        a.putDouble(r, r == 4 ? Double.NaN : 0.1 * r - 1e300 * (r == 5 ? 1 : 0));
+        c.putInt(r, Integer.MIN_VALUE + r);
+      }
+      b.putFloat(r, 1.1f * r);
+      e.putLong(r, (1L << 53) + 1 + r);
+      f.putDouble(r, -r);
+      unused.putDouble(r, 99);
+    }
+    ColumnarBatch batch = new ColumnarBatch(new ColumnVector[] {unused, a, b, c, e, f}, n);
+    int[] ordinals = {1, 2, 3, 4, 5};
+    int[] kinds = {ValueKinds.DOUBLE, ValueKinds.FLOAT, ValueKinds.INT, ValueKinds.LONG, ValueKinds.DOUBLE};
+    ColumnarBatch kept = KeptBatches.copy(batch, ordinals, kinds, 2L * n);
+    assertEquals(n, kept.numRows());
+    assertEquals(5, kept.numCols());
+    for (int j = 0; j < 5; j++) {
+      ColumnVector k = kept.column(j);
+      assertFalse(k.hasNull());
+      assertEquals(0, k.numNulls());
+      assertSame(HeapColumns.doubles(kept.column(2 * (j / 2))), HeapColumns.doubles(k), "column " + j);
+      assertEquals((j % 2) * n, HeapColumns.start(k), "column " + j);
+      for (int r = 0; r < n; r++) {
+        ColumnVector v = batch.column(ordinals[j]);
+        double expected = v.isNullAt(r) ? Double.NaN : j == 1 ? (double) v.getFloat(r) : j == 2 ? (double) v.getInt(r)
+            : j == 3 ? (double) v.getLong(r) : v.getDouble(r);
+        assertEquals(Double.doubleToRawLongBits(expected), Double.doubleToRawLongBits(k.getDouble(r)),
+            "column " + j + " row " + r);
+      }
+    }
+    assertNotSame(HeapColumns.doubles(kept.column(0)), HeapColumns.doubles(kept.column(2)));
+    assertNotSame(HeapColumns.doubles(kept.column(2)), HeapColumns.doubles(kept.column(4)));
   }
 }

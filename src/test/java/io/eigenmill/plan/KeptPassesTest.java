@@ -9,7 +9,7 @@ import io.eigenmill.testing.SparkSuite;
 import org.junit.jupiter.api.Test;
 
 /**
- * Whether a multi-pass fit keeps its features in memory: by the rule's own arithmetic, 9 bytes a cell against 80% of
+ * Whether a multi-pass fit keeps its features in memory: by the rule's own arithmetic, 8 bytes a cell against 80% of
  * the free storage memory Spark's status tracker reports (common practice, no source: a memory budget with headroom).
  */
 class KeptPassesTest extends SparkSuite {
