@@ -20,9 +20,10 @@ import javax.management.openmbean.CompositeData;
 /**
  * The peak heap in use while it watches, from two sources: the heap in use just before every garbage collection (the
  * exact local maxima, from the collectors' notifications) and a sample of the heap in use every
- * {@link #SAMPLE_MILLIS} ms (for a peak that no collection followed). It counts garbage not yet collected: with G1,
- * which lets the old generation fill before it marks, a job that allocates fast shows a peak near the maximum heap
- * whatever it keeps alive. In local mode the executors run in the driver's JVM, so this is the whole job's heap.
+ * {@link #SAMPLE_MILLIS} ms (for a peak that no collection followed). It counts garbage not yet collected: both
+ * collectors measured here (G1 and the parallel one) let the old generation fill before they collect it, so a job
+ * that allocates fast shows a peak near the maximum heap whatever it keeps alive. In local mode the executors run in
+ * the driver's JVM, so this is the whole job's heap.
  */
 final class HeapWatch implements AutoCloseable {
   static final long SAMPLE_MILLIS = 10;

@@ -1,7 +1,9 @@
 package io.eigenmill.bench;
 
+import com.sun.management.HotSpotDiagnosticMXBean;
 import io.eigenmill.math.Linalg;
 import java.io.IOException;
+import java.lang.management.ManagementFactory;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.List;
@@ -16,7 +18,20 @@ public record Machine(int cores, long memoryBytes, String cpu, String java, Stri
   public static Machine describe() {
     return new Machine(Runtime.getRuntime().availableProcessors(), totalMemory(), cpuModel(),
         System.getProperty("java.vm.name") + " " + System.getProperty("java.runtime.version"), Linalg.describe(),
-        Runtime.getRuntime().maxMemory());
+        maxHeap());
+  }
+
+  /**
+   * The heap's maximum as the JVM was given it ({@code MaxHeapSize}, which -Xmx sets). Under the parallel collector
+   * {@code Runtime.maxMemory()} reads below it (7.1 GiB for -Xmx8g here), so that is the fallback only.
+   */
+  static long maxHeap() {
+    try {
+      return Long.parseLong(ManagementFactory.getPlatformMXBean(HotSpotDiagnosticMXBean.class)
+          .getVMOption("MaxHeapSize").getValue());
+    } catch (RuntimeException e) {
+      return Runtime.getRuntime().maxMemory();
+    }
   }
 
   /** The 1, 5 and 15 minute load averages now, or "unknown". */

@@ -97,6 +97,30 @@ final class Report {
         + (asked ? ", -XX:+UseTransparentHugePages" : "") + ")";
   }
 
+  /**
+   * The collector named by this JVM's collector beans ({@code GarbageCollectorMXBean} names): parallel, G1, serial,
+   * Z or Shenandoah, else the names themselves.
+   */
+  static String collector(List<String> beanNames) {
+    String all = String.join("; ", beanNames);
+    if (beanNames.contains("PS Scavenge") || beanNames.contains("PS MarkSweep")) {
+      return "parallel";
+    }
+    if (all.startsWith("G1 ")) {
+      return "G1";
+    }
+    if (beanNames.contains("Copy") || beanNames.contains("MarkSweepCompact")) {
+      return "serial";
+    }
+    if (all.startsWith("ZGC")) {
+      return "Z";
+    }
+    if (all.startsWith("Shenandoah")) {
+      return "Shenandoah";
+    }
+    return all.isEmpty() ? "unknown" : all;
+  }
+
   /** The bracketed mode of /sys/kernel/mm/transparent_hugepage/enabled, or null. */
   static String kernelHugePages() {
     try {
@@ -117,7 +141,9 @@ final class Report {
     lines.add("- machine: " + machine.describeHardware());
     lines.add("- Java: " + machine.java() + "; JVM heap (-Xmx) " + bytes(machine.maxHeapBytes())
         + "; heap pages: " + heapPages(java.lang.management.ManagementFactory.getRuntimeMXBean()
-        .getInputArguments(), kernelHugePages()) + "; Spark " + io.eigenmill.Version.spark() + " (Scala "
+        .getInputArguments(), kernelHugePages()) + "; collector: " + collector(
+        java.lang.management.ManagementFactory.getGarbageCollectorMXBeans().stream()
+            .map(java.lang.management.GarbageCollectorMXBean::getName).toList()) + "; Spark " + io.eigenmill.Version.spark() + " (Scala "
         + io.eigenmill.Version.scala() + ") local[" + options.cores() + "]");
     lines.add("- BLAS/LAPACK: " + machine.blas());
     lines.add("- load average (1, 5, 15 min) at start: " + loadBefore + "; at end: " + loadAfter);

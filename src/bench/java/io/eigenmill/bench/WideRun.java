@@ -152,7 +152,7 @@ final class WideRun {
       }
       FitResult last = (FitResult) timed.get(0).last();
       return new WideResult(c, table, timed.get(0).timing(), timed.get(1).timing(), defaultFloor, heap.peakBytes(),
-          Runtime.getRuntime().maxMemory(), allocations, square, first.columnarRead(), first.passes(),
+          Machine.maxHeap(), allocations, square, first.columnarRead(), first.passes(),
           plan.memory().describe(), last.timings(), splits);
     }
   }
@@ -164,12 +164,12 @@ final class WideRun {
   static String render(List<WideResult> results, List<String> header) {
     StringBuilder s = new StringBuilder("## Wide tables\n\n");
     header.forEach(h -> s.append(h).append('\n'));
-    long max = results.isEmpty() ? Runtime.getRuntime().maxMemory() : results.get(0).maxHeapBytes();
+    long max = results.isEmpty() ? Machine.maxHeap() : results.get(0).maxHeapBytes();
     s.append("- each fit: `FitJob.execute`, k = 10, standardize, no output; the first run of each is untimed and "
         + "records every allocation outside a TLAB (JFR); the peak heap in use covers all runs and counts garbage "
-        + "not yet collected (G1 lets the old generation fill before it marks), so near the maximum it says that "
-        + "the fit allocates fast, not that it keeps that much alive; the fit completing in this heap is the test; "
-        + "in local mode the driver is the executor, so this is also the peak executor heap\n");
+        + "not yet collected (the collector lets the old generation fill before it collects it), so near the maximum "
+        + "it says that the fit allocates fast, not that it keeps that much alive; the fit completing in this heap is "
+        + "the test; in local mode the driver is the executor, so this is also the peak executor heap\n");
     s.append("- read floor: Spark's columnar batches of the same features summed column by column "
         + "(`Floors.readFloor`, as the main section's read-floor case), in the splits the plan chose for the fit, "
         + "one untimed warm-up, then timed in turn with the fit (fit 1, floor 1, fit 2, ...); where the plan's "
