@@ -14,7 +14,6 @@ import org.apache.spark.sql.Dataset;
 import org.apache.spark.sql.Row;
 import org.apache.spark.sql.RuntimeConfig;
 import org.apache.spark.sql.SparkSession;
-import org.apache.spark.sql.functions;
 import org.apache.spark.sql.catalyst.expressions.Attribute;
 import org.apache.spark.sql.catalyst.expressions.NamedExpression;
 import org.apache.spark.sql.catalyst.plans.logical.LogicalPlan;
@@ -29,6 +28,7 @@ import org.apache.spark.sql.execution.WholeStageCodegenExec;
 import org.apache.spark.sql.execution.adaptive.AdaptiveSparkPlanExec;
 import org.apache.spark.sql.execution.columnar.InMemoryTableScanExec;
 import org.apache.spark.sql.execution.datasources.v2.BatchScanExec;
+import org.apache.spark.sql.functions;
 import org.apache.spark.sql.types.DataType;
 import org.apache.spark.sql.vectorized.ColumnarBatch;
 import scala.collection.JavaConverters;
@@ -96,7 +96,7 @@ public final class ColumnarScan {
    * The columnar scan under the selection of {@code columns} from {@code table}: {@link #of}({@code table.select}) of
    * the columns, planned without making that selection a Dataset. Spark builds a Dataset's row encoder at once, with
    * a serializer and a deserializer expression per column, and resolves a selection's columns by name: at 20,000
-   * columns that took 1.5-1.8 s (warm) of every pass's planning, for a plan the reader never runs row by row. Here the
+   * columns that took 1.5-1.8 s (warm) of opening a fit's input, for a plan the reader never runs row by row. Here the
    * table's analysed columns are projected directly. A column that is not one of the table's columns by its exact
    * name, or whose name the table holds twice in any case, takes {@code table.select} as before.
    */

@@ -69,10 +69,14 @@ public final class FeatureInput {
     }
   }
 
-  /** Frees what {@link #keepInMemory} kept; passes read the input again. */
+  /**
+   * Frees what {@link #keepInMemory} kept, and waits until the executors have dropped it, so that the next job in
+   * the same session finds the storage memory free when it decides whether to keep its own; passes read the input
+   * again.
+   */
   public void release() {
     if (kept != null) {
-      kept.unpersist(false);
+      kept.unpersist(true);
       kept = null;
     }
   }
