@@ -2,6 +2,8 @@ package io.eigenmill.bench;
 
 import java.io.IOException;
 import java.io.UncheckedIOException;
+import java.lang.management.GarbageCollectorMXBean;
+import java.lang.management.ManagementFactory;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
@@ -139,11 +141,11 @@ final class Report {
     lines.add("- date: " + ZonedDateTime.now(ZoneOffset.UTC).format(DateTimeFormatter.ofPattern(
         "yyyy-MM-dd HH:mm 'UTC'", Locale.ROOT)));
     lines.add("- machine: " + machine.describeHardware());
+    String pages = heapPages(ManagementFactory.getRuntimeMXBean().getInputArguments(), kernelHugePages());
+    String gc = collector(ManagementFactory.getGarbageCollectorMXBeans().stream()
+        .map(GarbageCollectorMXBean::getName).toList());
     lines.add("- Java: " + machine.java() + "; JVM heap (-Xmx) " + bytes(machine.maxHeapBytes())
-        + "; heap pages: " + heapPages(java.lang.management.ManagementFactory.getRuntimeMXBean()
-        .getInputArguments(), kernelHugePages()) + "; collector: " + collector(
-        java.lang.management.ManagementFactory.getGarbageCollectorMXBeans().stream()
-            .map(java.lang.management.GarbageCollectorMXBean::getName).toList()) + "; Spark " + io.eigenmill.Version.spark() + " (Scala "
+        + "; heap pages: " + pages + "; collector: " + gc + "; Spark " + io.eigenmill.Version.spark() + " (Scala "
         + io.eigenmill.Version.scala() + ") local[" + options.cores() + "]");
     lines.add("- BLAS/LAPACK: " + machine.blas());
     lines.add("- load average (1, 5, 15 min) at start: " + loadBefore + "; at end: " + loadAfter);
