@@ -140,6 +140,58 @@ class MomentsTest {
     }
   }
 
+  /**
+   * Summaries fed in turn share their thread's Gram of a shifted block (up to {@link Moments#SHARED_GRAM_ORDER}
+   * columns; a summary of more keeps its own): fed block by block in turn on one thread, or at once on two threads,
+   * each must hold the bits it holds when fed alone. The reference is the same computation without sharing, so the
+   * check is exact; the sums themselves are checked against Commons Math above.
+   */
+  @Test
+  void summariesFedInTurnOrOnTwoThreadsEqualEachFedAloneBitForBit() throws Exception {
+    for (int d : new int[] {D, Moments.SHARED_GRAM_ORDER}) {
+      int n = 600;
+      int[] sizes = {100, 100, 100, 100, 100, 100};
+      double[][] xs = {data(n, d, 21), data(n, d, 22)};
+      Moments[] alone = {Moments.empty(d, true), Moments.empty(d, true)};
+      for (int s = 0; s < 2; s++) {
+        MathFixtures.feed(xs[s], n, d, sizes, 0, shifted(alone[s]));
+      }
+      // in turn on this thread: block 1 of the first, block 1 of the second, block 2 of the first, ...
+      Moments[] turns = {Moments.empty(d, true), Moments.empty(d, true)};
+      for (int b = 0; b < sizes.length; b++) {
+        for (int s = 0; s < 2; s++) {
+          double[] block = MathFixtures.block(xs[s], n, d, 100 * b, 100, 100);
+          shifted(turns[s]).add(block, 100, 100);
+        }
+      }
+      // on two threads at once, in blocks of 3 rows: 200 calls each, so that the calls of the two overlap
+      int[] small = new int[200];
+      java.util.Arrays.fill(small, 3);
+      Moments[] smallAlone = {Moments.empty(d, true), Moments.empty(d, true)};
+      for (int s = 0; s < 2; s++) {
+        MathFixtures.feed(xs[s], n, d, small, 0, shifted(smallAlone[s]));
+      }
+      Moments[] threads = {Moments.empty(d, true), Moments.empty(d, true)};
+      Thread[] workers = new Thread[2];
+      for (int s = 0; s < 2; s++) {
+        int which = s;
+        workers[s] = new Thread(() -> MathFixtures.feed(xs[which], n, d, small, 0, shifted(threads[which])));
+        workers[s].start();
+      }
+      for (Thread w : workers) {
+        w.join();
+      }
+      for (int s = 0; s < 2; s++) {
+        assertArrayEquals(alone[s].covariance(), turns[s].covariance(), 0.0, "d = " + d + ", summary " + s
+            + " fed in turn");
+        assertArrayEquals(alone[s].mean(), turns[s].mean(), 0.0, "d = " + d + ", mean " + s + " fed in turn");
+        assertArrayEquals(smallAlone[s].covariance(), threads[s].covariance(), 0.0, "d = " + d + ", summary " + s
+            + " fed on its own thread");
+      }
+      assertTrue(alone[0].covariance()[0] != alone[1].covariance()[0], "the two tables differ");
+    }
+  }
+
   @Test
   void theOriginOfferedIsTheLastBlocksMeanAndStaysAsGiven() {
     double[] x = data(N, D, 14);
