@@ -141,10 +141,10 @@ class MomentsTest {
   }
 
   /**
-   * Summaries fed in turn share their thread's Gram of a shifted block (up to {@link Moments#SHARED_GRAM_ORDER}
-   * columns; a summary of more keeps its own): fed block by block in turn on one thread, or at once on two threads,
-   * each must hold the bits it holds when fed alone. The reference is the same computation without sharing, so the
-   * check is exact; the sums themselves are checked against Commons Math above.
+   * Summaries share their thread's Gram of a shifted block while it has at most {@link Moments#SHARED_GRAM_ORDER}
+   * columns (d + 1: here d = D shares, d = 512 keeps its own): fed block by block in turn on one thread, or at once on
+   * two threads, each must hold the bits it holds when fed alone. The reference is the same computation fed alone, so
+   * the check is exact; the sums themselves are checked against Commons Math above.
    */
   @Test
   void summariesFedInTurnOrOnTwoThreadsEqualEachFedAloneBitForBit() throws Exception {
